@@ -1,0 +1,54 @@
+"""derive: exact closed-form solutions of x' = A x + f(t), every step shown.
+
+>>> import derive
+>>> sol = derive.solve([[0, 1], [-2, -3]], x0=[1, 0])
+>>> sol.x.T
+Matrix([[2*exp(-t) - exp(-2*t), -2*exp(-t) + 2*exp(-2*t)]])
+
+The public API is what ``__all__`` lists; everything else is internal.
+"""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"
+
+from .errors import (  # noqa: E402
+    CaseFileError,
+    DeriveError,
+    ExpressionError,
+    InputError,
+    LimitError,
+    OutputError,
+    TimeLimitError,
+    UnsupportedError,
+    VerificationError,
+)
+from .model import Case, Parameter, SheetMeta, Solution, System, Verification  # noqa: E402
+from .pipeline import solve, solve_case, solve_system  # noqa: E402
+from .casefile import load_case, loads_case  # noqa: E402
+from .render import render  # noqa: E402
+
+__all__ = [
+    "__version__",
+    "solve",
+    "solve_case",
+    "solve_system",
+    "load_case",
+    "loads_case",
+    "render",
+    "Solution",
+    "System",
+    "Case",
+    "Parameter",
+    "SheetMeta",
+    "Verification",
+    "DeriveError",
+    "InputError",
+    "ExpressionError",
+    "CaseFileError",
+    "LimitError",
+    "UnsupportedError",
+    "VerificationError",
+    "TimeLimitError",
+    "OutputError",
+]

@@ -1,0 +1,7 @@
+"""python -m derive"""
+
+import sys
+
+from .cli import main
+
+sys.exit(main())

@@ -1,0 +1,614 @@
+"""TOML case files -> :class:`derive.model.Case`.
+
+A case file has four tables: ``[sheet]`` (what the calculation sheet's
+header carries), ``[system]`` (the matrix form or the equations), an optional
+``[initial]`` and one ``[parameters.NAME]`` table per symbolic parameter.  The
+commented template in ``derive/data/template.toml`` shows every key.
+
+Every check names the file and the TOML key, what was found and what was
+expected; an unknown key comes with the nearest valid one.  Expression strings
+are read by :func:`derive.parsing.parse_expression` only.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import hashlib
+import os
+import re
+import tomllib
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import sympy as sp
+
+from .equations import parse_equations, split_equation
+from .errors import CaseFileError, LimitError
+from .model import Case, Parameter, SheetMeta, System
+from .parsing import (
+    CONSTANTS,
+    DEFAULT_LIMITS,
+    Limits,
+    expression_names,
+    name_problem,
+    nearest,
+    parse_expression,
+)
+
+__all__ = [
+    "load_case",
+    "loads_case",
+    "case_name",
+    "ASSUMPTIONS",
+    "TOP_KEYS",
+    "SHEET_KEYS",
+    "SYSTEM_KEYS",
+    "INITIAL_KEYS",
+    "PARAMETER_KEYS",
+]
+
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters")
+_SHEET_TEXT_KEYS: tuple[str, ...] = (
+    "title",
+    "project",
+    "calc_number",
+    "revision",
+    "subject",
+    "prepared_by",
+    "checked_by",
+    "date",
+    "purpose",
+    "notes",
+)
+_SHEET_LIST_KEYS: tuple[str, ...] = ("assumptions", "references")
+SHEET_KEYS: tuple[str, ...] = _SHEET_TEXT_KEYS + _SHEET_LIST_KEYS + ("states",)
+SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations")
+INITIAL_KEYS: tuple[str, ...] = ("t0", "values")
+PARAMETER_KEYS: tuple[str, ...] = ("assume", "value", "unit", "description")
+
+#: Assumption names a parameter may carry; each becomes a sympy assumption.
+ASSUMPTIONS: tuple[str, ...] = ("positive", "negative", "nonnegative", "nonpositive", "nonzero", "real")
+
+# Pairs that cannot hold together; checked by name so the message can say so
+# plainly instead of quoting sympy's fact table.
+_CONFLICTS: tuple[tuple[str, str], ...] = (
+    ("positive", "negative"),
+    ("positive", "nonpositive"),
+    ("negative", "nonnegative"),
+)
+
+_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
+_CASE_NAME_BAD = re.compile(r"[^A-Za-z0-9_.-]")
+
+
+def _type_name(value: object) -> str:
+    names = {
+        str: "a string",
+        int: "an integer",
+        float: "a number",
+        bool: "a boolean",
+        list: "a list",
+        dict: "a table",
+        _dt.date: "a date",
+        _dt.datetime: "a date-time",
+        _dt.time: "a time",
+    }
+    return names.get(type(value), type(value).__name__)
+
+
+def _show(value: object) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+@dataclass(frozen=True)
+class _Ctx:
+    """Where errors point: the file, and the limits in force."""
+
+    file: str | None
+    limits: Limits
+
+    def error(self, key: str | None, message: str, *, hint: str | None = None) -> CaseFileError:
+        return CaseFileError(message, file=self.file, key=key, hint=hint)
+
+    def limit(self, key: str | None, message: str) -> LimitError:
+        return LimitError(message, file=self.file, key=key)
+
+    # -- shape checks --------------------------------------------------------
+
+    def table(self, value: object, key: str) -> Mapping[str, Any]:
+        if not isinstance(value, dict):
+            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a table")
+        return value
+
+    def keys(self, table: Mapping[str, Any], allowed: Sequence[str], prefix: str) -> None:
+        for k in table:
+            if k not in allowed:
+                where = f"{prefix}.{k}" if prefix else k
+                guess = nearest(k, allowed)
+                place = f"[{prefix}]" if prefix else "the top level"
+                raise self.error(
+                    where,
+                    f"unknown key {k!r} in {place}; expected one of: {', '.join(allowed)}",
+                    hint=f"did you mean {guess!r}?" if guess else None,
+                )
+
+    def text(self, value: object, key: str) -> str:
+        if isinstance(value, str):
+            return value
+        raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a string")
+
+    def texts(self, value: object, key: str) -> tuple[str, ...]:
+        if not isinstance(value, list):
+            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings")
+        return tuple(self.text(v, f"{key}[{i}]") for i, v in enumerate(value))
+
+    def seq(self, value: object, key: str, what: str) -> list[Any]:
+        if not isinstance(value, list):
+            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected {what}")
+        return value
+
+    def scalar(self, value: object, key: str) -> str | int | float:
+        """A number or an expression string, before it is parsed."""
+        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+            raise self.error(
+                key,
+                f"{key} is {_type_name(value)} ({_show(value)}); expected a number or an expression string",
+            )
+        return value
+
+    def name(self, value: object, key: str, role: str) -> str:
+        text = self.text(value, key)
+        problem = name_problem(text)
+        if problem is not None:
+            raise self.error(key, f"the {role} name {problem}")
+        return text
+
+    def expr(
+        self, value: object, key: str, symbols: Mapping[str, sp.Symbol], notices: list[str]
+    ) -> sp.Expr:
+        raw = self.scalar(value, key)
+        expr, found = parse_expression(raw, symbols=symbols, key=key, file=self.file, limits=self.limits)
+        notices.extend(found)
+        return expr
+
+
+# ---------------------------------------------------------------------------
+# Pieces of the file
+# ---------------------------------------------------------------------------
+
+
+def _sheet(ctx: _Ctx, data: Mapping[str, Any]) -> tuple[dict[str, Any], Mapping[str, Any]]:
+    """Sheet fields for SheetMeta, and the raw [sheet.states] table (checked later)."""
+    sheet = ctx.table(data, "sheet")
+    ctx.keys(sheet, SHEET_KEYS, "sheet")
+    fields: dict[str, Any] = {}
+    for k in _SHEET_TEXT_KEYS:
+        if k not in sheet:
+            continue
+        value = sheet[k]
+        if k == "date" and isinstance(value, (_dt.date, _dt.datetime)):
+            # An unquoted TOML date is what most people type; keep its ISO text.
+            value = value.isoformat()
+        fields[k] = ctx.text(value, f"sheet.{k}")
+    for k in _SHEET_LIST_KEYS:
+        if k in sheet:
+            fields[k] = ctx.texts(sheet[k], f"sheet.{k}")
+    states = ctx.table(sheet.get("states", {}), "sheet.states")
+    for k, v in states.items():
+        ctx.text(v, f"sheet.states.{k}")
+    return fields, states
+
+
+def _assumptions(ctx: _Ctx, value: object, key: str) -> tuple[str, ...]:
+    names = ctx.texts(value, key)
+    for i, a in enumerate(names):
+        if a not in ASSUMPTIONS:
+            guess = nearest(a, ASSUMPTIONS)
+            raise ctx.error(
+                f"{key}[{i}]",
+                f"unknown assumption {a!r}; expected any of: {', '.join(ASSUMPTIONS)}",
+                hint=f"did you mean {guess!r}?" if guess else None,
+            )
+    for first, second in _CONFLICTS:
+        if first in names and second in names:
+            raise ctx.error(key, f"inconsistent assumptions: {first!r} and {second!r} cannot both hold")
+    if {"nonnegative", "nonpositive", "nonzero"} <= set(names):
+        raise ctx.error(
+            key, "inconsistent assumptions: 'nonnegative', 'nonpositive' and 'nonzero' cannot all hold"
+        )
+    return tuple(dict.fromkeys(names))
+
+
+_CHECKS: Mapping[str, str] = {
+    "positive": "is_positive",
+    "negative": "is_negative",
+    "nonnegative": "is_nonnegative",
+    "nonpositive": "is_nonpositive",
+    "nonzero": "is_nonzero",
+    "real": "is_real",
+}
+
+
+def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Parameter:
+    key = f"parameters.{name}"
+    problem = name_problem(name)
+    if problem is not None:
+        raise ctx.error(key, f"the parameter name {problem}")
+    spec = ctx.table(spec_raw, key)
+    ctx.keys(spec, PARAMETER_KEYS, key)
+    assume = _assumptions(ctx, spec["assume"], f"{key}.assume") if "assume" in spec else ()
+    flags = {a: True for a in assume if a != "real"}
+    try:
+        symbol = sp.Symbol(name, real=True, **flags)
+    except Exception as err:  # sympy's InconsistentAssumptions and relatives
+        raise ctx.error(f"{key}.assume", f"inconsistent assumptions {list(assume)}: {type(err).__name__}") from None
+    value: sp.Expr | None = None
+    if "value" in spec:
+        vkey = f"{key}.value"
+        raw = ctx.scalar(spec["value"], vkey)
+        named = [n for n in expression_names(raw) if n not in CONSTANTS]
+        if named:
+            raise ctx.error(
+                vkey,
+                f"{vkey} must be an exact number such as 3, 0.25 or \"1/3\"; found the name {named[0]!r} in {_show(raw)}",
+            )
+        value = ctx.expr(raw, vkey, {}, notices)
+        for a in assume:
+            holds = getattr(value, _CHECKS[a])
+            if holds is not True:
+                verdict = "violates" if holds is False else "cannot be shown to satisfy"
+                raise ctx.error(vkey, f"{vkey} = {value} {verdict} the assumption {a!r} of {key}.assume")
+    unit = ctx.text(spec["unit"], f"{key}.unit") if "unit" in spec else ""
+    description = ctx.text(spec["description"], f"{key}.description") if "description" in spec else ""
+    return Parameter(symbol=symbol, value=value, unit=unit, description=description)
+
+
+def _matrix(
+    ctx: _Ctx, raw: object, symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
+) -> sp.ImmutableMatrix:
+    key = "system.matrix"
+    rows = ctx.seq(raw, key, "a list of rows, e.g. [[\"-1\", \"1/2\"], [0, \"-k\"]]")
+    n = len(rows)
+    if n == 0:
+        raise ctx.error(key, "system.matrix is empty; expected a square n x n matrix with n >= 1")
+    if n > ctx.limits.max_dimension:
+        raise ctx.limit(key, f"system.matrix has {n} rows, more than the limit of {ctx.limits.max_dimension}")
+    for i, row in enumerate(rows):
+        ctx.seq(row, f"{key}[{i}]", f"a row of {n} entries")
+        if len(row) != n:
+            raise ctx.error(
+                f"{key}[{i}]",
+                f"system.matrix has {n} rows but row {key}[{i}] has {len(row)} entries; "
+                "expected a square n x n matrix",
+            )
+    entries: list[list[sp.Expr]] = []
+    for i, row in enumerate(rows):
+        out: list[sp.Expr] = []
+        for j, value in enumerate(row):
+            ekey = f"{key}[{i}][{j}]"
+            entry = ctx.expr(value, ekey, symbols, notices)
+            if t in entry.free_symbols:
+                raise ctx.error(
+                    ekey,
+                    f"A must be constant: {ekey} = {entry} depends on {t.name}: not a constant-coefficient system",
+                    hint="time-dependent terms belong in system.forcing",
+                )
+            out.append(entry)
+        entries.append(out)
+    return sp.ImmutableMatrix(entries)
+
+
+def _state_names(ctx: _Ctx, raw: object, n: int, t: sp.Symbol) -> tuple[str, ...]:
+    key = "system.states"
+    names = ctx.seq(raw, key, f"a list of {n} state names")
+    if len(names) != n:
+        raise ctx.error(key, f"system.matrix is {n}x{n} but system.states has {len(names)} entries")
+    seen: dict[str, int] = {}
+    for i, v in enumerate(names):
+        name = ctx.name(v, f"{key}[{i}]", "state")
+        if name == t.name:
+            raise ctx.error(f"{key}[{i}]", f"the state {name!r} has the name of the independent variable")
+        if name in seen:
+            raise ctx.error(f"{key}[{i}]", f"duplicate state {name!r}: also {key}[{seen[name]}]")
+        seen[name] = i
+    return tuple(seen)
+
+
+def _initial(
+    ctx: _Ctx,
+    raw: object,
+    *,
+    states: tuple[sp.Symbol, ...],
+    symbols: Mapping[str, sp.Symbol],
+    t: sp.Symbol,
+    shape: str,
+    notices: list[str],
+) -> tuple[sp.ImmutableMatrix, sp.Expr]:
+    initial = ctx.table(raw, "initial")
+    ctx.keys(initial, INITIAL_KEYS, "initial")
+    if "values" not in initial:
+        raise ctx.error(
+            "initial.values",
+            "[initial] has no values; expected initial.values, one per state "
+            f"({', '.join(s.name for s in states)})",
+        )
+    t0: sp.Expr = sp.Integer(0)
+    if "t0" in initial:
+        raw_t0 = initial["t0"]
+        if isinstance(raw_t0, bool) or not isinstance(raw_t0, (str, int, float)):
+            raise ctx.error("initial.t0", f"initial.t0 is {_type_name(raw_t0)} ({_show(raw_t0)}); expected a number")
+        named = [n for n in expression_names(raw_t0) if n not in CONSTANTS]
+        if named:
+            raise ctx.error(
+                "initial.t0",
+                f"initial.t0 must be a number such as 0, 2.5 or \"1/2\"; found the name {named[0]!r} in {_show(raw_t0)}",
+            )
+        t0 = ctx.expr(raw_t0, "initial.t0", {}, notices)
+    values = initial["values"]
+    n = len(states)
+    key = "initial.values"
+    if isinstance(values, dict):
+        names = [s.name for s in states]
+        for k in values:
+            if k not in names:
+                guess = nearest(k, names)
+                raise ctx.error(
+                    f"{key}.{k}",
+                    f"{k!r} is not a state; the states are: {', '.join(names)}",
+                    hint=f"did you mean {guess!r}?" if guess else None,
+                )
+        missing = [s for s in names if s not in values]
+        if missing:
+            raise ctx.error(key, f"initial.values has no value for {', '.join(missing)}; expected one per state")
+        items = [(f"{key}.{s}", values[s]) for s in names]
+    elif isinstance(values, list):
+        if len(values) != n:
+            raise ctx.error(key, f"{shape} but initial.values has {len(values)} entries")
+        items = [(f"{key}[{i}]", v) for i, v in enumerate(values)]
+    else:
+        raise ctx.error(
+            key,
+            f"initial.values is {_type_name(values)} ({_show(values)}); "
+            "expected a list in state order or a table {state = value}",
+        )
+    x0: list[sp.Expr] = []
+    for ikey, v in items:
+        value = ctx.expr(v, ikey, symbols, notices)
+        if t in value.free_symbols:
+            raise ctx.error(ikey, f"{ikey} = {value} depends on {t.name}; an initial value must be a constant")
+        x0.append(value)
+    return sp.ImmutableMatrix(x0), t0
+
+
+# ---------------------------------------------------------------------------
+# The whole file
+# ---------------------------------------------------------------------------
+
+
+def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None, digest: str) -> Case:
+    ctx.keys(data, TOP_KEYS, "")
+    notices: list[str] = []
+    sheet_fields, sheet_states = _sheet(ctx, data.get("sheet", {}))
+
+    if "system" not in data:
+        raise ctx.error("system", "the case has no [system] table; expected one with matrix or equations")
+    system = ctx.table(data["system"], "system")
+    ctx.keys(system, SYSTEM_KEYS, "system")
+    t_name = ctx.name(system.get("t", "t"), "system.t", "independent variable")
+    t = sp.Symbol(t_name, real=True)
+
+    params_raw = ctx.table(data.get("parameters", {}), "parameters")
+    params: list[Parameter] = []
+    for pname, spec in params_raw.items():
+        if pname == t_name:
+            raise ctx.error(
+                f"parameters.{pname}", f"the parameter {pname!r} has the name of the independent variable (system.t)"
+            )
+        params.append(_parameter(ctx, pname, spec, notices))
+    symbols: dict[str, sp.Symbol] = {p.name: p.symbol for p in params}
+    with_t = {**symbols, t_name: t}
+
+    has_matrix, has_equations = "matrix" in system, "equations" in system
+    if has_matrix and has_equations:
+        raise ctx.error(
+            "system", "[system] has both matrix and equations; expected one of them (matrix form or equations)"
+        )
+    if not (has_matrix or has_equations):
+        raise ctx.error("system", "[system] has neither matrix nor equations; expected one of them")
+
+    equations: tuple[str, ...] = ()
+    if has_matrix:
+        A = _matrix(ctx, system["matrix"], with_t, t, notices)
+        n = A.shape[0]
+        names = (
+            _state_names(ctx, system["states"], n, t)
+            if "states" in system
+            else tuple(f"x{i + 1}" for i in range(n))
+        )
+        shape = f"system.matrix is {n}x{n}"
+        for i, s in enumerate(names):
+            if s in symbols:
+                where = f"system.states[{i}]" if "states" in system else f"parameters.{s}"
+                raise ctx.error(where, f"the parameter {s!r} has the same name as a state")
+        states = tuple(sp.Symbol(s, real=True) for s in names)
+        if "forcing" in system:
+            fkey = "system.forcing"
+            items = ctx.seq(system["forcing"], fkey, f"a list of {n} entries")
+            if len(items) != n:
+                raise ctx.error(fkey, f"{shape} but system.forcing has {len(items)} entries")
+            f = sp.ImmutableMatrix([ctx.expr(v, f"{fkey}[{i}]", with_t, notices) for i, v in enumerate(items)])
+        else:
+            f = sp.zeros(n, 1).as_immutable()
+    else:
+        for extra in ("states", "forcing"):
+            if extra in system:
+                raise ctx.error(
+                    f"system.{extra}",
+                    f"system.{extra} is only used with system.matrix; with system.equations "
+                    + ("the states are the names on the left sides" if extra == "states" else "f(t) is read off the right sides"),
+                )
+        equations = ctx.texts(system["equations"], "system.equations")
+        if not equations:
+            raise ctx.error("system.equations", "system.equations is empty; expected one equation per state")
+        for i, line in enumerate(equations):
+            parts = split_equation(line, t_name=t_name)
+            if parts is not None and parts[0] in symbols:
+                raise ctx.error(
+                    f"system.equations[{i}]", f"the parameter {parts[0]!r} has the same name as a state"
+                )
+        states, A, f, found = parse_equations(
+            equations, symbols=symbols, t=t, key="system.equations", file=ctx.file, limits=ctx.limits
+        )
+        notices.extend(found)
+        n = len(states)
+        shape = f"system.equations has {n} equation{'s' if n != 1 else ''}"
+
+    x0: sp.ImmutableMatrix | None = None
+    t0: sp.Expr = sp.Integer(0)
+    if "initial" in data:
+        x0, t0 = _initial(
+            ctx, data["initial"], states=states, symbols=symbols | {t_name: t}, t=t, shape=shape, notices=notices
+        )
+
+    state_names = [s.name for s in states]
+    for k in sheet_states:
+        if k not in state_names:
+            guess = nearest(k, state_names)
+            raise ctx.error(
+                f"sheet.states.{k}",
+                f"{k!r} is not a state; the states are: {', '.join(state_names)}",
+                hint=f"did you mean {guess!r}?" if guess else None,
+            )
+    descriptions = tuple((s, sheet_states[s]) for s in state_names if s in sheet_states)
+
+    used: set[sp.Basic] = set(A.free_symbols) | set(f.free_symbols)
+    if x0 is not None:
+        used |= x0.free_symbols
+    for p in params:
+        if p.symbol not in used:
+            notices.append(f"parameters.{p.name}: declared but not used in the system")
+
+    meta = SheetMeta(**sheet_fields, state_descriptions=descriptions)
+    sys_ = System(
+        A=sp.ImmutableMatrix(A),
+        f=sp.ImmutableMatrix(f),
+        t=t,
+        states=states,
+        x0=x0,
+        t0=t0,
+        params=tuple(params),
+        equations=equations,
+    )
+    return Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices))
+
+
+def case_name(raw: str, *, file: str | None = None) -> str:
+    """A safe case name: only ``[A-Za-z0-9_.-]``, no leading dot, never a path.
+
+    >>> case_name("two tanks (rev B)")
+    'two_tanks__rev_B_'
+    """
+    if not isinstance(raw, str) or "/" in raw or "\\" in raw or "\x00" in raw or raw in (".", ".."):
+        raise CaseFileError(
+            f"the case name {raw!r} would leave its folder; expected a plain name without / or \\",
+            file=file,
+            key="name",
+        )
+    safe = _CASE_NAME_BAD.sub("_", raw).lstrip(".")
+    if not safe:
+        raise CaseFileError(
+            f"the case name {raw!r} has no usable characters; expected letters, digits, _ . or -",
+            file=file,
+            key="name",
+        )
+    return safe[:120]
+
+
+def _decode_toml(text: str, ctx: _Ctx) -> Mapping[str, Any]:
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        message = str(err)
+        line = column = None
+        m = _TOML_POSITION.search(message)
+        if m is not None:
+            line, column = int(m.group(1)), int(m.group(2))
+            message = message[: m.start()]
+        elif message.endswith("(at end of document)"):
+            line = text.count("\n") + 1
+            message = message[: -len("(at end of document)")].rstrip() + " at the end of the file"
+        raise CaseFileError(
+            f"the file is not valid TOML: {message}",
+            file=ctx.file,
+            line=line,
+            column=column,
+            # The usual cause of "Invalid value" is an expression left unquoted.
+            hint='expressions need quotes, e.g. matrix = [["-k", 1], [0, -2]]'
+            if message.startswith("Invalid value")
+            else None,
+        ) from None
+    except RecursionError:
+        raise LimitError(
+            "the TOML is nested too deeply to read (arrays or tables inside each other)", file=ctx.file
+        ) from None
+
+
+def loads_case(
+    text: str,
+    *,
+    name: str = "case",
+    source: str | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+) -> Case:
+    """Read a case from TOML text.
+
+    >>> case = loads_case('[system]\\nmatrix = [[-1, 0], [0, "-1/2"]]')
+    >>> case.system.A
+    Matrix([
+    [-1,    0],
+    [ 0, -1/2]])
+    """
+    ctx = _Ctx(source, limits)
+    if not isinstance(text, str):
+        raise CaseFileError(f"found {type(text).__name__}; expected the TOML text as a string", file=source)
+    if len(text.encode("utf-8", "surrogatepass")) > limits.max_file_bytes:
+        raise LimitError(f"the case text is larger than the limit of {limits.max_file_bytes} bytes", file=source)
+    safe = case_name(name, file=source)
+    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    data = _decode_toml(text, ctx)
+    return _build(data, ctx=ctx, name=safe, source=source, digest=digest)
+
+
+def load_case(path: str | os.PathLike[str], *, limits: Limits = DEFAULT_LIMITS) -> Case:
+    """Read a case file; the case is named after the file stem.
+
+    >>> case = load_case("examples/two_tanks.toml")  # doctest: +SKIP
+    >>> case.name, len(case.source_hash)              # doctest: +SKIP
+    ('two_tanks', 64)
+    """
+    p = Path(path)
+    where = str(path)
+    try:
+        size = p.stat().st_size
+        if size > limits.max_file_bytes:
+            raise LimitError(
+                f"the file has {size} bytes, more than the limit of {limits.max_file_bytes}", file=where
+            )
+        raw = p.read_bytes()
+    except OSError as err:
+        raise CaseFileError(f"cannot read the case file: {err.strerror or err}", file=where) from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as err:
+        line = raw[: err.start].count(b"\n") + 1
+        raise CaseFileError(
+            f"the file is not UTF-8 text (byte {err.start} cannot be decoded)", file=where, line=line
+        ) from None
+    ctx = _Ctx(where, limits)
+    # A backslash is legal in a POSIX file name but reads as a separator elsewhere.
+    safe = case_name(p.stem.replace("\\", "_"), file=where)
+    data = _decode_toml(text, ctx)
+    return _build(data, ctx=ctx, name=safe, source=where, digest=hashlib.sha256(raw).hexdigest())

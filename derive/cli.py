@@ -1,0 +1,281 @@
+"""The command line.  The one place where errors become exit codes.
+
+Exit codes: 0 solved and verified; 1 verification failed; 2 bad input;
+3 time limit; 4 an output could not be written (e.g. TeX failed);
+5 internal error (a bug: please report it with the case file).
+"""
+
+from __future__ import annotations
+
+import sys
+from importlib import resources
+from pathlib import Path
+from typing import Callable, Sequence
+
+import click
+
+from . import __version__
+from .errors import (
+    EXIT_INPUT,
+    EXIT_OK,
+    EXIT_VERIFICATION,
+    DeriveError,
+    InputError,
+    VerificationError,
+)
+from .limits import DEFAULT_TIMEOUT, time_limit
+
+EXIT_INTERNAL = 5
+
+EXIT_CODES_HELP = (
+    "Exit codes: 0 solved and verified; 1 verification failed (the sheet is written and "
+    "marked as failed); 2 bad input; 3 time limit reached; 4 an output could not be "
+    "written (TeX failed); 5 internal error."
+)
+
+FORMATS = ("latex", "markdown", "text", "json")
+
+
+def _fail(err: DeriveError) -> int:
+    click.echo(f"derive: error: {err}", err=True)
+    return err.exit_code
+
+
+def _guard(fn: Callable[[], int]) -> int:
+    """Run a command body; turn every error into a message and an exit code."""
+    try:
+        return fn()
+    except DeriveError as err:
+        return _fail(err)
+    except KeyboardInterrupt:
+        click.echo("derive: interrupted; outputs already written are complete", err=True)
+        return 130
+    except RecursionError:
+        return _fail(InputError("the input is nested too deeply to process"))
+    except Exception as exc:  # a bug, not the user's fault: say so, no traceback
+        click.echo(
+            f"derive: internal error: {type(exc).__name__}: {exc}\n"
+            "  this is a bug in derive; please report it together with the case file",
+            err=True,
+        )
+        return EXIT_INTERNAL
+
+
+def _summary(sol) -> None:
+    import sympy as sp
+
+    names = [sp.sstr(s) for s in sol.system.states]
+    click.echo(f"eigenvalues: {', '.join(sp.sstr(e) for e in sol.eigenvalues)}")
+    if not sol.is_diagonalizable:
+        click.echo("A is not diagonalisable: the Jordan form is used")
+    for name, expr in zip(names, sol.x):
+        click.echo(f"  {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
+    v = sol.verification
+    status = "verified" if v.ok else "VERIFICATION FAILED"
+    parts = [f"residual: {'zero' if v.residual_zero else 'NOT zero'} ({v.residual_method})"]
+    if v.initial_ok is not None:
+        parts.append(f"x(t0) = x0: {'yes' if v.initial_ok else 'NO'}")
+    if v.numeric is not None:
+        parts.append(f"numeric gap {v.numeric.max_rel_gap:.1e}")
+    click.echo(f"{status}: " + "; ".join(parts))
+    for c in sol.conditions:
+        click.echo(f"  holds when {sp.sstr(c.expr)} {c.relation} ({c.reason})")
+    for note in sol.notices:
+        click.echo(f"note: {note}", err=True)
+
+
+def _solve_and_write(case, out_dir: Path, formats: Sequence[str], pdf: bool | None, timeout: float, stem: str | None) -> int:
+    from .output import write_outputs
+    from .pipeline import solve_case
+
+    code = EXIT_OK
+    with time_limit(timeout, what=f"case {case.name!r}"):
+        try:
+            sol = solve_case(case)
+        except VerificationError as err:
+            sol = getattr(err, "solution", None)
+            if sol is None:
+                raise
+            click.echo(f"derive: error: {err}", err=True)
+            code = EXIT_VERIFICATION
+    _summary(sol)
+    paths = write_outputs(sol, out_dir, stem=stem or case.name, formats=tuple(formats), pdf=pdf)
+    for p in paths:
+        click.echo(f"wrote {p}")
+    return code
+
+
+class _Group(click.Group):
+    def main(self, *args, **kwargs):  # type: ignore[override]
+        # click prints usage errors itself with exit code 2, which is our code for bad input
+        return super().main(*args, **kwargs)
+
+
+@click.group(cls=_Group, epilog=EXIT_CODES_HELP, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="derive")
+def cli() -> None:
+    """Exact closed-form solutions of x' = A x + f(t), every step shown and verified,
+    written as a calculation sheet (LaTeX and PDF)."""
+
+
+_format_option = click.option(
+    "--format",
+    "formats",
+    multiple=True,
+    type=click.Choice(FORMATS),
+    default=("latex",),
+    show_default=True,
+    help="Output format; repeat for several. LaTeX writes a standalone sheet and a body-only fragment.",
+)
+_pdf_option = click.option(
+    "--pdf/--no-pdf",
+    default=None,
+    help="Compile the sheet to PDF (default: when latexmk is on the PATH).",
+)
+_timeout_option = click.option(
+    "--timeout",
+    type=click.FloatRange(min=0),
+    default=DEFAULT_TIMEOUT,
+    show_default=True,
+    help="Seconds allowed for solving one case (0: no limit).",
+)
+_out_option = click.option(
+    "-o",
+    "--out",
+    "out_dir",
+    type=click.Path(file_okay=False, path_type=Path),
+    default=Path("out"),
+    show_default=True,
+    help="Output folder.",
+)
+
+
+@cli.command(epilog=EXIT_CODES_HELP)
+@click.argument("case_file", type=click.Path(dir_okay=False, path_type=Path))
+@_out_option
+@_format_option
+@_pdf_option
+@_timeout_option
+def solve(case_file: Path, out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: float) -> None:
+    """Solve CASE_FILE (TOML) and write its calculation sheet into the output folder."""
+
+    def body() -> int:
+        from .casefile import load_case
+
+        case = load_case(case_file)
+        return _solve_and_write(case, out_dir, formats, pdf, timeout, None)
+
+    sys.exit(_guard(body))
+
+
+@cli.command(epilog=EXIT_CODES_HELP)
+@_out_option
+@_format_option
+@_pdf_option
+@_timeout_option
+def demo(out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: float) -> None:
+    """Solve the built-in demo (a two-zone building warming up) and write its sheet."""
+
+    def body() -> int:
+        from .casefile import loads_case
+
+        text = resources.files("derive.data").joinpath("demo.toml").read_text(encoding="utf-8")
+        case = loads_case(text, name="demo", source="derive/data/demo.toml (built in)")
+        return _solve_and_write(case, out_dir, formats, pdf, timeout, "demo")
+
+    sys.exit(_guard(body))
+
+
+@cli.command(epilog=EXIT_CODES_HELP)
+@click.argument("name")
+@click.option("--force", is_flag=True, help="Replace an existing file of that name.")
+def new(name: str, force: bool) -> None:
+    """Write NAME.toml: a commented case-file template to fill in."""
+
+    def body() -> int:
+        from .casefile import case_name
+
+        stem = name[:-5] if name.endswith(".toml") else name
+        target = Path(stem + ".toml")
+        # the name may carry a folder, but the file name itself must be plain
+        case_name(target.stem)
+        if target.exists() and not force:
+            raise InputError(f"{target} exists already; pass --force to replace it", file=str(target))
+        text = resources.files("derive.data").joinpath("template.toml").read_text(encoding="utf-8")
+        from .output import atomic_write_text
+
+        atomic_write_text(target, text)
+        click.echo(f"wrote {target}: edit it, then run: derive solve {target}")
+        return EXIT_OK
+
+    sys.exit(_guard(body))
+
+
+# -- more commands below --
+
+
+@cli.command(
+    "check",
+    epilog="Exit codes: 0 every claimed item passes; 1 an item fails (the report names the first "
+    "wrong step); 2 bad input; 3 time limit reached; 4 the report could not be written; 5 internal error.",
+)
+@click.argument("case_file", type=click.Path(dir_okay=False, path_type=Path))
+@click.option(
+    "--claim",
+    "claim_file",
+    required=True,
+    type=click.Path(dir_okay=False, path_type=Path),
+    help="TOML file with the claimed steps: eigenvalues, eigenvectors, P, D, P_inv, x, constants.",
+)
+@_out_option
+@click.option(
+    "--format",
+    "formats",
+    multiple=True,
+    type=click.Choice(FORMATS),
+    default=("latex",),
+    show_default=True,
+    help="Report file format; repeat for several. The table is printed in any case.",
+)
+@_pdf_option
+@_timeout_option
+def check_command(
+    case_file: Path, claim_file: Path, out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: float
+) -> None:
+    """Check a hand derivation (CLAIM) of CASE_FILE item by item and write a check report."""
+
+    def body() -> int:
+        from dataclasses import replace
+
+        from .casefile import load_case
+        from .check import check, render_check, write_check_outputs
+        from .claimfile import read_claim
+
+        case = load_case(case_file)
+        claim = read_claim(claim_file, case=case)
+        with time_limit(timeout, what=f"the check of {claim_file}"):
+            report = check(**claim.kwargs)
+        report = replace(report, notices=tuple(dict.fromkeys(case.notices + claim.notices + report.notices)))
+        click.echo(render_check(report, "text", meta=case.meta), nl=False)
+        sources = ((str(case_file), case.source_hash), (str(claim_file), claim.source_hash))
+        paths = write_check_outputs(
+            report, out_dir, stem=f"{case.name}-check", formats=formats, pdf=pdf, meta=case.meta, sources=sources
+        )
+        for p in paths:
+            click.echo(f"wrote {p}")
+        return report.exit_code
+
+    sys.exit(_guard(body))
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``derive`` script."""
+    try:
+        cli.main(args=list(argv) if argv is not None else None, prog_name="derive", standalone_mode=True)
+    except SystemExit as exc:
+        return int(exc.code or 0)
+    return EXIT_OK
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

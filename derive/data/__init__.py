@@ -1,0 +1,1 @@
+"""Package data: demo case and the case-file template."""

@@ -1,0 +1,226 @@
+"""Equations as text: ``T1' = -(T1 - T2)/5 + q/2`` -> states, A and f.
+
+Each line is one first-order equation.  The left side names the state
+(``T1'`` or ``dT1/dt`` with the actual independent variable); the right side
+is read with :func:`derive.parsing.parse_expression`.  A is the Jacobian of
+the right sides with respect to the states, f the right sides with the states
+set to zero; the extraction is exact, and it is refused (with the reason) when
+the system is not linear or not constant-coefficient.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+
+import sympy as sp
+
+from .errors import ExpressionError, LimitError
+from .parsing import (
+    CONSTANTS,
+    DEFAULT_LIMITS,
+    FUNCTIONS,
+    Limits,
+    expression_names,
+    name_problem,
+    nearest,
+    parse_expression,
+)
+
+__all__ = ["parse_equations", "split_equation"]
+
+_PRIME_LHS = re.compile(r"\s*([A-Za-z_][A-Za-z0-9_]*)\s*'\s*\Z")
+_NAME = r"[A-Za-z_][A-Za-z0-9_]*"
+
+
+def _leibniz_lhs(t_name: str) -> re.Pattern[str]:
+    return re.compile(rf"\s*d\s*({_NAME})\s*/\s*d\s*{re.escape(t_name)}\s*\Z")
+
+
+def split_equation(line: str, *, t_name: str) -> tuple[str, str] | None:
+    """``"x' = rhs"`` or ``"dx/dt = rhs"`` -> ``("x", "rhs")``; ``None`` if the left side is no derivative.
+
+    >>> split_equation("dT1/dt = -T1", t_name="t")
+    ('T1', '-T1')
+    """
+    if line.count("=") != 1:
+        return None
+    lhs, rhs = line.split("=")
+    m = _PRIME_LHS.match(lhs) or _leibniz_lhs(t_name).match(lhs)
+    if m is None:
+        return None
+    return m.group(1), rhs.strip()
+
+
+def _derivative_on_right(rhs: str, states: Sequence[str], t_name: str) -> str | None:
+    """The first derivative written on a right side (``T2'`` or ``dT2/dt``), if any."""
+    m = re.search(rf"({_NAME})\s*'", rhs)
+    if m is not None and m.group(1) in states:
+        return m.group(0).replace(" ", "")
+    for m in re.finditer(rf"\bd\s*({_NAME})\s*/\s*d\s*{re.escape(t_name)}\b", rhs):
+        if m.group(1) in states:
+            return m.group(0).replace(" ", "")
+    return None
+
+
+def parse_equations(
+    lines: Sequence[str],
+    *,
+    symbols: Mapping[str, sp.Symbol],
+    t: sp.Symbol,
+    key: str = "system.equations",
+    file: str | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, tuple[str, ...]]:
+    """`T1' = -(T1 - T2)/5 + q/2` lines -> (states, A, f, notices).
+
+    ``symbols`` holds the declared parameters (and may hold state symbols to
+    reuse); ``t`` is the independent variable.  Keys in errors are
+    zero-based (``system.equations[1]`` is the second line).
+
+    >>> t, q = sp.symbols("t q", real=True)
+    >>> states, A, f, _ = parse_equations(["x' = -x + q", "y' = x - 2y"], symbols={"q": q}, t=t)
+    >>> A, f
+    (Matrix([
+    [-1,  0],
+    [ 1, -2]]), Matrix([
+    [q],
+    [0]]))
+    """
+    if isinstance(lines, str) or not isinstance(lines, Sequence):
+        raise ExpressionError(
+            f"found {type(lines).__name__}; expected a list of equation strings such as [\"x' = -x\"]",
+            file=file,
+            key=key,
+        )
+    if not lines:
+        raise ExpressionError("the list of equations is empty; expected one equation per state", file=file, key=key)
+    if len(lines) > limits.max_dimension:
+        raise LimitError(
+            f"{len(lines)} equations, more than the limit of {limits.max_dimension} states",
+            file=file,
+            key=key,
+        )
+
+    # First pass: the left sides fix the states and their order.
+    names: list[str] = []
+    sides: list[str] = []
+    for i, line in enumerate(lines):
+        where = f"{key}[{i}]"
+        if not isinstance(line, str):
+            raise ExpressionError(
+                f"found {type(line).__name__} {line!r}; expected an equation string such as \"x' = -x\"",
+                file=file,
+                key=where,
+            )
+        if len(line) > limits.max_length + 100:
+            raise LimitError(
+                f"the equation has {len(line)} characters, more than the limit of {limits.max_length}",
+                file=file,
+                key=where,
+            )
+        if line.count("=") != 1:
+            raise ExpressionError(
+                f"expected exactly one '=' in {line!r}, found {line.count('=')}", file=file, key=where,
+                hint=f"write it as NAME' = expression, e.g. \"x' = -x\" or \"dx/d{t.name} = -x\"",
+            )
+        parts = split_equation(line, t_name=t.name)
+        if parts is None:
+            lhs = line.split("=")[0].strip()
+            raise ExpressionError(
+                f"the left side {lhs!r} is not a derivative; expected NAME' or dNAME/d{t.name}",
+                file=file,
+                key=where,
+                hint="write it as NAME' = expression, e.g. \"x' = -x\"",
+            )
+        name, rhs = parts
+        problem = name_problem(name)
+        if problem is not None:
+            raise ExpressionError(f"the state name {problem}", file=file, key=where)
+        if name == t.name:
+            raise ExpressionError(
+                f"the state {name!r} has the name of the independent variable", file=file, key=where
+            )
+        if name in names:
+            first = names.index(name)
+            raise ExpressionError(
+                f"duplicate state {name!r}: it already has an equation in {key}[{first}]",
+                file=file,
+                key=where,
+            )
+        names.append(name)
+        sides.append(rhs)
+
+    states = tuple(
+        symbols[n] if n in symbols and isinstance(symbols[n], sp.Symbol) else sp.Symbol(n, real=True) for n in names
+    )
+    table: dict[str, sp.Symbol] = dict(symbols)
+    table.update(zip(names, states))
+    table[t.name] = t
+
+    rows_A: list[list[sp.Expr]] = []
+    rows_f: list[sp.Expr] = []
+    notices: list[str] = []
+    for i, (name, rhs) in enumerate(zip(names, sides)):
+        where = f"{key}[{i}]"
+        label = f"equation {i + 1} ({name}')"
+        deriv = _derivative_on_right(rhs, names, t.name)
+        if deriv is not None:
+            raise ExpressionError(
+                f"a derivative ({deriv}) appears on the right side of {label}; "
+                "expected a first-order system x' = A x + f(t) with derivatives only on the left",
+                file=file,
+                key=where,
+            )
+        for used in expression_names(rhs):
+            if used in table or used in CONSTANTS or used in FUNCTIONS or used.startswith("__"):
+                # Functions and dunder names are left to the parser, which
+                # explains those mistakes better.
+                continue
+            params = sorted(n for n in symbols if n not in names)
+            guess = nearest(used, set(names) | set(params) | {t.name})
+            raise ExpressionError(
+                f"{used!r} appears on the right side of {label} but has no equation of its own "
+                f"(states: {', '.join(names)}) and is not a declared parameter "
+                f"(parameters: {', '.join(params) if params else 'none'})",
+                file=file,
+                key=where,
+                hint=(f"did you mean {guess!r}? " if guess else "")
+                + f"add an equation \"{used}' = ...\" or declare [parameters.{used}]",
+            )
+        expr, found = parse_expression(rhs, symbols=table, key=where, file=file, limits=limits)
+        notices.extend(found)
+        row: list[sp.Expr] = []
+        for j, x in enumerate(states):
+            coeff = sp.diff(expr, x)
+            in_states = sorted((s.name for s in coeff.free_symbols & set(states)))
+            if in_states or coeff.has(sp.Derivative):
+                raise ExpressionError(
+                    f"{label} is not linear in the states: the coefficient of {x.name} is {coeff}, "
+                    f"which still depends on {', '.join(in_states)}",
+                    file=file,
+                    key=where,
+                    hint="only sums of (constant) * state + f(t) are accepted",
+                )
+            if t in coeff.free_symbols:
+                raise ExpressionError(
+                    f"A must be constant: the coefficient of {x.name} in {label} depends on {t.name} "
+                    f"({coeff}): not a constant-coefficient system",
+                    file=file,
+                    key=where,
+                )
+            row.append(coeff)
+        forcing = expr.subs({x: 0 for x in states})
+        rest = sp.expand(expr - sum((c * x for c, x in zip(row, states)), sp.Integer(0)) - forcing)
+        if rest != 0 and rest.free_symbols & set(states):
+            # Belt and braces: every nonlinear term has a state in its derivative,
+            # so this only fires for something the Jacobian test missed.
+            raise ExpressionError(
+                f"{label} is not linear in the states: {rest} is left after taking out A x",
+                file=file,
+                key=where,
+            )
+        rows_A.append(row)
+        rows_f.append(forcing)
+
+    return states, sp.ImmutableMatrix(rows_A), sp.ImmutableMatrix(rows_f), tuple(notices)

@@ -1,0 +1,347 @@
+"""Exponential polynomials: sums of c * t^k * exp(gamma * t).
+
+Every forcing of the classes engineers write down most (polynomials,
+exponentials, sines and cosines and their products, hyperbolic functions) is
+an exponential polynomial once sines and cosines are written as complex
+exponentials.  The class is closed under the integral the integrating factor
+needs, so the particular solution of each decoupled equation comes from a
+formula instead of a general-purpose ``integrate`` call:
+
+    integral of s^k e^{beta s} ds = e^{beta t} sum_j (-1)^j k!/(k-j)! t^(k-j) / beta^(j+1)
+                                    (beta != 0)
+                                  = t^(k+1) / (k+1)                (beta = 0, resonance)
+
+The representation is a mapping ``(k, gamma) -> coefficient`` kept in a
+frozen, hashable form; coefficients and exponents are exact sympy numbers or
+expressions in the parameters (and in the free constants of a general
+solution).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Callable, Iterable, Mapping
+
+import sympy as sp
+
+__all__ = ["ExpPoly", "to_expoly", "integrate_against", "ZeroTest"]
+
+ZeroTest = Callable[[sp.Expr], bool]
+
+_TRIG = (sp.sin, sp.cos, sp.tan, sp.sinh, sp.cosh, sp.tanh)
+
+
+@dataclass(frozen=True)
+class ExpPoly:
+    """sum over (k, gamma) of coeff * t^k * exp(gamma t), for a fixed variable.
+
+    ``terms`` is a tuple of ``((k, gamma), coeff)`` with distinct keys and no
+    zero coefficients.  Instances are built with ``ExpPoly.from_dict``.
+    """
+
+    terms: tuple[tuple[tuple[int, sp.Expr], sp.Expr], ...] = ()
+
+    # -- construction -------------------------------------------------
+    @staticmethod
+    def from_dict(d: Mapping[tuple[int, sp.Expr], sp.Expr]) -> "ExpPoly":
+        items = []
+        for key, c in d.items():
+            c = norm_coeff(c)
+            if c != 0:
+                items.append((key, c))
+        items.sort(key=lambda kv: (sp.default_sort_key(kv[0][1]), kv[0][0]))
+        return ExpPoly(tuple(items))
+
+    @staticmethod
+    def constant(c: sp.Expr) -> "ExpPoly":
+        return ExpPoly.from_dict({(0, sp.Integer(0)): sp.sympify(c)})
+
+    @staticmethod
+    def term(c: sp.Expr, k: int, gamma: sp.Expr) -> "ExpPoly":
+        return ExpPoly.from_dict({(k, sp.sympify(gamma)): sp.sympify(c)})
+
+    def as_dict(self) -> dict[tuple[int, sp.Expr], sp.Expr]:
+        return dict(self.terms)
+
+    # -- arithmetic ---------------------------------------------------
+    def __add__(self, other: "ExpPoly") -> "ExpPoly":
+        d = self.as_dict()
+        for key, c in other.terms:
+            d[key] = d.get(key, sp.Integer(0)) + c
+        return ExpPoly.from_dict(d)
+
+    def scale(self, c: sp.Expr) -> "ExpPoly":
+        if c == 0:
+            return ExpPoly()
+        return ExpPoly.from_dict({key: c * v for key, v in self.terms})
+
+    def __neg__(self) -> "ExpPoly":
+        return self.scale(sp.Integer(-1))
+
+    def __sub__(self, other: "ExpPoly") -> "ExpPoly":
+        return self + (-other)
+
+    @property
+    def is_zero(self) -> bool:
+        return not self.terms
+
+    def exponents(self) -> tuple[sp.Expr, ...]:
+        seen: list[sp.Expr] = []
+        for (k, g), _ in self.terms:
+            if g not in seen:
+                seen.append(g)
+        return tuple(seen)
+
+    def map_coeffs(self, fn: Callable[[sp.Expr], sp.Expr]) -> "ExpPoly":
+        return ExpPoly.from_dict({key: fn(c) for key, c in self.terms})
+
+    def coeff_of(self, sym: sp.Symbol) -> "ExpPoly":
+        """The part linear in ``sym`` (coefficients are linear in the constants)."""
+        return ExpPoly.from_dict({key: sp.expand(c).coeff(sym) for key, c in self.terms})
+
+    def drop(self, syms: Iterable[sp.Symbol]) -> "ExpPoly":
+        """Set the given symbols to zero (the constant-free part)."""
+        sub = {s: 0 for s in syms}
+        return ExpPoly.from_dict({key: c.subs(sub) for key, c in self.terms})
+
+    # -- evaluation ---------------------------------------------------
+    def at(self, t_value: sp.Expr) -> sp.Expr:
+        return sp.expand(
+            sp.Add(*[c * t_value**k * sp.exp(g * t_value) for (k, g), c in self.terms])
+        )
+
+    def to_expr(self, t: sp.Symbol, *, t0: sp.Expr = sp.Integer(0)) -> sp.Expr:
+        """The expression, exponentials written as exp(gamma (t - t0)) when t0 != 0."""
+        out = []
+        for (k, g), c in self.terms:
+            if g == 0:
+                out.append(c * t**k)
+            elif t0 == 0:
+                out.append(c * t**k * sp.exp(g * t))
+            else:
+                out.append(sp.expand(c * sp.exp(g * t0)) * t**k * sp.exp(g * (t - t0)))
+        return sp.Add(*out)
+
+    def real_form(self, t: sp.Symbol, *, t0: sp.Expr = sp.Integer(0), re_im=None) -> sp.Expr:
+        """The real part, as e^{a t} (cos b t, sin b t) terms.
+
+        Valid when the function is real: conjugate exponents then carry
+        conjugate coefficients, so the sum equals its real part and each
+        conjugate pair gives 2 Re(c t^k e^{(a + i b) t}).  ``re_im`` splits an
+        exact number into real and imaginary parts (``split_complex`` by
+        default).
+        """
+        split = re_im or split_complex
+        grouped: dict[tuple[int, sp.Expr, sp.Expr], list[sp.Expr]] = {}
+        order: list[tuple[int, sp.Expr, sp.Expr]] = []
+        for (k, g), c in self.terms:
+            a, b = split(g)
+            if b != 0 and _is_negative(b):
+                continue  # its conjugate partner carries the pair
+            key = (k, a, b)
+            if key not in grouped:
+                grouped[key] = []
+                order.append(key)
+            grouped[key].append(c)
+        out = []
+        for key in order:
+            k, a, b = key
+            c = sp.Add(*grouped[key])
+            cr, ci = split(c)
+            tk = t**k
+            shift = t - t0
+            growth = sp.exp(a * shift) if a != 0 else sp.Integer(1)
+            if b == 0:
+                out.append(_shifted(cr, a, t0) * tk * growth)
+                continue
+            # c e^{(a+ib) t} + conj = 2 e^{a t} (Re c cos bt - Im c sin bt), with
+            # the phase e^{(a+ib) t0} folded into c when t0 != 0.
+            if t0 != 0:
+                cs = sp.expand(c * sp.exp((a + sp.I * b) * t0))
+                cr, ci = split(cs)
+            out.append(
+                2 * tk * growth * (cr * sp.cos(b * shift) - ci * sp.sin(b * shift))
+            )
+        return sp.Add(*out)
+
+
+def _shifted(c: sp.Expr, a: sp.Expr, t0: sp.Expr) -> sp.Expr:
+    if t0 == 0 or a == 0:
+        return c
+    return sp.expand(c * sp.exp(a * t0))
+
+
+def _is_negative(b: sp.Expr) -> bool:
+    if b.is_negative:
+        return True
+    if b.is_positive:
+        return False
+    # Parameters of unknown sign: order by the printed form, consistently.
+    return sp.default_sort_key(b) > sp.default_sort_key(-b)
+
+
+def split_complex(z: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
+    """Exact real and imaginary parts of an exact number or real-parameter expression."""
+    z = sp.expand(z)
+    if z.is_real:
+        return z, sp.Integer(0)
+    re, im = z.as_real_imag()
+    return sp.expand(re), sp.expand(im)
+
+
+def norm_coeff(c: sp.Expr) -> sp.Expr:
+    """A canonical form for one coefficient, so equal coefficients compare equal.
+
+    Numbers (radicals, i, indexed roots) are expanded, with radicals cleared
+    from denominators; expressions in parameters are put over one denominator
+    and factored, which keeps 1/((k1 - k2)(k1 - k3)) readable instead of
+    expanding it.
+    """
+    c = sp.sympify(c)
+    if c.is_Rational or c == 0:
+        return c
+    if not c.free_symbols:
+        e = sp.expand(c)
+        if e.has(sp.CRootOf):
+            return reduce_roots(e)
+        if any(p.exp.is_negative and not p.base.is_Rational for p in e.atoms(sp.Pow)):
+            e = sp.expand(sp.radsimp(e))
+        return e
+    e = sp.expand(c)
+    if any(p.exp.is_negative and p.base.free_symbols for p in e.atoms(sp.Pow)):
+        e = sp.factor(sp.cancel(sp.together(e)))
+        if e.is_Add:
+            return e
+        # keep sums of constants visible: distribute a lone numerator sum
+        return e
+    return e
+
+
+def reduce_roots(e: sp.Expr) -> sp.Expr:
+    """Reduce powers of an indexed root r of q modulo q(r) = 0 (degree < deg q)."""
+    for r in sorted(e.atoms(sp.CRootOf), key=sp.default_sort_key):
+        z = sp.Dummy("z")
+        ez = e.xreplace({r: z})
+        num, den = sp.fraction(sp.together(ez))
+        q = sp.Poly(r.poly.as_expr().subs(r.poly.gen, z), z)
+        pn, pd = num.as_poly(z), den.as_poly(z)
+        if pn is None or pd is None:
+            continue
+        if pd.degree() > 0:
+            # invert the denominator in Q[z]/(q): q is irreducible, so it is a unit
+            inv = sp.invert(pd.as_expr(), q.as_expr(), z)
+            pn = sp.Poly(sp.expand(pn.as_expr() * inv), z)
+            pd = sp.Poly(1, z)
+        rem = pn.rem(q)
+        e = sp.expand(rem.as_expr().subs(z, r) / pd.as_expr())
+    return e
+
+
+def conjugate(p: ExpPoly) -> ExpPoly:
+    """Complex conjugate, for a real variable t and real parameters."""
+    out: dict = {}
+    for (k, g), c in p.terms:
+        gr, gi = split_complex(g)
+        cr, ci = split_complex(c)
+        key = (k, sp.expand(gr - sp.I * gi))
+        out[key] = out.get(key, sp.Integer(0)) + cr - sp.I * ci
+    return ExpPoly.from_dict(out)
+
+
+class NotExpPoly(Exception):
+    """Raised internally when an expression is outside the class."""
+
+
+def to_expoly(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
+    """Write ``expr`` as an exponential polynomial in ``t``.
+
+    >>> t = sp.Symbol("t")
+    >>> to_expoly(3*t*sp.exp(-2*t), t).terms
+    (((1, -2), 3),)
+
+    Raises ``NotExpPoly`` when the expression is not of the class (a step, a
+    rational function of t, ...).
+    """
+    expr = sp.sympify(expr)
+    if not expr.has(t):
+        return ExpPoly.constant(expr)
+    if any(expr.has(fn) for fn in _TRIG):
+        expr = expr.rewrite(sp.exp)
+    expr = sp.expand(expr, power_exp=True, mul=True, multinomial=True, power_base=False, log=False)
+    acc: dict[tuple[int, sp.Expr], sp.Expr] = {}
+    for term in sp.Add.make_args(expr):
+        coeff = sp.Integer(1)
+        k = 0
+        gamma = sp.Integer(0)
+        for factor in sp.Mul.make_args(term):
+            if not factor.has(t):
+                coeff *= factor
+            elif factor == t:
+                k += 1
+            elif factor.is_Pow and factor.base == t and factor.exp.is_Integer and factor.exp >= 0:
+                k += int(factor.exp)
+            elif isinstance(factor, sp.exp) or (factor.is_Pow and factor.base is sp.E):
+                arg = factor.args[0] if isinstance(factor, sp.exp) else factor.exp
+                arg = sp.expand(arg)
+                slope = sp.diff(arg, t)
+                if slope.has(t):
+                    raise NotExpPoly(f"exponent {arg} is not linear in {t}")
+                gamma += slope
+                rest = sp.expand(arg - slope * t)
+                if rest != 0:
+                    coeff *= sp.exp(rest)
+            elif factor.is_Pow and not factor.base.has(t) and factor.exp.has(t):
+                # b^(a t + c) = e^{(a t + c) log b}
+                arg = sp.expand(factor.exp)
+                slope = sp.diff(arg, t)
+                if slope.has(t):
+                    raise NotExpPoly(f"exponent {arg} is not linear in {t}")
+                gamma += slope * sp.log(factor.base)
+                rest = sp.expand(arg - slope * t)
+                if rest != 0:
+                    coeff *= factor.base**rest
+            else:
+                raise NotExpPoly(f"{factor} is not a polynomial, exponential or sinusoid in {t}")
+        gamma = sp.expand(gamma)
+        key = (k, gamma)
+        acc[key] = acc.get(key, sp.Integer(0)) + coeff
+    return ExpPoly.from_dict(acc)
+
+
+@dataclass(frozen=True)
+class IntegralResult:
+    """Antiderivative F of e^{-lam s} h(s), with bookkeeping for the sheet."""
+
+    antiderivative: ExpPoly  # F(t), itself an exponential polynomial
+    resonant: bool
+    nonzero: tuple[sp.Expr, ...] = field(default=())  # beta values assumed nonzero
+
+
+def integrate_against(h: ExpPoly, lam: sp.Expr, *, is_zero: ZeroTest) -> IntegralResult:
+    """Antiderivative of e^{-lam s} h(s) ds by formula (no general integrator).
+
+    ``is_zero`` decides exactly whether gamma - lam vanishes (resonance).
+    """
+    out: dict[tuple[int, sp.Expr], sp.Expr] = {}
+    resonant = False
+    assumed: list[sp.Expr] = []
+    for (k, gamma), c in h.terms:
+        beta = sp.expand(gamma - lam)
+        if is_zero(beta):
+            resonant = True
+            key = (k + 1, sp.Integer(0))
+            out[key] = out.get(key, sp.Integer(0)) + c / (k + 1)
+            continue
+        if beta.free_symbols:
+            assumed.append(beta)
+        # e^{beta t} sum_j (-1)^j k!/(k-j)! t^(k-j) / beta^(j+1)
+        for j in range(k + 1):
+            coef = (-1) ** j * sp.factorial(k) / sp.factorial(k - j) / beta ** (j + 1)
+            key = (k - j, beta)
+            out[key] = out.get(key, sp.Integer(0)) + c * coef
+    return IntegralResult(ExpPoly.from_dict(out), resonant, tuple(assumed))
+
+
+def shift_exponents(p: ExpPoly, delta: sp.Expr) -> ExpPoly:
+    """Multiply by e^{delta t}: every exponent moves by delta."""
+    return ExpPoly.from_dict({(k, sp.expand(g + delta)): c for (k, g), c in p.terms})

@@ -1,0 +1,204 @@
+"""The small, frozen data model every stage passes along.
+
+Everything here is immutable: sympy objects are ``ImmutableMatrix`` and
+``Expr``, collections are tuples.  Variants are made with
+``dataclasses.replace``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
+
+import sympy as sp
+
+if TYPE_CHECKING:  # pragma: no cover
+    from .steps import Step
+
+__all__ = [
+    "Parameter",
+    "System",
+    "SheetMeta",
+    "Case",
+    "Condition",
+    "NumericCheck",
+    "Verification",
+    "Solution",
+]
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A declared symbolic parameter.
+
+    ``symbol`` carries the sympy assumptions (positive, real, ...).  ``value``
+    is an exact number used only for numeric checks and plots, never in the
+    algebra.  ``unit`` and ``description`` are for the sheet's input table.
+    """
+
+    symbol: sp.Symbol
+    value: sp.Expr | None = None
+    unit: str = ""
+    description: str = ""
+
+    @property
+    def name(self) -> str:
+        return self.symbol.name
+
+
+@dataclass(frozen=True)
+class System:
+    """x' = A x + f(t), optionally with x(t0) = x0.
+
+    ``states`` are the state symbols (x_1 .. x_n unless the case names them);
+    ``equations`` holds the equations as the user wrote them when the system
+    was given as text, so the first step can show the extraction of A and f.
+    """
+
+    A: sp.ImmutableMatrix
+    f: sp.ImmutableMatrix
+    t: sp.Symbol
+    states: tuple[sp.Symbol, ...]
+    x0: sp.ImmutableMatrix | None = None
+    t0: sp.Expr = sp.Integer(0)
+    params: tuple[Parameter, ...] = ()
+    equations: tuple[str, ...] = ()
+
+    @property
+    def n(self) -> int:
+        return self.A.shape[0]
+
+    @property
+    def is_homogeneous(self) -> bool:
+        return all(e == 0 for e in self.f)
+
+    @property
+    def is_ivp(self) -> bool:
+        return self.x0 is not None
+
+    def parameter_values(self) -> dict[sp.Symbol, sp.Expr]:
+        """Parameters that have a numeric value, as a substitution map."""
+        return {p.symbol: p.value for p in self.params if p.value is not None}
+
+
+@dataclass(frozen=True)
+class SheetMeta:
+    """What the header block and the purpose section of a sheet carry."""
+
+    title: str = "Solution of a linear system x' = A x + f(t)"
+    project: str = ""
+    calc_number: str = ""
+    revision: str = "A"
+    subject: str = ""
+    prepared_by: str = ""
+    checked_by: str = ""
+    date: str = ""
+    purpose: str = ""
+    assumptions: tuple[str, ...] = ()
+    references: tuple[str, ...] = ()
+    notes: str = ""
+    state_descriptions: tuple[tuple[str, str], ...] = ()  # (state name, meaning and unit)
+
+
+@dataclass(frozen=True)
+class Case:
+    """A loaded case: the system, the sheet metadata and where it came from."""
+
+    name: str
+    system: System
+    meta: SheetMeta = field(default_factory=SheetMeta)
+    source: str | None = None
+    source_hash: str = ""
+    notices: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Condition:
+    """A condition a step relies on, e.g. ``k1 - k2 != 0``.
+
+    ``expr`` is the quantity that must not vanish (relation ``"!= 0"``) or the
+    relation itself; ``reason`` says which step relies on it.
+    """
+
+    expr: sp.Expr
+    relation: str
+    reason: str
+
+
+@dataclass(frozen=True)
+class NumericCheck:
+    """Numeric integration of the system compared with the exact solution."""
+
+    method: str
+    t_start: float
+    t_end: float
+    points: int
+    rtol: float
+    atol: float
+    max_abs_gap: float
+    max_rel_gap: float
+    ok: bool
+
+
+@dataclass(frozen=True)
+class Verification:
+    """Independent evidence that the solution is right.
+
+    ``residual`` is x' - A x - f after reduction; ``residual_method`` says how
+    zero was established ("exact" or a numeric identity test at high
+    precision); ``initial_residual`` is x(t0) - x0 for an initial value problem.
+    """
+
+    residual: sp.ImmutableMatrix
+    residual_zero: bool
+    residual_method: str
+    initial_residual: sp.ImmutableMatrix | None
+    initial_ok: bool | None
+    numeric: NumericCheck | None
+    similarity_ok: bool
+    notes: tuple[str, ...] = ()
+
+    @property
+    def ok(self) -> bool:
+        return (
+            self.residual_zero
+            and self.similarity_ok
+            and self.initial_ok is not False
+            and (self.numeric is None or self.numeric.ok)
+        )
+
+
+@dataclass(frozen=True)
+class Solution:
+    """The result of ``derive.solve``.
+
+    ``x`` is a column Matrix in the very ``t`` the caller passed;
+    ``constants`` are the free constants of a general solution as they appear
+    in ``x`` (empty for an initial value problem).  ``eigenvalues`` follow the
+    column order of ``P``; ``D`` is diagonal, or the Jordan form when the
+    matrix is defective (``is_diagonalizable`` says which).
+    """
+
+    system: System
+    x: sp.ImmutableMatrix
+    constants: tuple[sp.Symbol, ...]
+    eigenvalues: tuple[sp.Expr, ...]
+    P: sp.ImmutableMatrix
+    D: sp.ImmutableMatrix
+    P_inv: sp.ImmutableMatrix
+    is_diagonalizable: bool
+    homogeneous: sp.ImmutableMatrix
+    particular: sp.ImmutableMatrix
+    steps: tuple["Step", ...]
+    verification: Verification
+    conditions: tuple[Condition, ...] = ()
+    notices: tuple[str, ...] = ()
+    case: Case | None = None
+
+    @property
+    def ok(self) -> bool:
+        return self.verification.ok
+
+    @property
+    def t(self) -> sp.Symbol:
+        return self.system.t

@@ -1,0 +1,328 @@
+"""solve(): the one place where the stages are composed.
+
+    System -> decompose (spectral) -> decouple (g = P^-1 f) -> integrate
+    (scalar, by integrating factor) -> recombine (x = P y, real form,
+    constants) -> verify -> Solution
+
+Each stage returns its result with the steps it took; the steps are
+concatenated here, in derivation order.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import Any, Iterable, Mapping, Sequence
+
+import sympy as sp
+
+from .errors import InputError, UnsupportedError, VerificationError
+from .exact import is_zero_number
+from .expoly import ExpPoly, NotExpPoly, to_expoly
+from .model import Case, Parameter, Solution, System
+from .recombine import conjugate_pairs, recombine
+from .scalar import solve_blocks
+from .spectral import decompose
+from .steps import DecoupleStep, EquationsStep, ResultStep, Step
+from .verify import verify
+
+__all__ = ["solve", "solve_system", "solve_case", "build_system"]
+
+
+def _exact(value: Any, *, symbols: Mapping[str, sp.Symbol], key: str, notices: list[str]) -> sp.Expr:
+    """A user value as an exact sympy object: numbers, strings (parsed safely), sympy."""
+    if isinstance(value, bool):
+        raise InputError(f"expected a number or an expression, found the boolean {value}", key=key)
+    if isinstance(value, sp.Basic):
+        floats = value.atoms(sp.Float)
+        if floats:
+            rep = {fl: sp.Rational(str(fl)) for fl in floats}
+            notices.append(f"{key}: floating-point numbers read as exact rationals")
+            value = value.xreplace(rep)
+        return value
+    if isinstance(value, int):
+        return sp.Integer(value)
+    if isinstance(value, float):
+        r = sp.Rational(repr(value))
+        notices.append(f"{key}: {value!r} read as the exact value {r}")
+        return r
+    if isinstance(value, str):
+        from .parsing import parse_expression
+
+        expr, notes = parse_expression(value, symbols=symbols, key=key)
+        notices.extend(notes)
+        return expr
+    try:
+        from fractions import Fraction
+
+        if isinstance(value, Fraction):
+            return sp.Rational(value.numerator, value.denominator)
+    except ImportError:  # pragma: no cover
+        pass
+    raise InputError(f"expected a number or an expression, found {type(value).__name__}", key=key)
+
+
+def _params(params: Any) -> tuple[tuple[Parameter, ...], dict[str, sp.Symbol]]:
+    out: list[Parameter] = []
+    if params is None:
+        return (), {}
+    if isinstance(params, Mapping):
+        items: Iterable = params.items()
+    else:
+        items = [(p, None) if not isinstance(p, Parameter) else (p, p) for p in params]
+    for k, v in items:
+        if isinstance(v, Parameter):
+            out.append(v)
+            continue
+        sym = k if isinstance(k, sp.Symbol) else sp.Symbol(str(k), real=True)
+        val = None
+        if v is not None:
+            val = _exact(v, symbols={}, key=f"params[{sym.name}]", notices=[])
+        out.append(Parameter(symbol=sym, value=val))
+    return tuple(out), {p.name: p.symbol for p in out}
+
+
+def build_system(
+    A: Any,
+    f: Any = None,
+    *,
+    t: sp.Symbol | None = None,
+    x0: Any = None,
+    t0: Any = 0,
+    params: Any = None,
+    states: Sequence[sp.Symbol] | None = None,
+) -> tuple[System, tuple[str, ...]]:
+    """Normalise API arguments into a System (exact objects only)."""
+    notices: list[str] = []
+    t = t if t is not None else sp.Symbol("t")
+    if not isinstance(t, sp.Symbol):
+        raise InputError(f"t must be a sympy Symbol, found {type(t).__name__}", key="t")
+    plist, names = _params(params)
+    names = dict(names)
+    names.setdefault(t.name, t)
+    if isinstance(A, sp.MatrixBase):
+        rows = A.tolist()
+    else:
+        try:
+            rows = [list(r) for r in A]
+        except TypeError:
+            raise InputError("A must be a square matrix: a sympy Matrix or a list of rows", key="A")
+    n = len(rows)
+    if n == 0 or any(len(r) != n for r in rows):
+        shape = f"{n} rows of lengths {[len(r) for r in rows]}"
+        raise InputError(f"A must be square, found {shape}", key="A")
+    Am = sp.ImmutableMatrix(
+        [[_exact(v, symbols=names, key=f"A[{i}][{j}]", notices=notices) for j, v in enumerate(r)] for i, r in enumerate(rows)]
+    )
+    if Am.has(t):
+        raise InputError(f"A depends on {t}: this solver needs constant coefficients", key="A")
+    if f is None:
+        fm = sp.ImmutableMatrix(sp.zeros(n, 1))
+    else:
+        fl = list(f) if not isinstance(f, sp.MatrixBase) else list(f)
+        if len(fl) != n:
+            raise InputError(f"A is {n}x{n} but f has {len(fl)} entries", key="f")
+        fm = sp.ImmutableMatrix([_exact(v, symbols=names, key=f"f[{i}]", notices=notices) for i, v in enumerate(fl)])
+    x0m = None
+    if x0 is not None:
+        xl = list(x0)
+        if len(xl) != n:
+            raise InputError(f"A is {n}x{n} but x0 has {len(xl)} entries", key="x0")
+        x0m = sp.ImmutableMatrix([_exact(v, symbols=names, key=f"x0[{i}]", notices=notices) for i, v in enumerate(xl)])
+        if x0m.has(t):
+            raise InputError(f"x0 depends on {t}: initial values must be constants", key="x0")
+    t0e = _exact(t0, symbols=names, key="t0", notices=notices)
+    if t0e.has(t) or not t0e.is_real and t0e.is_real is not None:
+        raise InputError(f"t0 must be a real number, found {t0e}", key="t0")
+    known = {p.symbol for p in plist}
+    for s in (Am.free_symbols | fm.free_symbols | (x0m.free_symbols if x0m is not None else set())) - {t}:
+        if s not in known:
+            plist = plist + (Parameter(symbol=s),)
+            known.add(s)
+    if states is None:
+        states = tuple(sp.Symbol(f"x_{i + 1}") for i in range(n))
+    system = System(A=Am, f=fm, t=t, states=tuple(states), x0=x0m, t0=t0e, params=plist)
+    return system, tuple(notices)
+
+
+def solve(A, f=None, *, t=None, x0=None, t0=0, params=None) -> Solution:
+    """Solve x' = A x + f(t) exactly, with every step recorded and verified.
+
+    >>> import sympy as sp
+    >>> sol = solve([[0, 1], [-2, -3]], x0=[1, 0])
+    >>> sol.eigenvalues
+    (-2, -1)
+
+    ``params`` maps parameters (Symbols or names) to numeric values used only
+    in the numeric check, or lists them.  Raises ``VerificationError`` if the
+    result does not verify; call ``solve_system`` for the unchecked record.
+    """
+    system, notices = build_system(A, f, t=t, x0=x0, t0=t0, params=params)
+    sol = solve_system(system)
+    if notices:
+        sol = replace(sol, notices=tuple(notices) + sol.notices)
+    return sol
+
+
+def solve_case(case: Case) -> Solution:
+    """Solve a loaded case file; the Solution carries the case for rendering."""
+    sol = solve_system(case.system, case=case)
+    return replace(sol, notices=tuple(case.notices) + sol.notices)
+
+
+def _constant_names(system: System) -> str:
+    used = {s.name for s in system.A.free_symbols | system.f.free_symbols} | {s.name for s in system.states}
+    used |= {p.name for p in system.params} | {system.t.name}
+    n = system.n
+    for base in ("c", "C", "K", "k"):
+        if not any(f"{base}_{i + 1}" in used or f"{base}{i + 1}" in used for i in range(n)):
+            return base
+    return "c_const"
+
+
+def _is_real_data(system: System) -> bool:
+    items = list(system.A) + list(system.f) + (list(system.x0) if system.x0 is not None else []) + [system.t0]
+    if system.t.is_real is False:
+        return False
+    for e in items:
+        if e.is_real is True:
+            continue
+        # expressions in t: real when every symbol is real and no i appears
+        if not e.has(sp.I) and all((s.is_real or s == system.t) for s in e.free_symbols):
+            continue
+        return False
+    return True
+
+
+def solve_system(system: System, *, case: Case | None = None, check: bool = True) -> Solution:
+    """Run the whole pipeline on a System.  With ``check`` (default) an
+    unverified result raises VerificationError carrying the Solution."""
+    t = system.t
+    n = system.n
+    steps: list[Step] = []
+    notices: list[str] = []
+    if system.equations:
+        steps.append(EquationsStep(equations=system.equations, states=system.states, t=t, A=system.A, f=system.f))
+    values = system.parameter_values()
+    dec = decompose(system.A, values=values)
+    steps.extend(dec.steps)
+
+    P, J, P_inv = dec.P, dec.J, dec.P_inv
+    y_syms = tuple(sp.Symbol(f"y_{i + 1}") for i in range(n))
+    # g = P^-1 f, as exponential polynomials
+    try:
+        f_ep = [to_expoly(e, t) for e in system.f]
+    except NotExpPoly as exc:
+        raise UnsupportedError(
+            f"the forcing is outside the closed-form classes of this version ({exc}); "
+            "use sums of polynomials, exponentials, sines and cosines and their products",
+            key="system.forcing",
+        )
+    g_ep = []
+    for i in range(n):
+        acc = ExpPoly()
+        for j in range(n):
+            if P_inv[i, j] != 0 and not f_ep[j].is_zero:
+                acc = acc + f_ep[j].scale(P_inv[i, j])
+        g_ep.append(acc)
+    g_mat = sp.ImmutableMatrix([g.to_expr(t) for g in g_ep])
+    steps.append(DecoupleStep(t=t, y=y_syms, D=J, P_inv=P_inv, f=system.f, g=g_mat))
+
+    base = _constant_names(system)
+    constants = tuple(sp.Symbol(f"{base}_{i + 1}") for i in range(n))
+    ivp = system.x0 is not None
+    conj = {}
+    pos_of_block = []
+    pos = 0
+    for b in dec.blocks:
+        pos_of_block.append(pos)
+        pos += sum(len(ch) for ch in b.chains)
+    for bi, bj in conjugate_pairs(dec.blocks):
+        conj[pos_of_block[bj]] = pos_of_block[bi] + 1
+    scal = solve_blocks(
+        dec.jordan_blocks,
+        g_ep,
+        t=t,
+        constants=constants,
+        y_symbols=y_syms,
+        ivp=ivp,
+        t0=system.t0,
+        is_zero=is_zero_number,
+        conjugates=conj,
+    )
+    steps.extend(scal.steps)
+
+    real = _is_real_data(system)
+    rec = recombine(
+        P,
+        P_inv,
+        scal.y,
+        blocks=dec.blocks,
+        constants=constants,
+        y_symbols=y_syms,
+        t=t,
+        t0=system.t0,
+        x0=system.x0,
+        real=real,
+    )
+    steps.extend(rec.steps)
+    if real and not rec.real_form and any(b.kind != "real" for b in dec.blocks):
+        notices.append(
+            "the eigenvalues' nature (real or complex) depends on the parameters, so the result "
+            "is left in complex exponential form; declare the parameters' signs or choose a regime"
+        )
+    steps.append(
+        ResultStep(
+            t=t,
+            states=system.states,
+            x=rec.x,
+            homogeneous=rec.homogeneous,
+            particular=rec.particular,
+            constants=rec.constants,
+        )
+    )
+    ver = verify(
+        system,
+        rec.x,
+        constants=rec.constants,
+        similarity_ok=True,
+        eigenvalues=dec.column_eigenvalues,
+    )
+    sol = Solution(
+        system=system,
+        x=rec.x,
+        constants=rec.constants,
+        eigenvalues=dec.column_eigenvalues,
+        P=P,
+        D=J,
+        P_inv=P_inv,
+        is_diagonalizable=dec.diagonalizable,
+        homogeneous=rec.homogeneous,
+        particular=rec.particular,
+        steps=tuple(steps),
+        verification=ver,
+        conditions=dec.conditions + scal.conditions,
+        notices=tuple(notices),
+        case=case,
+    )
+    if check and not ver.ok:
+        err = VerificationError(
+            "the derived solution failed verification: "
+            + _failure_summary(ver)
+            + "; it is not reported as a result",
+        )
+        err.solution = sol  # type: ignore[attr-defined]
+        raise err
+    return sol
+
+
+def _failure_summary(ver) -> str:
+    parts = []
+    if not ver.residual_zero:
+        parts.append("the residual x' - A x - f is not zero")
+    if ver.initial_ok is False:
+        parts.append("x(t0) differs from x0")
+    if ver.numeric is not None and not ver.numeric.ok:
+        parts.append(f"numeric integration differs by {ver.numeric.max_rel_gap:.3g} (relative)")
+    if not ver.similarity_ok:
+        parts.append("P D P^-1 differs from A")
+    return ", ".join(parts) or "unknown"

@@ -1,0 +1,270 @@
+"""x = P y: homogeneous and particular parts, the real form, the constants.
+
+The solution is carried as exponential polynomials until the very end, so the
+real form is a structural rewrite (2 Re(c t^k e^{(a + i b) t})) rather than a
+call to a simplifier, and the constants of an initial value problem follow
+from y(t0) = c, that is P c = x0.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+import sympy as sp
+
+from .expoly import ExpPoly, conjugate, split_complex
+from .spectral import EigenBlock
+from .steps import InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
+
+__all__ = ["Recombined", "recombine", "conjugate_pairs"]
+
+
+@dataclass(frozen=True)
+class Recombined:
+    x: sp.ImmutableMatrix
+    homogeneous: sp.ImmutableMatrix
+    particular: sp.ImmutableMatrix
+    constants: tuple[sp.Symbol, ...]
+    steps: tuple[Step, ...]
+    real_form: bool
+
+
+def _mat(polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr = 0) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix([p.to_expr(t, t0=t0) for p in polys])
+
+
+def _real(polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr = 0) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix([p.real_form(t, t0=t0) for p in polys])
+
+
+def _column_layout(blocks: Sequence[EigenBlock]) -> list[list[list[int]]]:
+    """Column indices of P for each block, chain by chain."""
+    out = []
+    pos = 0
+    for b in blocks:
+        chains = []
+        for ch in b.chains:
+            chains.append(list(range(pos, pos + len(ch))))
+            pos += len(ch)
+        out.append(chains)
+    return out
+
+
+def conjugate_pairs(blocks: Sequence[EigenBlock]) -> list[tuple[int, int]]:
+    """(block of a + ib, block of a - ib) index pairs, b > 0, found numerically."""
+    pairs = []
+    used: set[int] = set()
+    for i, b in enumerate(blocks):
+        if b.kind != "complex" or b.numeric is None or b.numeric.imag <= 0 or i in used:
+            continue
+        for j, c in enumerate(blocks):
+            if j == i or j in used or c.kind != "complex" or c.numeric is None:
+                continue
+            if abs(c.numeric - b.numeric.conjugate()) <= 1e-20 * max(1.0, abs(b.numeric)):
+                pairs.append((i, j))
+                used.update((i, j))
+                break
+    return pairs
+
+
+def _factor_scalar(phi: list[ExpPoly], t: sp.Symbol, t0: sp.Expr) -> tuple[sp.Expr, sp.ImmutableMatrix] | None:
+    """phi = e^{gamma (t - t0)} v with a constant vector v, when it is of that shape."""
+    keys = {key for p in phi for key, _ in p.terms}
+    if len(keys) != 1:
+        return None
+    (k, g), = keys
+    if k != 0:
+        return None
+    vec = []
+    for p in phi:
+        d = p.as_dict()
+        c = d.get((k, g), sp.Integer(0))
+        vec.append(sp.expand(c * sp.exp(g * t0)) if t0 != 0 else c)
+    return sp.exp(g * (t - t0)), sp.ImmutableMatrix(vec)
+
+
+def recombine(
+    P: sp.ImmutableMatrix,
+    P_inv: sp.ImmutableMatrix,
+    y: Sequence[ExpPoly],
+    *,
+    blocks: Sequence[EigenBlock],
+    constants: Sequence[sp.Symbol],
+    y_symbols: Sequence[sp.Symbol],
+    t: sp.Symbol,
+    t0: sp.Expr,
+    x0: sp.ImmutableMatrix | None,
+    real: bool,
+) -> Recombined:
+    """Assemble x(t) from the solved y(t); real form and constants as steps."""
+    n = P.rows
+    ivp = x0 is not None
+    shift = t0 if ivp else sp.Integer(0)
+    x_ep = []
+    for i in range(n):
+        acc = ExpPoly()
+        for j in range(n):
+            if P[i, j] != 0:
+                acc = acc + y[j].scale(P[i, j])
+        x_ep.append(acc)
+    phis = [[x_ep[i].coeff_of(c) for i in range(n)] for c in constants]
+    xp = [x_ep[i].drop(constants) for i in range(n)]
+    terms = []
+    for c, phi in zip(constants, phis):
+        fs = _factor_scalar(phi, t, shift)
+        if fs is None:
+            terms.append((c, _mat(phi, t, shift)))
+        else:
+            terms.append((c * fs[0], fs[1]))
+    hom_c = sp.ImmutableMatrix([sum((c * p.to_expr(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)])
+    steps: list[Step] = [
+        RecombineStep(
+            P=P,
+            y=sp.ImmutableMatrix([yy.to_expr(t, t0=shift) for yy in y]),
+            homogeneous_terms=tuple(terms),
+            homogeneous=hom_c,
+            particular=_mat(xp, t, shift),
+            x=sp.ImmutableMatrix([a + b for a, b in zip(hom_c, _mat(xp, t, shift))]),
+        )
+    ]
+    layout = _column_layout(blocks)
+    pairs = conjugate_pairs(blocks) if real else []
+    # only a full pairing of the complex eigenvalues gives a real form
+    n_complex = sum(1 for b in blocks if b.kind == "complex")
+    n_unknown = sum(1 for b in blocks if b.kind == "unknown")
+    do_real = real and n_unknown == 0 and 2 * len(pairs) == n_complex
+
+    values: dict[sp.Symbol, sp.Expr] = {}
+    if ivp:
+        cvals = [sp.expand(sum((P_inv[i, j] * x0[j] for j in range(n)), sp.Integer(0))) for i in range(n)]
+        cvals = [v if not v.free_symbols else sp.factor(v) for v in cvals]
+        values = dict(zip(constants, cvals))
+        steps.append(
+            InitialValuesStep(
+                t0=t0,
+                x0=x0,
+                matrix=P,
+                constants=tuple(constants),
+                rhs=x0,
+                values=tuple(values.items()),
+            )
+        )
+
+    real_pairs: list[RealFormPair] = []
+    hom_vec: list[ExpPoly] = [ExpPoly() for _ in range(n)]
+    hom_real_expr = [sp.Integer(0)] * n
+    if do_real and pairs:
+        paired_cols: dict[int, tuple[int, int]] = {}
+        for bi, bj in pairs:
+            for chain_i, chain_j in zip(layout[bi], layout[bj]):
+                for ci, cj in zip(chain_i, chain_j):
+                    paired_cols[ci] = (ci, cj)
+                    paired_cols[cj] = (ci, cj)
+        for idx, c in enumerate(constants):
+            phi = phis[idx]
+            if idx not in paired_cols:
+                cc = values.get(c, c)
+                for i in range(n):
+                    hom_real_expr[i] += cc * phi[i].real_form(t, t0=shift) if not ivp else 0
+                    hom_vec[i] = hom_vec[i] + phi[i].scale(cc)
+                continue
+            ci, cj = paired_cols[idx]
+            if idx != ci:
+                continue
+            phi_c = [conjugate(p) for p in phi]
+            re_part = [((p + q).scale(sp.Rational(1, 2))) for p, q in zip(phi, phi_c)]
+            im_part = [((p - q).scale(-sp.I / 2)) for p, q in zip(phi, phi_c)]
+            a_sym, b_sym = constants[ci], constants[cj]
+            lam = blocks[_block_of(layout, ci)].value
+            lr, li = split_complex(lam)
+            v = P[:, ci]
+            vr = sp.ImmutableMatrix([split_complex(e)[0] for e in v])
+            vi = sp.ImmutableMatrix([split_complex(e)[1] for e in v])
+            real_pairs.append(
+                RealFormPair(
+                    eigenvalue=lam,
+                    re=lr,
+                    im=li,
+                    vector=sp.ImmutableMatrix(v),
+                    vector_re=vr,
+                    vector_im=vi,
+                    complex_constants=(values.get(a_sym, a_sym), values.get(b_sym, b_sym)),
+                    real_constants=(a_sym, b_sym),
+                    real_part=_real(re_part, t, shift),
+                    imag_part=_real(im_part, t, shift),
+                )
+            )
+            if ivp:
+                for i in range(n):
+                    hom_vec[i] = hom_vec[i] + phi[i].scale(values[a_sym]) + phis[cj][i].scale(values[b_sym])
+            else:
+                for i in range(n):
+                    hom_real_expr[i] += a_sym * re_part[i].real_form(t, t0=shift) + b_sym * im_part[i].real_form(t, t0=shift)
+        if ivp:
+            homogeneous = _real(hom_vec, t, shift)
+        else:
+            homogeneous = sp.ImmutableMatrix(hom_real_expr)
+        particular = _real(xp, t, shift)
+        steps.append(RealFormStep(t=t, pairs=tuple(real_pairs), homogeneous=homogeneous, particular=particular))
+    else:
+        if ivp:
+            hv = [ExpPoly() for _ in range(n)]
+            for c, phi in zip(constants, phis):
+                for i in range(n):
+                    hv[i] = hv[i] + phi[i].scale(values[c])
+            homogeneous = _real(hv, t, shift) if do_real else _mat(hv, t, shift)
+        else:
+            homogeneous = hom_c if not do_real else sp.ImmutableMatrix(
+                [sum((c * p.real_form(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)]
+            )
+        particular = _real(xp, t, shift) if do_real else _mat(xp, t, shift)
+    cs = () if ivp else tuple(constants)
+    homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs))
+    particular = particular.applyfunc(lambda e: tidy(e, ()))
+    x = sp.ImmutableMatrix([tidy(a + b, cs) for a, b in zip(homogeneous, particular)])
+    return Recombined(
+        x=x,
+        homogeneous=homogeneous,
+        particular=particular,
+        constants=() if ivp else tuple(constants),
+        steps=tuple(steps),
+        real_form=do_real,
+    )
+
+
+def tidy(e: sp.Expr, constants: Sequence[sp.Symbol]) -> sp.Expr:
+    """Group a solution component by constant, then by exponential factor.
+
+    c_1 e^{-t}(cos 2t - 2 sin 2t) + ... reads better than the expanded sum and
+    is what a checker compares with a hand derivation.  (sympy's collect is
+    not used for the exponentials: it rewrites e^{-t/2} as 1/sqrt(e^t).)
+    """
+    e = sp.expand(e, power_exp=False)
+    groups: dict[tuple, dict[sp.Expr, list[sp.Expr]]] = {}
+    order: list[tuple] = []
+    for term in sp.Add.make_args(e):
+        factors = sp.Mul.make_args(term)
+        cs = tuple(f for f in factors if f in constants)
+        ex = sp.Mul(*[f for f in factors if isinstance(f, sp.exp)])
+        rest = sp.Mul(*[f for f in factors if f not in constants and not isinstance(f, sp.exp)])
+        if cs not in groups:
+            groups[cs] = {}
+            order.append(cs)
+        groups[cs].setdefault(ex, []).append(rest)
+    out = []
+    for cs in order:
+        inner = []
+        for ex, rests in groups[cs].items():
+            ex = ex.replace(lambda a: isinstance(a, sp.exp), lambda a: sp.exp(sp.factor_terms(a.args[0])))
+            inner.append(ex * sp.Add(*rests))
+        out.append(sp.Mul(*cs) * sp.Add(*inner))
+    return sp.Add(*out)
+
+
+def _block_of(layout: list[list[list[int]]], col: int) -> int:
+    for bi, chains in enumerate(layout):
+        for ch in chains:
+            if col in ch:
+                return bi
+    raise IndexError(col)

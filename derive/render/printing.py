@@ -1,0 +1,704 @@
+"""Mathematics as engineers read it: a sympy LaTeX printer and a plain printer.
+
+Every renderer prints sympy objects through this module and nowhere else, so
+the notation of a sheet is decided in one place:
+
+* ``Heaviside(t - a)`` is the unit step ``u(t - a)`` (sympy's ``theta`` reads
+  as an angle to an engineer);
+* ``DiracDelta(t - a)`` is ``delta(t - a)``;
+* ``exp`` with a long exponent is ``exp(...)`` rather than a tiny superscript;
+* an eigenvalue with no radical form (``CRootOf``) is printed by name,
+  ``lambda_k`` with k its position among the solution's eigenvalues, and the
+  polynomial is stated once in a legend with the decimals beside the names;
+* the imaginary unit is ``i`` or ``j`` (electrical engineers read ``j``).
+
+It also decides how long expressions and big matrices are broken so that a
+display never runs past the margin: sums are split at their top-level terms
+and a matrix too wide for one line is shown column by column or element by
+element.  Widths are estimated from the LaTeX source (``visible_width``);
+the estimate errs on the wide side because an overfull line is worse than an
+early break.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from typing import Any, Iterable, Mapping, Sequence
+
+import sympy as sp
+from sympy.printing.latex import LatexPrinter
+from sympy.printing.str import StrPrinter
+
+__all__ = [
+    "MathStyle",
+    "RootName",
+    "collect_roots",
+    "SheetLatexPrinter",
+    "PlainPrinter",
+    "MathFormatter",
+    "visible_width",
+    "root_legend_rows",
+    "format_decimal",
+    "tex_escape",
+    "tex_paragraphs",
+]
+
+
+# ---------------------------------------------------------------------------
+# User text
+
+
+_TEX_SPECIALS = {
+    "&": r"\&",
+    "%": r"\%",
+    "$": r"\$",
+    "#": r"\#",
+    "_": r"\_",
+    "{": r"\{",
+    "}": r"\}",
+    "~": r"\textasciitilde{}",
+    "^": r"\textasciicircum{}",
+    "\\": r"\textbackslash{}",
+}
+
+# pdflatex's utf8 input covers Latin-1 text; Greek letters are common in
+# engineers' descriptions ("damping ratio ζ") and would stop the run, so they
+# are set in math mode.  Anything else outside Latin-1 is shown by code point
+# rather than failing the whole sheet.
+_GREEK = {
+    "α": "alpha", "β": "beta", "γ": "gamma", "δ": "delta", "ε": "epsilon",
+    "ζ": "zeta", "η": "eta", "θ": "theta", "ι": "iota", "κ": "kappa",
+    "λ": "lambda", "μ": "mu", "ν": "nu", "ξ": "xi", "π": "pi", "ρ": "rho",
+    "σ": "sigma", "τ": "tau", "υ": "upsilon", "φ": "phi", "χ": "chi",
+    "ψ": "psi", "ω": "omega", "Γ": "Gamma", "Δ": "Delta", "Θ": "Theta",
+    "Λ": "Lambda", "Ξ": "Xi", "Π": "Pi", "Σ": "Sigma", "Φ": "Phi",
+    "Ψ": "Psi", "Ω": "Omega",
+}
+_TEXT_SYMBOLS = {
+    "–": "--", "—": "---", "‘": "`", "’": "'", "“": "``", "”": "''",
+    "…": r"\dots{}", "≤": r"\ensuremath{\leq}", "≥": r"\ensuremath{\geq}",
+    "≠": r"\ensuremath{\neq}", "≈": r"\ensuremath{\approx}",
+    "−": "-", "·": r"\ensuremath{\cdot}", "√": r"\ensuremath{\surd}",
+}
+
+
+def tex_escape(text: object) -> str:
+    """Escape user text for LaTeX: the ten specials, control characters, non-Latin-1.
+
+    Whitespace runs (including newlines) collapse to one space, so the result
+    is safe in a table cell or a header as well as in running text.
+
+    >>> tex_escape(r"50% of $x_1 \\input{a}")
+    '50\\\\% of \\\\$x\\\\_1 \\\\textbackslash{}input\\\\{a\\\\}'
+    """
+    out: list[str] = []
+    for ch in " ".join(str(text).split()):
+        if ch in _TEX_SPECIALS:
+            out.append(_TEX_SPECIALS[ch])
+        elif ch in _GREEK:
+            out.append(r"\ensuremath{\%s}" % _GREEK[ch])
+        elif ch in _TEXT_SYMBOLS:
+            out.append(_TEXT_SYMBOLS[ch])
+        elif ord(ch) < 32 or ord(ch) == 127:
+            continue
+        elif ord(ch) > 255:
+            out.append("[U+%04X]" % ord(ch))
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def tex_paragraphs(text: object) -> str:
+    """Escape user text keeping its blank-line paragraph breaks (as ``\\par``).
+
+    >>> tex_paragraphs("one\\n\\ntwo & three")
+    'one\\\\par two \\\\& three'
+    """
+    parts = [p for p in re.split(r"\n\s*\n", str(text)) if p.strip()]
+    return "\\par ".join(tex_escape(p) for p in parts)
+
+
+# ---------------------------------------------------------------------------
+# Settings and root names
+
+
+@dataclass(frozen=True)
+class MathStyle:
+    """How mathematics is printed and broken.  Widths are in glyphs (~5 pt each).
+
+    ``imaginary_unit`` is ``"i"`` or ``"j"``; ``exp_threshold`` is the exponent
+    width above which ``\\exp(...)`` replaces ``e^{...}``; ``line_width`` is
+    the width of one display line; ``terms_per_line`` caps the terms of a
+    broken sum on one line; a matrix is shown whole only with at most
+    ``max_matrix_cols`` columns, entries no wider than ``matrix_entry_width``
+    and rows no wider than ``line_width``.
+    """
+
+    imaginary_unit: str = "i"
+    exp_threshold: int = 10
+    line_width: int = 64
+    terms_per_line: int = 4
+    max_matrix_cols: int = 4
+    matrix_entry_width: int = 22
+    digits: int = 5
+    symbol_names: tuple[tuple[sp.Symbol, str], ...] = ()
+
+    def __post_init__(self) -> None:
+        if self.imaginary_unit not in ("i", "j"):
+            from ..errors import InputError
+
+            raise InputError(
+                f"imaginary_unit is {self.imaginary_unit!r}; expected 'i' or 'j'",
+                key="imaginary_unit",
+            )
+
+
+@dataclass(frozen=True)
+class RootName:
+    """An indexed root: the ``CRootOf`` object, its number and its decimal."""
+
+    root: sp.Expr
+    number: int  # lambda_<number>
+    decimal: str
+
+    def polynomial(self, lam: sp.Symbol) -> sp.Expr:
+        """The root's defining polynomial written in ``lam``."""
+        return self.root.poly.as_expr(lam)  # type: ignore[attr-defined]
+
+
+def _walk(obj: Any) -> Iterable[sp.Basic]:
+    """Every sympy object inside a nest of dataclasses, tuples and matrices."""
+    if isinstance(obj, sp.MatrixBase):
+        yield from obj
+    elif isinstance(obj, sp.Basic):
+        yield obj
+    elif isinstance(obj, (tuple, list)):
+        for item in obj:
+            yield from _walk(item)
+    elif hasattr(obj, "__dataclass_fields__"):
+        for name in obj.__dataclass_fields__:
+            yield from _walk(getattr(obj, name))
+
+
+def collect_roots(
+    eigenvalues: Sequence[sp.Expr], *others: Any, digits: int = 5
+) -> tuple[RootName, ...]:
+    """Name every ``CRootOf`` found: by position in ``eigenvalues``, else after them.
+
+    >>> x = sp.Symbol("x"); r = sp.CRootOf(x**3 - 3*x + 1, 0)
+    >>> collect_roots((sp.Integer(2), r))[0].number
+    2
+    """
+    names: dict[sp.Expr, int] = {}
+    for k, ev in enumerate(eigenvalues, start=1):
+        if isinstance(ev, sp.CRootOf) and ev not in names:
+            names[ev] = k
+    found: list[sp.Expr] = []
+    for obj in (eigenvalues, *others):
+        for node in _walk(obj):
+            for r in node.atoms(sp.CRootOf):
+                if r not in names and r not in found:
+                    found.append(r)
+    # Roots that are not eigenvalues are numbered after them in a stable order.
+    found.sort(key=lambda r: (sp.default_sort_key(r.poly.as_expr()), r.index))
+    nxt = max([len(eigenvalues), *names.values()], default=0)
+    for r in found:
+        nxt += 1
+        names[r] = nxt
+    return tuple(
+        RootName(root=r, number=k, decimal=format_decimal(r, digits=digits))
+        for r, k in sorted(names.items(), key=lambda item: item[1])
+    )
+
+
+# ---------------------------------------------------------------------------
+# Decimals
+
+
+def _float_text(value: float, digits: int, *, latex: bool) -> str:
+    if value == 0:
+        return "0"
+    text = f"{value:.{digits}g}"
+    if "e" in text:
+        mant, exp = text.split("e")
+        if latex:
+            return r"%s \times 10^{%d}" % (mant, int(exp))
+        return f"{mant}e{int(exp)}"
+    return text
+
+
+def format_decimal(
+    value: sp.Expr, *, digits: int = 5, unit: str = "i", latex: bool = False
+) -> str:
+    """A short decimal of an exact number, complex as ``a + b i``; "" if not numeric.
+
+    >>> format_decimal(sp.sqrt(2))
+    '1.4142'
+    >>> format_decimal(1 - 2*sp.I, unit="j")
+    '1 - 2 j'
+    """
+    expr = sp.sympify(value)
+    if not expr.is_number:
+        return ""
+    num = sp.N(expr, digits + 5)
+    re_, im_ = (float(part) for part in num.as_real_imag())
+    # Keep the display from showing round-off of an exact zero part.
+    scale = max(abs(re_), abs(im_))
+    if scale and abs(re_) < 10 ** (-digits - 3) * scale:
+        re_ = 0.0
+    if scale and abs(im_) < 10 ** (-digits - 3) * scale:
+        im_ = 0.0
+    if math.isnan(re_) or math.isnan(im_):
+        return ""
+    if im_ == 0:
+        return _float_text(re_, digits, latex=latex)
+    imag = _float_text(abs(im_), digits, latex=latex)
+    imag = unit if imag == "1" else f"{imag} {unit}"
+    if re_ == 0:
+        return f"-{imag}" if im_ < 0 else imag
+    sign = "-" if im_ < 0 else "+"
+    return f"{_float_text(re_, digits, latex=latex)} {sign} {imag}"
+
+
+# ---------------------------------------------------------------------------
+# Printers
+
+
+class SheetLatexPrinter(LatexPrinter):
+    """sympy's LaTeX printer with the sheet's notation (see the module docstring).
+
+    >>> t = sp.Symbol("t")
+    >>> SheetLatexPrinter().doprint(sp.Heaviside(t - 2))
+    'u\\\\left(t - 2\\\\right)'
+    """
+
+    _default_settings: dict[str, Any] = {
+        **LatexPrinter._default_settings,
+        "root_names": {},
+        "exp_threshold": 10,
+    }
+
+    def _print_Heaviside(self, expr: sp.Expr, exp: str | None = None) -> str:
+        tex = r"u\left(%s\right)" % self._print(expr.args[0])
+        if exp:
+            tex = r"\left(%s\right)^{%s}" % (tex, exp)
+        return tex
+
+    def _print_ExpBase(self, expr: sp.Expr, exp: str | None = None) -> str:
+        arg = self._print(expr.args[0])
+        if visible_width(arg) > self._settings["exp_threshold"]:
+            tex = r"\exp\left(%s\right)" % arg
+        else:
+            tex = r"e^{%s}" % arg
+        return self._do_exponent(tex, exp)
+
+    def _print_ComplexRootOf(self, root: sp.Expr) -> str:
+        number = self._settings["root_names"].get(root)
+        if number is not None:
+            return r"\lambda_{%d}" % number
+        # Not named by the sheet (a caller printing on its own): say it in full.
+        return r"\left[\text{root } %d \text{ of } %s = 0\right]" % (
+            root.index,  # type: ignore[attr-defined]
+            self._print(root.expr),  # type: ignore[attr-defined]
+        )
+
+
+class PlainPrinter(StrPrinter):
+    """sympy's str printer with the sheet's notation, for text and JSON-free output.
+
+    >>> t = sp.Symbol("t")
+    >>> PlainPrinter().doprint(sp.Heaviside(t - 2) + sp.I)
+    'u(t - 2) + i'
+    """
+
+    _default_settings: dict[str, Any] = {
+        **StrPrinter._default_settings,
+        "root_names": {},
+        "imaginary_unit": "i",
+    }
+
+    def _print_Heaviside(self, expr: sp.Expr) -> str:
+        return "u(%s)" % self._print(expr.args[0])
+
+    def _print_DiracDelta(self, expr: sp.Expr) -> str:
+        if len(expr.args) == 1 or expr.args[1] == 0:
+            return "delta(%s)" % self._print(expr.args[0])
+        return "delta^(%s)(%s)" % (self._print(expr.args[1]), self._print(expr.args[0]))
+
+    def _print_ImaginaryUnit(self, expr: sp.Expr) -> str:
+        return str(self._settings["imaginary_unit"])
+
+    def _print_ComplexRootOf(self, root: sp.Expr) -> str:
+        number = self._settings["root_names"].get(root)
+        if number is not None:
+            return "lambda_%d" % number
+        return "[root %d of %s = 0]" % (root.index, self._print(root.expr))  # type: ignore[attr-defined]
+
+    def _print_Exp1(self, expr: sp.Expr) -> str:
+        return "e"
+
+    def _print_Equality(self, expr: sp.Expr) -> str:
+        return "%s = %s" % (self._print(expr.lhs), self._print(expr.rhs))
+
+
+# ---------------------------------------------------------------------------
+# Width estimate
+
+
+def _group(tex: str, start: int) -> tuple[str, int]:
+    """The brace group starting at ``tex[start] == '{'`` and the index after it."""
+    depth = 0
+    for k in range(start, len(tex)):
+        ch = tex[k]
+        if ch == "\\":
+            continue
+        if ch == "{" and (k == 0 or tex[k - 1] != "\\"):
+            depth += 1
+        elif ch == "}" and tex[k - 1] != "\\":
+            depth -= 1
+            if depth == 0:
+                return tex[start + 1 : k], k + 1
+    return tex[start + 1 :], len(tex)
+
+
+_ZERO_WIDTH = re.compile(
+    r"\\(left|right|bigl|bigr|Bigl|Bigr|biggl|biggr|big|Big|bigg|Bigg"
+    r"|operatorname|mathrm|mathbf|mathit|mathbb|text|displaystyle|quad|qquad"
+    r"|,|;|!|\s)(?![A-Za-z])"
+)
+
+
+def visible_width(tex: str) -> int:
+    """Rough printed width of a LaTeX math string, in glyphs.
+
+    A fraction counts as its wider part, sub- and superscripts count fully
+    (an overestimate), ``\\left``/``\\right`` and spacing count nothing.
+
+    >>> visible_width(r"\\frac{a + b}{c}")
+    4
+    """
+    width = 0
+    k = 0
+    while k < len(tex):
+        if tex.startswith(r"\begin{bmatrix}", k):
+            end = tex.find(r"\end{bmatrix}", k)
+            end = len(tex) if end < 0 else end
+            body = tex[k + len(r"\begin{bmatrix}") : end]
+            rows = [row.split("&") for row in body.split(r"\\")]
+            ncols = max(len(row) for row in rows)
+            cols = [
+                max((visible_width(row[j]) for row in rows if j < len(row)), default=0)
+                for j in range(ncols)
+            ]
+            width += sum(cols) + 2 * ncols
+            k = end + len(r"\end{bmatrix}")
+            continue
+        if tex.startswith(r"\frac", k) or tex.startswith(r"\dfrac", k):
+            k = tex.index("{", k)
+            num, k = _group(tex, k)
+            while k < len(tex) and tex[k] == " ":
+                k += 1
+            den, k = (_group(tex, k) if k < len(tex) and tex[k] == "{" else ("", k))
+            width += max(visible_width(num), visible_width(den))
+            continue
+        m = _ZERO_WIDTH.match(tex, k)
+        if m:
+            k = m.end()
+            continue
+        if tex[k] == "\\":
+            m = re.compile(r"\\([A-Za-z]+|.)").match(tex, k)
+            assert m is not None
+            k = m.end()
+            width += 1
+            continue
+        if tex[k] in "{}^_& \t\n":
+            k += 1
+            continue
+        width += 2 if tex[k] in "+-=<>" else 1
+        k += 1
+    return width
+
+
+# ---------------------------------------------------------------------------
+# The formatter templates and renderers call
+
+
+def _as_expr(obj: Any) -> Any:
+    if isinstance(obj, (sp.Basic, sp.MatrixBase)):
+        return obj
+    if isinstance(obj, bool):
+        return obj
+    if isinstance(obj, int):
+        return sp.Integer(obj)
+    if isinstance(obj, str):
+        # Never parse user text: a string here is already LaTeX from the caller.
+        return obj
+    return obj
+
+
+@dataclass(frozen=True)
+class MathFormatter:
+    """Prints expressions and matrices for one rendering of one solution.
+
+    It is built once per render with the roots of that solution, so the same
+    ``CRootOf`` has the same name everywhere in the sheet.
+
+    >>> fmt = MathFormatter.for_roots(())
+    >>> fmt.m(sp.Rational(1, 2))
+    '\\\\frac{1}{2}'
+    """
+
+    style: MathStyle
+    roots: tuple[RootName, ...]
+    latex_printer: SheetLatexPrinter
+    plain_printer: PlainPrinter
+
+    @classmethod
+    def for_roots(
+        cls, roots: Sequence[RootName], *, style: MathStyle | None = None
+    ) -> "MathFormatter":
+        """A formatter that names ``roots``; ``style`` defaults to ``MathStyle()``."""
+        style = style or MathStyle()
+        names = {r.root: r.number for r in roots}
+        symbol_names = dict(style.symbol_names)
+        latex_printer = SheetLatexPrinter(
+            {
+                "imaginary_unit": style.imaginary_unit,
+                "mat_str": "bmatrix",
+                "mat_delim": "",
+                "root_names": names,
+                "exp_threshold": style.exp_threshold,
+                "symbol_names": symbol_names,
+            }
+        )
+        plain_printer = PlainPrinter({"root_names": names, "imaginary_unit": style.imaginary_unit})
+        return cls(style=style, roots=tuple(roots), latex_printer=latex_printer, plain_printer=plain_printer)
+
+    # -- single objects ---------------------------------------------------
+
+    def m(self, obj: Any) -> str:
+        """LaTeX of an expression or matrix (inline)."""
+        obj = _as_expr(obj)
+        if isinstance(obj, str):
+            return obj
+        return self.latex_printer.doprint(obj)
+
+    def plain(self, obj: Any) -> str:
+        """One-line plain text of an expression (matrices as nested lists)."""
+        obj = _as_expr(obj)
+        if isinstance(obj, str):
+            return obj
+        if isinstance(obj, sp.MatrixBase):
+            return "[" + "; ".join(
+                ", ".join(self.plain_printer.doprint(obj[i, j]) for j in range(obj.cols))
+                for i in range(obj.rows)
+            ) + "]"
+        return self.plain_printer.doprint(obj)
+
+    def decimal(self, obj: Any, *, latex: bool = True) -> str:
+        """Decimal of a number in the style's digits ("" when not numeric)."""
+        return format_decimal(obj, digits=self.style.digits, unit=self.style.imaginary_unit, latex=latex)
+
+    def root_value(self, obj: Any) -> str:
+        """An eigenvalue as LaTeX; an indexed root with its decimal (``\\lambda_3 \\approx -1.5``)."""
+        tex = self.m(obj)
+        if isinstance(obj, sp.Basic) and obj.has(sp.CRootOf):
+            dec = self.decimal(obj)
+            if dec:
+                tex += r" \approx " + dec
+        return tex
+
+    def root_value_plain(self, obj: Any) -> str:
+        """Plain text of an eigenvalue; an indexed root with its decimal."""
+        text = self.plain(obj)
+        if isinstance(obj, sp.Basic) and obj.has(sp.CRootOf):
+            dec = self.decimal(obj, latex=False)
+            if dec:
+                text += " ~ " + dec
+        return text
+
+    # -- breaking long sums ----------------------------------------------
+
+    def _signed_terms(self, expr: sp.Expr) -> list[tuple[str, str]]:
+        """Top-level terms of a sum as (sign, LaTeX), in the printer's order."""
+        p = self.latex_printer
+        terms = p._as_ordered_terms(expr, order=None)
+        out: list[tuple[str, str]] = []
+        for i, term in enumerate(terms):
+            sign = "+"
+            if term.could_extract_minus_sign():
+                sign = "-"
+                term = -term
+            tex = p._print(term)
+            if p._needs_add_brackets(term):
+                tex = r"\left(%s\right)" % tex
+            out.append((sign, tex))
+        return out
+
+    def _pack(self, pieces: list[tuple[str, str]], first_width: int) -> list[str]:
+        """Greedy lines of signed pieces within the line width and term cap."""
+        lines: list[str] = []
+        current = ""
+        count = 0
+        budget = max(self.style.line_width - first_width, 20)
+        for idx, (sign, tex) in enumerate(pieces):
+            if idx == 0:
+                chunk = tex if sign == "+" else f"-{tex}"
+            else:
+                chunk = f"{sign} {tex}"
+            if current and (
+                visible_width(current) + visible_width(chunk) > budget
+                or count >= self.style.terms_per_line
+            ):
+                lines.append(current)
+                current, count = "", 0
+                # continuation lines are indented by a quad in the align
+                budget = max(self.style.line_width - 4, 20)
+            current = f"{current} {chunk}" if current else chunk
+            count += 1
+        if current:
+            lines.append(current)
+        return lines
+
+    def split(self, obj: Any, *, lead: int = 0) -> list[str]:
+        """An expression as one or more LaTeX lines; continuation lines start with a sign.
+
+        ``lead`` is the width already used on the first line (the left side).
+        """
+        obj = _as_expr(obj)
+        if isinstance(obj, str):
+            return [obj]
+        whole = self.m(obj)
+        if isinstance(obj, sp.MatrixBase) or visible_width(whole) + lead <= self.style.line_width:
+            return [whole]
+        if isinstance(obj, sp.Add):
+            return self._pack(self._signed_terms(obj), lead)
+        if isinstance(obj, sp.Mul):
+            # c * (long sum): break the sum inside big brackets.  \biggl( and
+            # \biggr) need no partner on the same align row, unlike \left.
+            adds = [f for f in obj.args if isinstance(f, sp.Add)]
+            if adds:
+                big = max(adds, key=lambda f: visible_width(self.m(f)))
+                rest = sp.Mul(*[f for f in obj.args if f is not big])
+                if rest == 1:
+                    coeff = ""
+                elif rest.could_extract_minus_sign():
+                    coeff = "-" if rest == -1 else "-" + self.m(-rest)
+                else:
+                    coeff = self.m(rest)
+                inner = self._pack(self._signed_terms(big), lead + visible_width(coeff) + 2)
+                if len(inner) > 1:
+                    inner[0] = coeff + r" \biggl(" + inner[0]
+                    inner[-1] = inner[-1] + r" \biggr)"
+                    return inner
+        return [whole]
+
+    def equation_rows(self, rows: Sequence[tuple[str, Any]], *, relation: str = "=") -> str:
+        """Rows ``lhs = rhs`` as the body of an ``align*`` (rhs split when long)."""
+        out: list[str] = []
+        for lhs, rhs in rows:
+            lhs_tex = lhs if isinstance(lhs, str) else self.m(lhs)
+            rel = relation
+            if isinstance(rhs, tuple) and len(rhs) == 2 and isinstance(rhs[0], str) and rhs[0] in ("=", r"\approx", r"\neq", r"\ne"):
+                rel, rhs = rhs
+            lines = self.split(rhs, lead=visible_width(lhs_tex) + 2)
+            out.append(f"{lhs_tex} &{rel} {lines[0]}")
+            for line in lines[1:]:
+                out.append(rf"&\quad {line}")
+        return " \\\\\n".join(out)
+
+    def display(self, rows: Sequence[tuple[str, Any]], *, relation: str = "=") -> str:
+        """A displayed group of equations (``align*``), long sides broken."""
+        if not rows:
+            return ""
+        return "\\begin{align*}\n" + self.equation_rows(rows, relation=relation) + "\n\\end{align*}"
+
+    # -- matrices -----------------------------------------------------------
+
+    def matrix_fits(self, M: sp.MatrixBase, *, lead: int = 0) -> bool:
+        """True when ``M`` can be printed as one bracketed matrix on one line."""
+        if M.cols > self.style.max_matrix_cols and M.cols > 1:
+            return False
+        widths = [[visible_width(self.m(M[i, j])) for j in range(M.cols)] for i in range(M.rows)]
+        if any(w > self.style.matrix_entry_width for row in widths for w in row):
+            return False
+        col_widths = [max((widths[i][j] for i in range(M.rows)), default=0) for j in range(M.cols)]
+        return lead + sum(col_widths) + 3 * M.cols <= self.style.line_width
+
+    def element_name(self, name: str, i: int, j: int | None) -> str:
+        """``name_{ij}`` for an entry, bracketing a name that has a superscript."""
+        base = rf"\left({name}\right)" if ("^" in name or "_" in name) else name
+        if j is None:
+            return f"{base}_{{{i}}}"
+        sep = "," if max(i, j) > 9 else ""
+        return f"{base}_{{{i}{sep}{j}}}"
+
+    def matrix_rows(self, name: str, M: sp.MatrixBase) -> str:
+        """``align*`` rows showing ``M`` whole, by columns or element by element."""
+        lead = visible_width(name) + 2
+        if self.matrix_fits(M, lead=lead):
+            return f"{name} &= {self.m(M)}"
+        rows: list[tuple[str, Any]] = []
+        col_lead = visible_width(name) + 8
+        if M.cols > 1 and all(self.matrix_fits(M[:, j], lead=col_lead) for j in range(M.cols)):
+            # Columns side by side, as many per row as the line holds.
+            lines: list[str] = []
+            current: list[str] = []
+            used = 0
+            for j in range(M.cols):
+                piece = rf"\operatorname{{col}}_{{{j + 1}}} {name} = {self.m(M[:, j])}"
+                width = visible_width(piece) + 3
+                if current and used + width > self.style.line_width:
+                    lines.append(r",\quad ".join(current))
+                    current, used = [], 0
+                current.append(piece)
+                used += width
+            if current:
+                lines.append(r",\quad ".join(current))
+            return " \\\\\n".join("&" + line for line in lines)
+        zeros = 0
+        for i in range(M.rows):
+            for j in range(M.cols):
+                if M[i, j] == 0:
+                    zeros += 1
+                    continue
+                rows.append((self.element_name(name, i + 1, j + 1 if M.cols > 1 else None), M[i, j]))
+        if not rows:
+            return f"{name} &= 0"
+        text = self.equation_rows(rows)
+        if zeros:
+            text += r" \\" + "\n" + r"&\text{all other entries of } " + name + r" \text{ are } 0"
+        return text
+
+    def matrix_display(self, name: str, M: sp.MatrixBase) -> str:
+        """A displayed matrix, broken into columns or elements when too wide."""
+        return "\\begin{align*}\n" + self.matrix_rows(name, M) + "\n\\end{align*}"
+
+    def vector_components(
+        self, names: Sequence[str], v: sp.MatrixBase
+    ) -> str:
+        """Each component ``name_i = v_i`` on its own row (long ones broken)."""
+        return self.display([(n, v[i]) for i, n in enumerate(names)])
+
+    def plain_matrix(self, M: sp.MatrixBase, *, indent: int = 0) -> list[str]:
+        """Rows of a matrix as aligned plain-text lines ``[ a  b ]``."""
+        cells = [[self.plain(M[i, j]) for j in range(M.cols)] for i in range(M.rows)]
+        widths = [max((len(cells[i][j]) for i in range(M.rows)), default=0) for j in range(M.cols)]
+        pad = " " * indent
+        return [
+            pad + "[ " + "  ".join(cells[i][j].rjust(widths[j]) for j in range(M.cols)) + " ]"
+            for i in range(M.rows)
+        ]
+
+
+def root_legend_rows(roots: Sequence[RootName]) -> list[tuple[sp.Expr, tuple[RootName, ...]]]:
+    """Indexed roots grouped by their polynomial, in order of first appearance."""
+    groups: dict[Any, list[RootName]] = {}
+    polys: dict[Any, sp.Expr] = {}
+    for r in roots:
+        key = r.root.poly  # type: ignore[attr-defined]
+        groups.setdefault(key, []).append(r)
+        polys[key] = r.root
+    return [(polys[k], tuple(v)) for k, v in groups.items()]

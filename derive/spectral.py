@@ -1,0 +1,750 @@
+"""Exact eigen- and Jordan decomposition driven by the factored characteristic polynomial.
+
+Why this route rather than ``Matrix.eigenvects`` or ``jordan_form``: those
+work on one concrete root at a time, in sympy's expression domain, and on a
+3x3 whose characteristic polynomial is an irreducible cubic they can run for
+minutes.  Here the characteristic polynomial is computed and factored over the
+coefficient field K (the rationals, or the rational functions of the
+parameters) in milliseconds, and every irreducible factor q of degree d is
+handled once, in the field F = K[lam]/(q(lam)): the null spaces, Jordan
+chains and left (dual) vectors are computed there exactly, as polynomials in
+a generic root lam, and only then instantiated at each of the d concrete roots
+(radicals, or indexed roots when radicals are unusable).  Conjugate roots thus
+get conjugate vectors by construction.
+
+P^-1 is assembled from the dual bases of the generalised eigenspaces: for the
+block of lam, with V the chain vectors and L a basis of the left generalised
+eigenspace, W = (L V)^-1 L.  A V = V J, W A = J W and W V = I are checked in
+F; with disjoint spectra they imply P J P^-1 = A exactly.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+import sympy as sp
+from sympy.polys.agca.extensions import FiniteExtension
+from sympy.polys.constructor import construct_domain
+from sympy.polys.matrices import DomainMatrix
+
+from .errors import UnsupportedError
+from .model import Condition
+from .steps import (
+    ChainLink,
+    CharPolyStep,
+    EigenvalueEntry,
+    EigenvaluesStep,
+    EigenvectorStep,
+    InverseStep,
+    JordanChainStep,
+    ModalMatrixStep,
+    SimilarityStep,
+    Step,
+)
+
+__all__ = ["LAM", "Decomposition", "EigenBlock", "decompose", "RADICAL_OPS_LIMIT"]
+
+#: The eigenvalue variable shown on the sheet.
+LAM = sp.Symbol("lambda")
+
+#: Size rule: a cubic or quartic root whose radical form needs more operations
+#: than this is kept as an indexed root of its polynomial (with a decimal).
+RADICAL_OPS_LIMIT = 40
+
+_TH = sp.Dummy("theta")  # generic root inside F = K[theta]/(q)
+
+
+@dataclass(frozen=True)
+class EigenBlock:
+    """One concrete eigenvalue with its Jordan chains and dual rows.
+
+    ``chains`` are the columns of P for this eigenvalue (v_1 first in each
+    chain); ``left`` the matching rows of P^-1.  ``kind`` is "real",
+    "complex" or "unknown" (sign of a discriminant in the parameters unknown).
+    """
+
+    value: sp.Expr
+    chains: tuple[tuple[sp.ImmutableMatrix, ...], ...]
+    left: tuple[sp.ImmutableMatrix, ...]
+    algebraic: int
+    geometric: int
+    factor: sp.Expr
+    form: str
+    rule: str
+    decimal: str
+    kind: str
+    numeric: complex | None
+
+
+@dataclass(frozen=True)
+class Decomposition:
+    """A = P J P^-1 with the blocks in column order and the steps that led there."""
+
+    A: sp.ImmutableMatrix
+    lam: sp.Symbol
+    charpoly: sp.Expr  # det(A - lam I), expanded
+    factored: sp.Expr
+    blocks: tuple[EigenBlock, ...]
+    P: sp.ImmutableMatrix
+    J: sp.ImmutableMatrix
+    P_inv: sp.ImmutableMatrix
+    column_eigenvalues: tuple[sp.Expr, ...]
+    jordan_blocks: tuple[tuple[sp.Expr, int], ...]  # (eigenvalue, size) in column order
+    diagonalizable: bool
+    steps: tuple[Step, ...]
+    conditions: tuple[Condition, ...]
+
+
+# ---------------------------------------------------------------------------
+# fields and conversions
+
+
+@dataclass(frozen=True)
+class _Field:
+    """K, or K[theta]/(q) for an irreducible factor of degree >= 2."""
+
+    dom: object
+    K: object
+    q: sp.Poly | None  # monic, in _TH over K; None when the root lies in K
+    root: sp.Expr | None  # the root itself when it lies in K
+
+    def to_expr(self, e, lam: sp.Symbol | None = None) -> sp.Expr:
+        x = self.dom.to_sympy(e)
+        if self.q is not None and lam is not None:
+            x = x.subs(_TH, lam)
+        return x
+
+    def from_expr(self, x: sp.Expr):
+        return self.dom.from_sympy(sp.sympify(x))
+
+
+def _coefficient_domain(entries: Sequence[sp.Expr]):
+    try:
+        dom, _ = construct_domain(list(entries), field=True, extension=True)
+    except Exception as exc:  # pragma: no cover - sympy internals
+        raise UnsupportedError(f"the matrix entries do not lie in a field sympy can compute in exactly: {exc}")
+    if dom.is_EX or dom.is_EXRAW:
+        raise UnsupportedError(
+            "the matrix mixes algebraic numbers and parameters in a way that has no exact "
+            "coefficient field here; use rational entries or declared parameters",
+        )
+    return dom
+
+
+def _dm(M: sp.Matrix, dom) -> DomainMatrix:
+    rows = [[dom.from_sympy(sp.sympify(e)) for e in M.row(i)] for i in range(M.rows)]
+    return DomainMatrix(rows, M.shape, dom)
+
+
+def _to_matrix(M: DomainMatrix, fld: _Field, lam: sp.Symbol | None = None) -> sp.ImmutableMatrix:
+    rows, cols = M.shape
+    dense = M.to_dense().rep.to_ddm()
+    return sp.ImmutableMatrix(rows, cols, [fld.to_expr(dense[i][j], lam) for i in range(rows) for j in range(cols)])
+
+
+def _column(vals, dom) -> DomainMatrix:
+    return DomainMatrix([[v] for v in vals], (len(vals), 1), dom)
+
+
+def _cols_to_dm(cols: Sequence[DomainMatrix], dom, n: int) -> DomainMatrix:
+    if not cols:
+        return DomainMatrix.zeros((n, 0), dom)
+    out = cols[0]
+    for c in cols[1:]:
+        out = out.hstack(c)
+    return out
+
+
+def _rref(M: DomainMatrix) -> tuple[DomainMatrix, tuple[int, ...]]:
+    """Gauss-Jordan over a field.  The fraction-free variants sympy picks by
+    default divide in the underlying polynomial ring, which is wrong for
+    K[theta]/(q); plain Gauss-Jordan only ever inverts field elements."""
+    R, pivots = M.to_dense().rref(method="GJ")
+    return R, tuple(pivots)
+
+
+def _rank(cols: Sequence[DomainMatrix], dom, n: int) -> int:
+    if not cols:
+        return 0
+    return len(_rref(_cols_to_dm(cols, dom, n))[1])
+
+
+def _nullspace_cols(M: DomainMatrix) -> list[DomainMatrix]:
+    R, pivots = _rref(M)
+    rows, n = M.shape
+    dense = R.rep.to_ddm()
+    dom = M.domain
+    out = []
+    for f in range(n):
+        if f in pivots:
+            continue
+        vals = [dom.zero] * n
+        vals[f] = dom.one
+        for i, p in enumerate(pivots):
+            vals[p] = -dense[i][f]
+        out.append(_column(vals, dom))
+    return out
+
+
+def _inv(M: DomainMatrix) -> DomainMatrix:
+    n = M.shape[0]
+    dom = M.domain
+    R, pivots = _rref(M.hstack(DomainMatrix.eye(n, dom).to_dense()))
+    if pivots[:n] != tuple(range(n)):
+        raise ZeroDivisionError("singular matrix")
+    dense = R.rep.to_ddm()
+    return DomainMatrix([row[n:] for row in dense], (n, n), dom)
+
+
+# ---------------------------------------------------------------------------
+# characteristic polynomial and its factors
+
+
+def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
+    n = A.rows
+    coeffs = _dm(A, dom).charpoly()  # det(lam I - A), monic
+    mono = sp.Add(*[dom.to_sympy(c) * lam ** (n - i) for i, c in enumerate(coeffs)])
+    expanded = sp.expand((-1) ** n * mono)  # det(A - lam I), as on the sheet
+    num, den = sp.fraction(sp.together(mono))
+    gens = [lam] + sorted((num.free_symbols | den.free_symbols) - {lam}, key=sp.default_sort_key)
+    if dom.is_Algebraic:
+        lc, fl = sp.factor_list(num, lam, extension=list(dom.orig_ext))
+    else:
+        lc, fl = sp.factor_list(num, *gens)
+    const = lc / den
+    factors = []
+    for fexpr, mult in fl:
+        if not fexpr.has(lam):
+            const *= fexpr**mult
+            continue
+        factors.append((fexpr, mult))
+    # det(A - lam I) = (-1)^n * const * prod(factor^mult)
+    sign_const = sp.factor((-1) ** n * const)
+    factored = sp.Mul(sign_const, *[f**m for f, m in factors], evaluate=False) if sign_const != 1 else sp.Mul(*[f**m for f, m in factors])
+    return expanded, factored, factors
+
+
+def _roots_of(q: sp.Poly, lam: sp.Symbol, has_params: bool) -> tuple[list[sp.Expr], str, str]:
+    """The roots of an irreducible factor, in the form the size rule picks."""
+    d = q.degree()
+    if d == 1:
+        c1, c0 = q.all_coeffs()
+        return [sp.cancel(-c0 / c1)], ("exact" if has_params else "rational"), ""
+    if d == 2:
+        a, b, c = q.all_coeffs()
+        disc = sp.factor(b**2 - 4 * a * c)
+        if disc.is_negative:
+            s = sp.I * sp.sqrt(sp.factor(-disc))
+        else:
+            s = sp.sqrt(disc)
+        r1 = (-b + s) / (2 * a)
+        r2 = (-b - s) / (2 * a)
+        return [sp.expand(r1) if not has_params else r1, sp.expand(r2) if not has_params else r2], "radical", ""
+    if has_params:
+        raise UnsupportedError(
+            f"the characteristic polynomial has an irreducible factor of degree {d} with "
+            f"symbolic coefficients ({q.as_expr()}); give the parameters numeric values or "
+            "choose a parameter relation that splits it",
+        )
+    if d >= 5:
+        roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
+        return roots, "indexed root", f"irreducible factor of degree {d} (>= 5): no general radical form"
+    if d == 3:
+        a, b, c, e = q.all_coeffs()
+        disc = b**2 * c**2 - 4 * a * c**3 - 4 * b**3 * e - 27 * a**2 * e**2 + 18 * a * b * c * e
+        if disc > 0:
+            roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
+            return roots, "indexed root", (
+                "three real roots (casus irreducibilis): radicals would need complex cube roots"
+            )
+    rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
+    if len(rad) == d:
+        ops = max(sp.count_ops(r) for r in rad)
+        if ops <= RADICAL_OPS_LIMIT:
+            return [sp.expand(r) for r in rad], "radical", f"radical form within the size limit ({ops} <= {RADICAL_OPS_LIMIT} operations)"
+        rule = f"radical form needs {ops} operations, above the limit of {RADICAL_OPS_LIMIT}"
+    else:
+        rule = "no radical form found"
+    roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
+    return roots, "indexed root", rule
+
+
+# ---------------------------------------------------------------------------
+# chains in one field
+
+
+def _jordan_chains(N: DomainMatrix, mult: int, n: int) -> tuple[list[list[DomainMatrix]], list[list[DomainMatrix]]]:
+    """Jordan chains of N = A - lam I for an eigenvalue of algebraic multiplicity ``mult``.
+
+    Top-down: with K_j = ker N^j, pick at each level vectors of K_j that are
+    independent of K_{j-1} and of the vectors longer chains already put on
+    that level; each such w starts the chain N^{j-1} w, ..., N w, w.
+    Returns (chains, kernel bases by level).
+    """
+    dom = N.domain
+    kernels: list[list[DomainMatrix]] = []
+    power = N
+    while True:
+        basis = _nullspace_cols(power)
+        kernels.append(basis)
+        if len(basis) >= mult or len(kernels) > mult:
+            break
+        power = power * N
+    s = len(kernels)
+    chains: list[list[DomainMatrix]] = []
+    for level in range(s, 0, -1):
+        below = kernels[level - 2] if level >= 2 else []
+        occupied = [ch[level - 1] for ch in chains if len(ch) >= level]
+        chosen: list[DomainMatrix] = []
+        current = _rank(below + occupied, dom, n)
+        for w in kernels[level - 1]:
+            r = _rank(below + occupied + chosen + [w], dom, n)
+            if r > current:
+                chosen.append(w)
+                current = r
+        for w in chosen:
+            chain = [w]
+            for _ in range(level - 1):
+                chain.insert(0, N * chain[0])
+            chains.append(chain)
+    chains.sort(key=lambda ch: -len(ch))
+    return chains, kernels
+
+
+def _normalise_chain(chain: list[DomainMatrix], fld: _Field) -> list[DomainMatrix]:
+    """Divide a chain by one of its v_1 entries (an element of F), choosing the
+    entry that gives the shortest expressions: for a companion-like matrix this
+    turns (3 lam^2 - lam - 9, 3 - lam^2, -1) into (1, lam, lam^2)."""
+    dom = fld.dom
+    first = chain[0].to_dense().rep.to_ddm()
+    best, best_size = chain, None
+    for row in first:
+        e = row[0]
+        if e == dom.zero:
+            continue
+        inv = dom.one / e
+        cand = [v * inv for v in chain]
+        size = sum(sp.count_ops(fld.to_expr(x[0])) for v in cand for x in v.to_dense().rep.to_ddm())
+        if best_size is None or size < best_size:
+            best, best_size = cand, size
+    return best
+
+
+def _scale_chain(chain: list[sp.ImmutableMatrix], gen: sp.Symbol | None) -> list[sp.ImmutableMatrix]:
+    """Scale a whole chain by one factor so its entries are small and integral.
+
+    One factor for the chain keeps (A - lam I) v_{k+1} = v_k intact.
+    """
+    entries = [sp.cancel(e) for v in chain for e in v if e != 0]
+    if not entries:
+        return chain
+    dens = [sp.fraction(e)[1] for e in entries]
+    L = sp.lcm_list(dens) if len(dens) > 1 else dens[0]
+    nums = [sp.expand(sp.cancel(e * L)) for e in entries]
+    coeffs: list[sp.Expr] = []
+    for num in nums:
+        if gen is not None and num.has(gen):
+            coeffs.extend(sp.Poly(num, gen).coeffs())
+        else:
+            coeffs.append(num)
+    G = sp.gcd_list(coeffs) if len(coeffs) > 1 else coeffs[0]
+    if G == 0:
+        G = sp.Integer(1)
+    factor = sp.cancel(L / G)
+    # sign: first nonzero entry of v_1 positive where that can be decided
+    first = next((e for e in chain[0] if e != 0), None)
+    if first is not None:
+        lead = sp.cancel(first * factor)
+        if gen is not None and lead.has(gen):
+            lead = sp.Poly(lead, gen).LC()
+        if lead.could_extract_minus_sign():
+            factor = -factor
+    return [sp.ImmutableMatrix(v.applyfunc(lambda e: sp.expand(sp.cancel(e * factor)))) for v in chain]
+
+
+def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None, *, radical: bool) -> sp.Expr:
+    if gen is None:
+        return expr
+    val = expr.subs(gen, root)
+    if radical:
+        return sp.expand(val)
+    return sp.expand(val)
+
+
+def _numeric(value: sp.Expr, subs: dict) -> complex | None:
+    try:
+        v = complex(sp.N(value.subs(subs), 30))
+    except (TypeError, ValueError):
+        return None
+    return v
+
+
+def _decimal(value: sp.Expr, subs: dict) -> str:
+    if value.is_Rational:
+        return str(value) if value.q == 1 else f"{float(value):.6g}"
+    v = _numeric(value, subs)
+    if v is None:
+        return ""
+    if abs(v.imag) < 1e-14 * max(1.0, abs(v.real)):
+        return f"{v.real:.6g}"
+    sign = "+" if v.imag >= 0 else "-"
+    return f"{v.real:.6g} {sign} {abs(v.imag):.6g}i"
+
+
+def _kind(value: sp.Expr, num: complex | None) -> str:
+    r = value.is_real
+    if r is True:
+        return "real"
+    if r is False:
+        return "complex"
+    if isinstance(value, sp.CRootOf) and num is not None:
+        return "real" if value.is_real else "complex"
+    return "unknown"
+
+
+def _mat_expr(rows: Sequence[Sequence[sp.Expr]]) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix(rows)
+
+
+# ---------------------------------------------------------------------------
+# the decomposition
+
+
+def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None) -> Decomposition:
+    """Exact P, J (D when diagonalisable) and P^-1 of a square matrix, with steps.
+
+    >>> dec = decompose(sp.Matrix([[2, 1], [1, 2]]))
+    >>> dec.column_eigenvalues
+    (1, 3)
+
+    ``values`` maps parameters to numbers, used only to order eigenvalues and
+    print decimals.
+    """
+    A = sp.ImmutableMatrix(A)
+    n = A.rows
+    values = dict(values or {})
+    dom = _coefficient_domain(list(A))
+    K = dom
+    params = sorted(A.free_symbols, key=sp.default_sort_key)
+    has_params = bool(params)
+    expanded, factored, factors = _factor_charpoly(A, K, lam)
+    steps: list[Step] = [
+        CharPolyStep(
+            lam=lam,
+            shifted=sp.ImmutableMatrix(A - lam * sp.eye(n)),
+            expanded=expanded,
+            factored=factored,
+            factors=tuple((f, m) for f, m in factors),
+            domain=str(K),
+        )
+    ]
+    A_K = _dm(A, K)
+    blocks: list[EigenBlock] = []
+    vector_steps: list[Step] = []
+    chain_steps: list[Step] = []
+    field_ok = True
+
+    for fexpr, mult in factors:
+        q_lam = sp.Poly(fexpr, lam, domain=K)
+        q_monic = q_lam.monic()
+        roots, form, rule = _roots_of(q_lam, lam, has_params)
+        d = q_lam.degree()
+        if d == 1:
+            root = roots[0]
+            fld = _Field(dom=K, K=K, q=None, root=root)
+            theta = K.from_sympy(root)
+            gen = None
+            Fdom = K
+        else:
+            q_th = sp.Poly(q_monic.as_expr().subs(lam, _TH), _TH, domain=K)
+            Fdom = FiniteExtension(q_th)
+            fld = _Field(dom=Fdom, K=K, q=q_th, root=None)
+            theta = Fdom.convert(_TH)
+            gen = _TH
+        A_F = A_K if Fdom is K else _dm(A, Fdom)
+        N = A_F - DomainMatrix.eye(n, Fdom) * theta
+        chains_F, kernels = _jordan_chains(N, mult, n)
+        geometric = len(kernels[0])
+        if sum(len(c) for c in chains_F) != mult:
+            raise UnsupportedError(
+                f"internal: the chains of the factor {fexpr} span {sum(len(c) for c in chains_F)} "
+                f"dimensions, expected {mult}",
+            )
+        # chains as expressions in the generic root, scaled to small integers
+        chains_expr = []
+        for ch in chains_F:
+            if gen is not None:
+                ch = _normalise_chain(ch, fld)
+            vecs = [_to_matrix(v, fld) for v in ch]
+            chains_expr.append(_scale_chain(vecs, gen))
+        chains_F = [[_column([fld.from_expr(e) for e in v], Fdom) for v in ch] for ch in chains_expr]
+        V = _cols_to_dm([v for ch in chains_F for v in ch], Fdom, n)
+        # left generalised eigenspace and the dual rows
+        s = max(len(ch) for ch in chains_F)
+        Nt = N.transpose()
+        Pw = Nt
+        for _ in range(s - 1):
+            Pw = Pw * Nt
+        left_cols = _nullspace_cols(Pw)
+        L = _cols_to_dm(left_cols, Fdom, n).transpose()  # m x n
+        W = _inv(L * V) * L
+        # J for this eigenvalue, then the exact checks in F
+        m = mult
+        Jrows = [[Fdom.zero] * m for _ in range(m)]
+        pos = 0
+        for ch in chains_F:
+            for i in range(len(ch)):
+                Jrows[pos + i][pos + i] = theta
+                if i + 1 < len(ch):
+                    Jrows[pos + i][pos + i + 1] = Fdom.one
+            pos += len(ch)
+        Jloc = DomainMatrix(Jrows, (m, m), Fdom)
+        ok = (
+            (A_F * V - V * Jloc).is_zero_matrix
+            and (W * A_F - Jloc * W).is_zero_matrix
+            and (W * V - DomainMatrix.eye(m, Fdom).to_dense()).is_zero_matrix
+        )
+        field_ok = field_ok and ok
+
+        # the eigenvector step, for the generic root (or the single root)
+        show_lam = lam if gen is not None else None
+        rref, pivots = _rref(N)
+        basis_expr = tuple(
+            sp.ImmutableMatrix(v.subs(_TH, lam)) if gen is not None else v
+            for v in (_scale_chain([_to_matrix(b, fld)], gen)[0] for b in kernels[0])
+        ) if geometric < mult else tuple(
+            sp.ImmutableMatrix(ch[0].subs(_TH, lam)) if gen is not None else ch[0] for ch in chains_expr
+        )
+        W_expr = _to_matrix(W, fld)
+        instances = []
+        for root in roots:
+            radical = form == "radical"
+            inst_chains = tuple(
+                tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen, radical=radical))) for v in ch)
+                for ch in chains_expr
+            )
+            inst_left = tuple(
+                sp.ImmutableMatrix(1, n, [_instantiate(e, root, gen, radical=radical) for e in W_expr.row(i)])
+                for i in range(W_expr.rows)
+            )
+            num = _numeric(root, values)
+            blocks.append(
+                EigenBlock(
+                    value=root,
+                    chains=inst_chains,
+                    left=inst_left,
+                    algebraic=mult,
+                    geometric=geometric,
+                    factor=fexpr,
+                    form=form,
+                    rule=rule,
+                    decimal=_decimal(root, values),
+                    kind=_kind(root, num),
+                    numeric=num,
+                )
+            )
+            eig_basis = tuple(ch[0] for ch in inst_chains) if geometric == mult else tuple(
+                sp.ImmutableMatrix(b.applyfunc(lambda e: _instantiate(e.subs(lam, _TH) if gen is not None else e, root, gen, radical=radical)))
+                for b in basis_expr
+            )
+            instances.append((root, eig_basis))
+        vector_steps.append(
+            EigenvectorStep(
+                lam=lam,
+                eigenvalue=roots[0] if gen is None else lam,
+                root_of=None if gen is None else fexpr,
+                shifted=_to_matrix(N, fld, show_lam),
+                rref=_to_matrix(rref, fld, show_lam),
+                pivots=tuple(pivots),
+                free=tuple(j for j in range(n) if j not in pivots),
+                basis=basis_expr,
+                algebraic=mult,
+                instances=tuple(instances),
+            )
+        )
+        for ch_F, ch_expr in zip(chains_F, chains_expr):
+            if len(ch_F) < 2:
+                continue
+            links = []
+            for k in range(len(ch_F) - 1):
+                aug = N.hstack(ch_F[k])
+                aug_rref, _ = _rref(aug)
+                links.append(
+                    ChainLink(
+                        rhs=_to_matrix(ch_F[k], fld, show_lam),
+                        augmented_rref=_to_matrix(aug_rref, fld, show_lam),
+                        solution=_to_matrix(ch_F[k + 1], fld, show_lam),
+                    )
+                )
+            chain_steps.append(
+                JordanChainStep(
+                    lam=lam,
+                    eigenvalue=roots[0] if gen is None else lam,
+                    root_of=None if gen is None else fexpr,
+                    algebraic=mult,
+                    geometric=geometric,
+                    shifted=_to_matrix(N, fld, show_lam),
+                    vectors=tuple(_to_matrix(v, fld, show_lam) for v in ch_F),
+                    links=tuple(links),
+                    instances=tuple(
+                        (root, tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen, radical=True))) for v in ch_expr))
+                        for root in roots
+                    ),
+                )
+            )
+
+    blocks = _order_blocks(blocks, has_params and not values)
+    entries = tuple(
+        EigenvalueEntry(
+            value=b.value,
+            decimal=b.decimal,
+            algebraic=b.algebraic,
+            geometric=b.geometric,
+            factor=b.factor,
+            form=b.form,
+            rule=b.rule,
+        )
+        for b in blocks
+    )
+    steps.append(EigenvaluesStep(lam=lam, entries=entries))
+    steps.extend(vector_steps)
+    steps.extend(chain_steps)
+
+    cols: list[sp.ImmutableMatrix] = []
+    rows: list[sp.ImmutableMatrix] = []
+    col_eigs: list[sp.Expr] = []
+    jblocks: list[tuple[sp.Expr, int]] = []
+    for b in blocks:
+        for ch in b.chains:
+            cols.extend(ch)
+            col_eigs.extend([b.value] * len(ch))
+            jblocks.append((b.value, len(ch)))
+        rows.extend(b.left)
+    P = sp.ImmutableMatrix.hstack(*cols)
+    P_inv = sp.ImmutableMatrix.vstack(*rows)
+    J = sp.zeros(n, n)
+    pos = 0
+    for val, size in jblocks:
+        for i in range(size):
+            J[pos + i, pos + i] = val
+            if i + 1 < size:
+                J[pos + i, pos + i + 1] = 1
+        pos += size
+    J = sp.ImmutableMatrix(J)
+    diagonalizable = all(size == 1 for _, size in jblocks)
+    steps.append(ModalMatrixStep(P=P, D=J, diagonal=diagonalizable, blocks=tuple(jblocks)))
+
+    all_in_K = all(b.form in ("rational", "exact") for b in blocks)
+    if all_in_K:
+        PK = _dm(P, K)
+        det = sp.factor(K.to_sympy(PK.det()))
+        inv_direct = _to_matrix(_inv(PK), _Field(K, K, None, None))
+        field_ok = field_ok and all(sp.cancel(a - b) == 0 for a, b in zip(inv_direct, P_inv))
+        P_inv = sp.ImmutableMatrix(inv_direct.applyfunc(sp.factor if has_params else (lambda e: e)))
+        method = "Gauss-Jordan elimination on [P | I]"
+        product = sp.ImmutableMatrix((P * J * P_inv).applyfunc(sp.cancel))
+        sim_ok = field_ok and product == A.applyfunc(sp.cancel)
+    else:
+        det = _det_display(P)
+        method = (
+            "rows of P^-1 are the left eigenvectors (left Jordan chains) of A, each block "
+            "normalised so that W V = I; computed once per irreducible factor of the "
+            "characteristic polynomial, in terms of a generic root"
+        )
+        product, sim_ok = _numeric_similarity(A, P, J, P_inv, values)
+        sim_ok = sim_ok and field_ok
+    steps.append(InverseStep(P=P, det=det, P_inv=P_inv, method=method))
+    steps.append(SimilarityStep(P=P, D=J, P_inv=P_inv, product=product, A=A, ok=sim_ok))
+    if not sim_ok:
+        from .errors import VerificationError
+
+        raise VerificationError("the decomposition failed its own check P D P^-1 = A; no result is reported")
+
+    conditions = _conditions(A, factors, P, P_inv, lam) if has_params else ()
+    return Decomposition(
+        A=A,
+        lam=lam,
+        charpoly=expanded,
+        factored=factored,
+        blocks=tuple(blocks),
+        P=P,
+        J=J,
+        P_inv=P_inv,
+        column_eigenvalues=tuple(col_eigs),
+        jordan_blocks=tuple(jblocks),
+        diagonalizable=diagonalizable,
+        steps=tuple(steps),
+        conditions=conditions,
+    )
+
+
+def _order_blocks(blocks: list[EigenBlock], keep: bool) -> list[EigenBlock]:
+    """Real before complex, ascending; a complex pair as a + ib, then a - ib."""
+    if keep or any(b.numeric is None for b in blocks):
+        return blocks
+
+    def key(b: EigenBlock):
+        z = b.numeric
+        is_complex = abs(z.imag) > 1e-20
+        return (1 if is_complex else 0, round(z.real, 12), round(abs(z.imag), 12), 1 if z.imag < 0 else 0)
+
+    return sorted(blocks, key=key)
+
+
+def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
+    if P.rows <= 4:
+        try:
+            return sp.radsimp(sp.expand(P.det(method="berkowitz")))
+        except Exception:  # pragma: no cover - sympy internals
+            pass
+    return sp.Float(complex(sp.N(P.det(method="berkowitz"), 15)).real, 12)
+
+
+def _numeric_similarity(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]:
+    """P J P^-1 evaluated at 40 digits against A (exact check already done in F)."""
+    subs = dict(values)
+    try:
+        Pn = P.subs(subs).evalf(40)
+        Jn = J.subs(subs).evalf(40)
+        Qn = P_inv.subs(subs).evalf(40)
+        An = A.subs(subs).evalf(40)
+        prod = Pn * Jn * Qn
+        gap = max(abs(complex(x - y)) for x, y in zip(prod, An))
+        scale = max(1.0, max(abs(complex(y)) for y in An))
+        ok = gap <= 1e-25 * scale
+    except (TypeError, ValueError):
+        # free parameters without values: the exact check in F stands alone
+        return A, True
+    return A, ok
+
+
+def _conditions(A, factors, P, P_inv, lam) -> tuple[Condition, ...]:
+    """Conditions in the parameters on which the derivation relies."""
+    out: list[Condition] = []
+    seen: set = set()
+
+    def add(expr: sp.Expr, reason: str) -> None:
+        expr = sp.factor(expr)
+        for f in sp.Mul.make_args(expr):
+            if f.is_Pow and f.exp.is_Number:
+                f = f.base
+            if not f.free_symbols or f.is_positive or f.is_negative or f.is_nonzero:
+                continue
+            f = sp.expand(f)
+            if f.could_extract_minus_sign():
+                f = -f
+            if f in seen:
+                continue
+            seen.add(f)
+            out.append(Condition(expr=f, relation="!= 0", reason=reason))
+
+    sqf = sp.Mul(*[f for f, _ in factors])
+    if sp.degree(sqf, lam) >= 2:
+        disc = sp.discriminant(sqf, lam)
+        add(disc, "the eigenvalues are distinct (discriminant of the characteristic polynomial)")
+    for e in list(P) + list(P_inv):
+        den = sp.fraction(sp.cancel(sp.together(e)))[1]
+        if den.free_symbols:
+            add(den, "a denominator in P or P^-1 is nonzero")
+    return tuple(out)

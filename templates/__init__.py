@@ -1,0 +1,1 @@
+"""LaTeX templates of the calculation sheet (jinja2, loaded as package data)."""

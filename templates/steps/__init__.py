@@ -1,0 +1,1 @@
+"""One LaTeX partial per step kind: ``<kind>.tex.j2``."""
