@@ -27,6 +27,7 @@ Markdown, JSON or LaTeX (``templates/check.tex.j2``).
 
 from __future__ import annotations
 
+import functools
 import itertools
 import json
 import random
@@ -34,11 +35,12 @@ import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from types import MappingProxyType
 from typing import Any
 
 import sympy as sp
 
-from .errors import EXIT_OK, EXIT_VERIFICATION, InputError, OutputError
+from .errors import EXIT_OK, EXIT_VERIFICATION, InputError, OutputError, TimeLimitError
 
 __all__ = [
     "STEP_ORDER",
@@ -319,20 +321,37 @@ def _decide_regular(expr: Any, t: sp.Symbol | None = None) -> _Verdict:
         return _Verdict(True, "exact")
     if e.is_Rational or _plainly_nonzero(e):
         return _Verdict(False, "exact")
-    try:
-        reduced = sp.cancel(e)
-    except (sp.PolynomialError, TypeError, ValueError, NotImplementedError):
-        reduced = e
-    if reduced == 0:
-        return _Verdict(True, "exact")
+    # cancel and simplify are what settle rational functions of parameters,
+    # but on cubic radicals they take seconds per entry; there the 50-digit
+    # identity test decides instead.
+    radical = _has_radicals(e)
+    reduced = e
+    if not radical:
+        try:
+            reduced = sp.cancel(e)
+        except (sp.PolynomialError, TypeError, ValueError, NotImplementedError):
+            reduced = e
+        if reduced == 0:
+            return _Verdict(True, "exact")
     numeric = _numeric_verdict(reduced, t)
     if not numeric.zero and numeric.method == "numeric":
         return numeric
     # Numerically zero (or not evaluable): try to settle it exactly.
-    if sp.count_ops(reduced) <= _SIMPLIFY_OPS:
+    if not radical and sp.count_ops(reduced) <= _SIMPLIFY_OPS:
         if sp.simplify(reduced) == 0:
             return _Verdict(True, "exact")
     return numeric
+
+
+def _has_radicals(e: sp.Expr) -> bool:
+    """True when ``e`` holds a root of order 3 or more, or a nested root (costly to simplify)."""
+    for p in e.atoms(sp.Pow):
+        if p.exp.is_Rational and not p.exp.is_Integer:
+            if p.exp.q > 2 or any(
+                q.exp.is_Rational and not q.exp.is_Integer for q in p.base.atoms(sp.Pow)
+            ):
+                return True
+    return e.has(sp.CRootOf)
 
 
 @dataclass(frozen=True)
@@ -782,6 +801,8 @@ def _spectrum_problems(A: sp.ImmutableMatrix, D: sp.ImmutableMatrix, lam: sp.Sym
     problems: list[str] = []
     I = sp.eye(n)
     for mu, _count in _group_values(diag):
+        if _count == 1:
+            continue  # a simple eigenvalue has one eigenvector in A and in D alike
         NA = sp.Matrix(A) - mu * I
         ND = sp.Matrix(D) - mu * I
         PA, PD = sp.eye(n), sp.eye(n)
@@ -981,39 +1002,34 @@ class _Problem:
     t0: sp.Expr
 
 
-@dataclass
 class _RightSolution:
-    """The pipeline's solution, computed at most once and only to state a right value."""
+    """The pipeline's solutions, computed at most once per check and only to state a right value."""
 
-    problem: _Problem
-    done: bool = False
-    value: Any = None
+    def __init__(self, problem: _Problem) -> None:
+        self.problem = problem
 
     def get(self, *, ivp: bool) -> sp.ImmutableMatrix | None:
-        if not self.done:
-            self.done = True
-            try:
-                from .pipeline import build_system, solve_system
-
-                system, _ = build_system(
-                    self.problem.A, self.problem.f, t=self.problem.t, x0=self.problem.x0, t0=self.problem.t0
-                )
-                general = system if self.problem.x0 is None else _replace_x0(system, None)
-                sols: dict[str, Any] = {"general": solve_system(general, check=True).x}
-                if self.problem.x0 is not None:
-                    sols["ivp"] = solve_system(system, check=True).x
-                self.value = sols
-            except Exception:  # noqa: BLE001 - only a hint: any failure means "no hint"
-                self.value = None
-        if not self.value:
-            return None
-        return self.value.get("ivp" if ivp else "general")
+        found = _right_solutions(self.problem)
+        return None if found is None else found.get("ivp" if ivp else "general")
 
 
-def _replace_x0(system: Any, x0: Any) -> Any:
+@functools.lru_cache(maxsize=16)
+def _right_solutions(problem: _Problem) -> Mapping[str, sp.ImmutableMatrix] | None:
+    """derive.solve's general and IVP solutions, or None when it cannot give them."""
     from dataclasses import replace
 
-    return replace(system, x0=x0)
+    from .pipeline import build_system, solve_system
+
+    try:
+        system, _ = build_system(problem.A, problem.f, t=problem.t, x0=problem.x0, t0=problem.t0)
+        out = {"general": solve_system(replace(system, x0=None), check=True).x}
+        if problem.x0 is not None:
+            out["ivp"] = solve_system(system, check=True).x
+        return MappingProxyType(out)
+    except TimeLimitError:
+        raise
+    except Exception:  # noqa: BLE001 - only a hint: any failure means "no right value to show"
+        return None
 
 
 def _solution_residual(prob: _Problem, x: sp.ImmutableMatrix) -> sp.ImmutableMatrix:

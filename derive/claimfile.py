@@ -284,7 +284,12 @@ def loads_claim(text: str, *, case: Case, source: str | None = None) -> Claim:
 
 
 def read_claim(path: str | os.PathLike[str], *, case: Case) -> Claim:
-    """Read a claim file against ``case``, with its hash and notices for the record."""
+    """Read a claim file against ``case``, with its hash and notices for the record.
+
+    >>> claim = read_claim("tanks_ok.claim.toml", case=load_case("tanks.toml"))  # doctest: +SKIP
+    >>> check(**claim.kwargs).ok, len(claim.source_hash)                          # doctest: +SKIP
+    (True, 64)
+    """
     p = Path(path)
     where = str(path)
     try:
@@ -302,8 +307,7 @@ def read_claim(path: str | os.PathLike[str], *, case: Case) -> Claim:
             file=where,
             line=raw[: err.start].count(b"\n") + 1,
         ) from None
-    claim = _build(_decode(text, where), case=case, file=where, digest=hashlib.sha256(raw).hexdigest())
-    return claim
+    return _build(_decode(text, where), case=case, file=where, digest=hashlib.sha256(raw).hexdigest())
 
 
 def load_claim(path: str | os.PathLike[str], *, case: Case) -> dict[str, Any]:

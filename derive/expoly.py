@@ -203,7 +203,7 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
     if not c.free_symbols:
         e = sp.expand(c)
         if e.has(sp.CRootOf):
-            return reduce_roots(e)
+            return symmetric_reduce(reduce_roots(e))
         if any(p.exp.is_negative and not p.base.is_Rational for p in e.atoms(sp.Pow)):
             e = sp.expand(sp.radsimp(e))
         return e
@@ -235,6 +235,50 @@ def reduce_roots(e: sp.Expr) -> sp.Expr:
         rem = pn.rem(q)
         e = sp.expand(rem.as_expr().subs(z, r) / pd.as_expr())
     return e
+
+
+def symmetric_reduce(e: sp.Expr) -> sp.Expr:
+    """Replace a sum h(r_1) + ... + h(r_d) over all roots of q by its rational value.
+
+    Such sums appear in particular solutions (each column of P contributes the
+    same polynomial in its own root); they equal sum_k h_k p_k with the power
+    sums p_k = trace(C^k) of the companion matrix C of q.
+    """
+    by_poly: dict = {}
+    for r in e.atoms(sp.CRootOf):
+        by_poly.setdefault(r.poly, set()).add(r)
+    for poly, roots in by_poly.items():
+        d = poly.degree()
+        if len(roots) != d:
+            continue
+        z = sp.Dummy("z")
+        parts: dict = {}
+        rest = []
+        for term in sp.Add.make_args(e):
+            here = [r for r in roots if term.has(r)]
+            if len(here) == 1:
+                parts.setdefault(here[0], []).append(term.xreplace({here[0]: z}))
+            else:
+                rest.append(term)
+        if len(parts) != d:
+            continue
+        polys = [sp.Poly(sp.Add(*v), z) if sp.Add(*v).is_polynomial(z) else None for v in parts.values()]
+        if any(pp is None for pp in polys) or any(pp != polys[0] for pp in polys[1:]):
+            continue
+        h = polys[0]
+        coeffs = [sp.Rational(c) for c in poly.monic().all_coeffs()]  # 1, a_{d-1}, ..., a_0
+        C = sp.zeros(d, d)
+        for i in range(1, d):
+            C[i, i - 1] = 1
+        for i in range(d):
+            C[i, d - 1] = -coeffs[d - i]
+        total = sp.Integer(0)
+        Ck = sp.eye(d)
+        for k in range(h.degree() + 1):
+            total += h.coeff_monomial(z**k) * Ck.trace()
+            Ck = Ck * C
+        e = sp.Add(*rest) + total
+    return sp.expand(e)
 
 
 def conjugate(p: ExpPoly) -> ExpPoly:

@@ -474,7 +474,7 @@ def _derivations(draw):
     return P, eig, which, delta, i, j
 
 
-@settings(max_examples=20, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(_derivations())
 def test_perturbed_item_is_caught(case) -> None:
     P, eig, which, delta, i, j = case
@@ -529,3 +529,38 @@ def test_perturbed_item_is_caught(case) -> None:
 def test_docstring_examples(module) -> None:
     result = doctest.testmod(module, optionflags=doctest.ELLIPSIS)
     assert result.attempted > 0 and result.failed == 0
+
+
+# ---------------------------------------------------------------------------
+# The command line
+
+
+def _cli(args: list[str]):
+    from click.testing import CliRunner
+
+    from derive.cli import cli
+
+    return CliRunner().invoke(cli, args)
+
+
+def test_cli_exit_codes_and_outputs(tmp_path: Path) -> None:
+    case = str(DATA / "tanks.case.toml")
+    good = _cli(["check", case, "--claim", str(DATA / "tanks_ok.claim.toml"), "-o", str(tmp_path), "--format", "json", "--no-pdf"])
+    assert good.exit_code == 0, good.output
+    assert "First wrong step: none" in good.output
+    written = json.loads((tmp_path / "tanks.case-check.json").read_text())
+    assert written["ok"] is True and len(written["items"]) == 8
+
+    bad = _cli(["check", case, "--claim", str(DATA / "tanks_pinv_sign.claim.toml"), "-o", str(tmp_path), "--format", "markdown", "--format", "text", "--no-pdf"])
+    assert bad.exit_code == 1, bad.output
+    assert "First wrong step: P_inv (P_inv)" in bad.output
+    assert (tmp_path / "tanks.case-check.md").is_file() and (tmp_path / "tanks.case-check.txt").is_file()
+
+    wrong_key = tmp_path / "typo.toml"
+    wrong_key.write_text('eigenvalue = ["-2", "-4"]\n')
+    err = _cli(["check", case, "--claim", str(wrong_key), "-o", str(tmp_path), "--no-pdf"])
+    assert err.exit_code == 2
+    assert "unknown key 'eigenvalue'" in err.output and "did you mean 'eigenvalues'?" in err.output
+
+    missing = _cli(["check", case, "-o", str(tmp_path)])
+    assert missing.exit_code == 2 and "--claim" in missing.output
