@@ -188,22 +188,30 @@ def demo(out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: flo
 
 @cli.command(epilog=EXIT_CODES_HELP)
 @click.argument("name")
+@click.option(
+    "-o",
+    "--out",
+    "out_dir",
+    type=click.Path(file_okay=False, path_type=Path),
+    default=Path("."),
+    show_default=True,
+    help="Folder to write NAME.toml into.",
+)
 @click.option("--force", is_flag=True, help="Replace an existing file of that name.")
-def new(name: str, force: bool) -> None:
-    """Write NAME.toml: a commented case-file template to fill in."""
+def new(name: str, out_dir: Path, force: bool) -> None:
+    """Write NAME.toml: a commented case-file template to fill in.
+
+    NAME is a plain file name (no folders); use -o for the folder."""
 
     def body() -> int:
-        from .casefile import case_name
+        from .output import atomic_write_text, check_stem
 
-        stem = name[:-5] if name.endswith(".toml") else name
-        target = Path(stem + ".toml")
-        # the name may carry a folder, but the file name itself must be plain
-        case_name(target.stem)
+        stem = check_stem(name[:-5] if name.endswith(".toml") else name)
+        target = out_dir / f"{stem}.toml"
         if target.exists() and not force:
-            raise InputError(f"{target} exists already; pass --force to replace it", file=str(target))
+            raise InputError("the file exists already; pass --force to replace it", file=str(target))
+        out_dir.mkdir(parents=True, exist_ok=True)
         text = resources.files("derive.data").joinpath("template.toml").read_text(encoding="utf-8")
-        from .output import atomic_write_text
-
         atomic_write_text(target, text)
         click.echo(f"wrote {target}: edit it, then run: derive solve {target}")
         return EXIT_OK

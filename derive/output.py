@@ -73,6 +73,19 @@ def _atomic_write(path: Path, data: bytes) -> None:
         raise
 
 
+def atomic_write_text(path: str | os.PathLike[str], text: str) -> Path:
+    """Write text (UTF-8) atomically: a reader sees the old file or the whole new one.
+
+    >>> import tempfile, pathlib
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "a.txt"
+    >>> atomic_write_text(p, "x").read_text()
+    'x'
+    """
+    path = Path(path)
+    _atomic_write(path, text.encode("utf-8"))
+    return path
+
+
 def _umask() -> int:
     mask = os.umask(0o022)
     os.umask(mask)
