@@ -27,6 +27,7 @@ from .model import Case, Parameter, SheetMeta, Solution, System, Verification  #
 from .pipeline import solve, solve_case, solve_system  # noqa: E402
 from .casefile import load_case, loads_case  # noqa: E402
 from .render import render  # noqa: E402
+from .check import CheckItem, CheckReport, check  # noqa: E402
 
 __all__ = [
     "__version__",
@@ -36,6 +37,9 @@ __all__ = [
     "load_case",
     "loads_case",
     "render",
+    "check",
+    "CheckReport",
+    "CheckItem",
     "Solution",
     "System",
     "Case",

@@ -30,14 +30,15 @@ from __future__ import annotations
 import functools
 import itertools
 import json
-import random
 import os
+import random
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
+import mpmath
 import sympy as sp
 
 from .errors import EXIT_OK, EXIT_VERIFICATION, InputError, OutputError, TimeLimitError
@@ -168,7 +169,8 @@ class _Verdict:
         if self.method == "undecided":
             return "undecided: the expression could not be evaluated at any sample point"
         if self.zero:
-            return f"decided by a numeric identity test ({DIGITS} digits at {self.points} random points)"
+            where = f" at {self.points} random points" if self.points > 1 else ""
+            return f"decided by a numeric identity test ({DIGITS} digits{where})"
         where = ", ".join(f"{s} = {v}" for s, v in self.witness)
         return f"nonzero by a numeric test ({DIGITS} digits{', at ' + where if where else ''})"
 
@@ -210,56 +212,134 @@ def _breakpoints(expr: sp.Expr, t: sp.Symbol | None, point: Mapping[sp.Symbol, s
     return found
 
 
-def _magnitude(value: sp.Expr) -> float | None:
+class _Singular(Exception):
+    """The expression has no finite value at the sample point."""
+
+
+_MP_FUNCTIONS: Mapping[type, Any] = MappingProxyType(
+    {
+        sp.exp: mpmath.exp,
+        sp.sin: mpmath.sin,
+        sp.cos: mpmath.cos,
+        sp.tan: mpmath.tan,
+        sp.sinh: mpmath.sinh,
+        sp.cosh: mpmath.cosh,
+        sp.tanh: mpmath.tanh,
+        sp.log: mpmath.log,
+        sp.asin: mpmath.asin,
+        sp.acos: mpmath.acos,
+        sp.atan: mpmath.atan,
+        sp.Abs: abs,
+        sp.re: mpmath.re,
+        sp.im: mpmath.im,
+        sp.conjugate: mpmath.conj,
+    }
+)
+
+
+def _mp_value(expr: sp.Expr, point: Mapping[sp.Symbol, sp.Expr]) -> Any:
+    """``expr`` at ``point`` with mpmath (call inside ``mpmath.workdps``), walking the tree.
+
+    A walk of our own rather than ``evalf``: sympy's adaptive evaluation of
+    cubic radicals inside exponentials takes seconds per value, and shared
+    sub-expressions are computed once here.  Nothing is compiled or executed.
+    """
+    memo: dict[sp.Basic, Any] = {}
+
+    def ev(node: sp.Basic) -> Any:
+        if node in memo:
+            return memo[node]
+        if node.is_Symbol:
+            value = ev(point[node])
+        elif node.is_Integer:
+            value = mpmath.mpf(int(node))
+        elif node.is_Rational:
+            value = mpmath.mpf(int(node.p)) / int(node.q)
+        elif node.is_Float:
+            value = mpmath.mpf(str(node))
+        elif node is sp.pi:
+            value = +mpmath.pi
+        elif node is sp.E:
+            value = +mpmath.e
+        elif node is sp.I:
+            value = mpmath.mpc(0, 1)
+        elif node.has(sp.zoo, sp.nan, sp.oo, -sp.oo):
+            raise _Singular
+        elif isinstance(node, sp.Add):
+            value = mpmath.fsum([ev(a) for a in node.args])
+        elif isinstance(node, sp.Mul):
+            value = mpmath.fprod([ev(a) for a in node.args])
+        elif isinstance(node, sp.Pow):
+            base, exponent = ev(node.base), ev(node.exp)
+            if base == 0 and mpmath.re(exponent) <= 0:
+                raise _Singular
+            value = mpmath.power(base, exponent)
+        elif isinstance(node, sp.Heaviside):
+            arg = ev(node.args[0])
+            if mpmath.im(arg) != 0:
+                raise _Singular
+            arg = mpmath.re(arg)
+            if arg == 0:
+                value = ev(node.args[1]) if len(node.args) > 1 else mpmath.mpf(1) / 2
+            else:
+                value = mpmath.mpf(1 if arg > 0 else 0)
+        elif isinstance(node, sp.DiracDelta):
+            if ev(node.args[0]) == 0:
+                raise _Singular
+            value = mpmath.mpf(0)
+        elif isinstance(node, sp.sign):
+            arg = ev(node.args[0])
+            value = mpmath.mpf(0) if arg == 0 else arg / abs(arg)
+        elif type(node) in _MP_FUNCTIONS:
+            value = _MP_FUNCTIONS[type(node)](*[ev(a) for a in node.args])
+        elif node.is_number:
+            # CRootOf and other exact constants: sympy knows their value best.
+            value = mpmath.mpmathify(sp.N(node, mpmath.mp.dps))
+        else:
+            raise _Singular
+        memo[node] = value
+        return value
+
     try:
-        return abs(complex(value))
-    except (TypeError, ValueError, OverflowError):
-        return None
+        total = ev(expr)
+        terms = [ev(a) for a in sp.Add.make_args(expr)]
+    except (ZeroDivisionError, ValueError, OverflowError, TypeError, KeyError):
+        raise _Singular from None
+    if not (mpmath.isfinite(total) and all(mpmath.isfinite(v) for v in terms)):
+        raise _Singular
+    return total, max([mpmath.mpf(1), mpmath.fsum([abs(v) for v in terms])])
 
 
 def _numeric_verdict(expr: sp.Expr, t: sp.Symbol | None) -> _Verdict:
     syms = sorted(expr.free_symbols, key=sp.default_sort_key)
-    if not syms:
-        mag = _magnitude(sp.N(expr, DIGITS))
-        if mag is None:
-            return _Verdict(False, "undecided")
-        scale = max([1.0] + [_magnitude(sp.N(a, 20)) or 0.0 for a in sp.Add.make_args(expr)])
-        return _Verdict(mag <= _RELATIVE_TOL * scale, "numeric", 1)
     rng = random.Random(_SEED)
     others = [s for s in syms if s != t]
     checked = 0
-    tries = 0
-    plan: list[tuple[int, int]] = [(-1, 0)] * POINTS
+    plan: list[tuple[int, int]] = [(-1, 0)] * (POINTS if syms else 1)
     base = {s: _draw(s, rng) for s in others}
     breaks = _breakpoints(expr, t if t in syms else None, base)
     for k in range(len(breaks)):
         plan += [(k, -1), (k, 1)]
-    for where, side in plan:
-        for _ in range(4):  # a few redraws if the point hits a singularity
-            tries += 1
-            point = {s: _draw(s, rng) for s in others} if where < 0 else dict(base)
-            if t in syms:
-                if where < 0:
-                    point[t] = _draw(t, rng) if rng.random() < 0.5 else sp.Rational(rng.randint(-20, 40), 17)
-                    if (t.is_positive or t.is_nonnegative) and point[t] <= 0:
-                        point[t] = -point[t] + sp.Rational(1, 7)
-                else:
-                    point[t] = breaks[where] + side * sp.Rational(rng.randint(1, 30), rng.randint(20, 40))
-            sub = expr.xreplace(point)
-            value = sp.N(sub, DIGITS)
-            if value.has(sp.zoo, sp.nan, sp.oo, -sp.oo) or not value.is_number:
-                continue
-            mag = _magnitude(value)
-            if mag is None:
-                continue
-            terms = sp.Add.make_args(sub)[:200]
-            sizes = [_magnitude(sp.N(term, 20)) for term in terms]
-            scale = max(1.0, sum(s for s in sizes if s is not None))
-            checked += 1
-            if mag > _RELATIVE_TOL * scale:
-                witness = tuple((s, point[s]) for s in syms)
-                return _Verdict(False, "numeric", checked, witness)
-            break
+    with mpmath.workdps(DIGITS + 10):
+        for where, side in plan:
+            for _ in range(4):  # a few redraws if the point hits a singularity
+                point = {s: _draw(s, rng) for s in others} if where < 0 else dict(base)
+                if t in syms:
+                    if where < 0:
+                        point[t] = _draw(t, rng) if rng.random() < 0.5 else sp.Rational(rng.randint(-20, 40), 17)
+                        if (t.is_positive or t.is_nonnegative) and point[t] <= 0:
+                            point[t] = -point[t] + sp.Rational(1, 7)
+                    else:
+                        point[t] = breaks[where] + side * sp.Rational(rng.randint(1, 30), rng.randint(20, 40))
+                try:
+                    value, scale = _mp_value(expr, point)
+                except _Singular:
+                    continue
+                checked += 1
+                if abs(value) > _RELATIVE_TOL * scale:
+                    witness = tuple((s, point[s]) for s in syms)
+                    return _Verdict(False, "numeric", checked, witness)
+                break
     if checked == 0:
         return _Verdict(False, "undecided")
     return _Verdict(True, "numeric", checked)
@@ -656,6 +736,7 @@ def _check_eigenvalues(A: sp.ImmutableMatrix, claimed: tuple[sp.Expr, ...], lam:
         problems.append("the claimed values do not reproduce the characteristic polynomial")
     right = _right_eigenvalues(p, lam, n)
     detail = f"with p(lambda) = det(lambda I - A) = {_short(p, 100)}: " + "; ".join(problems)
+    detail += f" ({(_decide(not_roots[0][1]) if not_roots else verdict).describe()})"
     if right is not None:
         detail += f"; the right eigenvalues are {_short(right)}"
     residual = sp.ImmutableMatrix([[r] for _, r in values]) if values else sp.ImmutableMatrix([[p]])
@@ -672,7 +753,7 @@ def _check_eigenvalues(A: sp.ImmutableMatrix, claimed: tuple[sp.Expr, ...], lam:
     )
 
 
-def _eigen_name(mu: sp.Expr, index: int, total: int, same: int) -> str:
+def _eigen_name(mu: sp.Expr, index: int, same: int) -> str:
     label = f"eigenvector for {_plain(mu)}"
     return f"{label} (#{index})" if same > 1 else label
 
@@ -1359,7 +1440,7 @@ def check(
         for mu, v in pairs:
             g = next(k for k, (m, _) in enumerate(groups) if _is_zero(m - mu))
             seen[g] = seen.get(g, 0) + 1
-            items.append(_check_eigenvector(Am, mu, v, _eigen_name(groups[g][0], seen[g], len(pairs), groups[g][1])))
+            items.append(_check_eigenvector(Am, mu, v, _eigen_name(groups[g][0], seen[g], groups[g][1])))
         for g, (mu, count) in enumerate(groups):
             if count > 1:
                 vs = [v for m, v in pairs if _is_zero(m - mu)]
@@ -1525,11 +1606,10 @@ def _render_latex(report: CheckReport, *, meta: Any, sources: Sequence[tuple[str
 
     from .model import SheetMeta
     from .render.latex import program_versions, template_environment
-    from .render.printing import MathFormatter, collect_roots
+    from .render.printing import MathFormatter
 
-    objs = [report.A, report.f] + [o for it in report.items for o in (it.residual, it.claimed, it.expected) if o is not None]
-    roots = collect_roots((), *objs)
-    fmt = MathFormatter.for_roots(roots)
+    # No root names: a check report has no legend, so an indexed root is printed in full.
+    fmt = MathFormatter.for_roots(())
     meta = meta if meta is not None else SheetMeta()
     versions = program_versions()
     seed = "|".join((meta.title, meta.calc_number, meta.revision, *(h for _, h in sources), _plain(report.A)))
@@ -1637,15 +1717,11 @@ def write_check_outputs(
     pending = [
         (folder / f"{stem}{_SUFFIXES[fmt]}", render_check(report, fmt, meta=meta, sources=sources)) for fmt in formats
     ]
-    write = getattr(output, "atomic_write_text", None)
     written: list[Path] = []
     try:
         folder.mkdir(parents=True, exist_ok=True)
         for path, text in pending:
-            if write is not None:
-                write(path, text)
-            else:  # the helper the CLI's other commands use is not there yet
-                output._atomic_write(path, text.encode("utf-8"))  # noqa: SLF001
+            output.atomic_write_text(path, text)
             written.append(path)
     except OSError as exc:
         raise OutputError(

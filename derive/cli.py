@@ -84,14 +84,22 @@ def _summary(sol) -> None:
         click.echo(f"note: {note}", err=True)
 
 
-def _solve_and_write(case, out_dir: Path, formats: Sequence[str], pdf: bool | None, timeout: float, stem: str | None) -> int:
+def _solve_and_write(
+    case,
+    out_dir: Path,
+    formats: Sequence[str],
+    pdf: bool | None,
+    timeout: float,
+    stem: str | None,
+    relations: Sequence[str] = (),
+) -> int:
     from .output import write_outputs
     from .pipeline import solve_case
 
     code = EXIT_OK
     with time_limit(timeout, what=f"case {case.name!r}"):
         try:
-            sol = solve_case(case)
+            sol = solve_case(case, assume=list(relations) or None)
         except VerificationError as err:
             sol = getattr(err, "solution", None)
             if sol is None:
@@ -156,14 +164,30 @@ _out_option = click.option(
 @_format_option
 @_pdf_option
 @_timeout_option
-def solve(case_file: Path, out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: float) -> None:
+@click.option(
+    "--case",
+    "relations",
+    multiple=True,
+    metavar="RELATION",
+    help="Solve on a parameter relation, e.g. --case 'c^2 = 4*k*m' (a degenerate case "
+    "the sheet lists); the output name gets a '-case' suffix. Repeatable.",
+)
+def solve(
+    case_file: Path,
+    out_dir: Path,
+    formats: tuple[str, ...],
+    pdf: bool | None,
+    timeout: float,
+    relations: tuple[str, ...],
+) -> None:
     """Solve CASE_FILE (TOML) and write its calculation sheet into the output folder."""
 
     def body() -> int:
         from .casefile import load_case
 
         case = load_case(case_file)
-        return _solve_and_write(case, out_dir, formats, pdf, timeout, None)
+        stem = f"{case.name}-case" if relations else None
+        return _solve_and_write(case, out_dir, formats, pdf, timeout, stem, relations)
 
     sys.exit(_guard(body))
 
@@ -220,6 +244,69 @@ def new(name: str, out_dir: Path, force: bool) -> None:
 
 
 # -- more commands below --
+
+
+@cli.command(
+    "batch",
+    epilog="Exit codes: 0 every case solved and verified; 1 a case failed, timed out or crashed "
+    "(see summary.csv); 2 bad input (no cases, bad option); 130 interrupted (the summary lists "
+    "the finished cases); 5 internal error.",
+)
+@click.argument("paths", nargs=-1, required=True, type=click.Path(exists=True, path_type=Path))
+@_out_option
+@click.option(
+    "-j", "--jobs", type=click.IntRange(min=1), default=None, help="Cases run at once (default: the number of CPUs)."
+)
+@_timeout_option
+@_format_option
+@_pdf_option
+@click.option("--force", is_flag=True, help="Run every case again, even when an unchanged result is on disk.")
+@click.option(
+    "--scheduler",
+    metavar="ADDRESS",
+    default=None,
+    help="Run on the Dask cluster at ADDRESS (needs the 'cluster' extra), e.g. tcp://127.0.0.1:8786.",
+)
+def batch_command(
+    paths: tuple[Path, ...],
+    out_dir: Path,
+    jobs: int | None,
+    timeout: float,
+    formats: tuple[str, ...],
+    pdf: bool | None,
+    force: bool,
+    scheduler: str | None,
+) -> None:
+    """Solve every case in PATHS (case files, or folders searched for *.toml), each in its own
+    worker with its own time limit; write the sheets, summary.csv, summary.json and an index."""
+
+    def body() -> int:
+        from .batch import batch
+
+        report = batch(
+            paths,
+            jobs=jobs,
+            timeout=timeout,
+            out_dir=out_dir,
+            formats=formats,
+            pdf=pdf,
+            force=force,
+            scheduler=scheduler,
+            progress=None,
+            keep_solutions=False,
+        )
+        for r in report.results:
+            if not r.ok:
+                first = r.message.splitlines()[0] if r.message else ""
+                click.echo(f"{r.status}: {r.name}: {first}", err=True)
+        if report.index_error:
+            click.echo(f"derive: error: the index could not be written: {report.index_error}", err=True)
+        counts = ", ".join(f"{n} {s}" for s, n in report.counts.items() if n)
+        reused = f" ({report.cached_count} reused)" if report.cached_count else ""
+        click.echo(f"{len(report.results)} cases: {counts}{reused}; summary in {out_dir / 'summary.csv'}")
+        return report.exit_code
+
+    sys.exit(_guard(body))
 
 
 @cli.command(

@@ -11,6 +11,7 @@ about 1e-50 of its scale, so the threshold separates them with a wide margin.
 
 from __future__ import annotations
 
+import functools
 import random
 from dataclasses import dataclass
 
@@ -42,25 +43,46 @@ def random_point(symbols, rng: random.Random) -> dict[sp.Symbol, sp.Expr]:
     return out
 
 
+@functools.lru_cache(maxsize=256)
+def root_value(r: sp.CRootOf, digits: int = DIGITS + 15) -> sp.Expr:
+    """The decimal of an indexed root, computed once (sympy refines it slowly)."""
+    return sp.N(r, digits)
+
+
 def _numeric_zero(expr: sp.Expr, *, seed: int = 12345, points: int = POINTS) -> ZeroVerdict:
+    import mpmath
+
     rng = random.Random(seed)
-    syms = sorted(expr.free_symbols, key=sp.default_sort_key)
-    worst = 0.0
-    for _ in range(points if syms else 1):
-        pt = random_point(syms, rng)
-        val = sp.N(expr.xreplace(pt), DIGITS)
+    # indexed roots: their decimals once, at a margin above the working precision
+    roots = {r: root_value(r) for r in expr.atoms(sp.CRootOf)}
+    e = expr.xreplace(roots) if roots else expr
+    syms = sorted(e.free_symbols, key=sp.default_sort_key)
+    terms = list(sp.Add.make_args(e))[:200]
+    with mpmath.workdps(DIGITS):
         try:
-            mag = abs(complex(val))
-        except TypeError:
-            return ZeroVerdict(False, "undecided: not a number at a sample point")
-        # scale: the size of the terms, so cancellation is judged relatively
-        terms = sp.Add.make_args(sp.expand(expr.xreplace(pt))) if expr.is_Add else (expr.xreplace(pt),)
-        scale = max([1.0] + [abs(complex(sp.N(term, 20))) for term in terms[:50]])
-        rel = mag / scale
-        worst = max(worst, rel)
-        if rel > 1e-30:
-            return ZeroVerdict(False, f"numeric identity test ({DIGITS} digits)", rel)
-    return ZeroVerdict(True, f"numeric identity test ({DIGITS} digits, {points if syms else 1} points)", worst)
+            total_fn = sp.lambdify(syms, e, modules="mpmath")
+            terms_fn = sp.lambdify(syms, terms, modules="mpmath")
+        except Exception:  # pragma: no cover - unusual functions: sympy's evaluator
+            total_fn = terms_fn = None
+        worst = 0.0
+        npts = points if syms else 1
+        for _ in range(npts):
+            pt = random_point(syms, rng)
+            args = [mpmath.mpf(pt[s].p) / pt[s].q for s in syms]
+            try:
+                if total_fn is not None:
+                    mag = abs(mpmath.mpc(total_fn(*args)))
+                    scale = max([mpmath.mpf(1)] + [abs(mpmath.mpc(v)) for v in terms_fn(*args)])
+                else:
+                    mag = abs(complex(sp.N(e.xreplace(pt), DIGITS)))
+                    scale = 1.0
+            except (TypeError, ValueError, ZeroDivisionError):
+                return ZeroVerdict(False, "undecided: not a number at a sample point")
+            rel = float(mag / scale)
+            worst = max(worst, rel)
+            if rel > 1e-30:
+                return ZeroVerdict(False, f"numeric identity test ({DIGITS} digits)", rel)
+    return ZeroVerdict(True, f"numeric identity test ({DIGITS} digits, {npts} points)", worst)
 
 
 def decide_zero(expr: sp.Expr, *, allow_simplify: bool = True) -> ZeroVerdict:

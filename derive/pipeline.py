@@ -22,6 +22,7 @@ from .model import Case, Parameter, Solution, System
 from .recombine import conjugate_pairs, recombine
 from .scalar import solve_blocks
 from .spectral import decompose
+from .steady import steady_state_steps
 from .steps import DecoupleStep, EquationsStep, ResultStep, Step
 from .verify import verify
 
@@ -144,7 +145,7 @@ def build_system(
     return system, tuple(notices)
 
 
-def solve(A, f=None, *, t=None, x0=None, t0=0, params=None) -> Solution:
+def solve(A, f=None, *, t=None, x0=None, t0=0, params=None, assume=None) -> Solution:
     """Solve x' = A x + f(t) exactly, with every step recorded and verified.
 
     >>> import sympy as sp
@@ -153,20 +154,39 @@ def solve(A, f=None, *, t=None, x0=None, t0=0, params=None) -> Solution:
     (-2, -1)
 
     ``params`` maps parameters (Symbols or names) to numeric values used only
-    in the numeric check, or lists them.  Raises ``VerificationError`` if the
+    in the numeric check, or lists them.  ``assume`` gives parameter relations
+    to solve on, e.g. ``["c^2 = 4*k*m"]`` or ``{k: c**2/(4*m)}`` (the critically
+    damped case of a spring-mass-damper).  Raises ``VerificationError`` if the
     result does not verify; call ``solve_system`` for the unchecked record.
     """
     system, notices = build_system(A, f, t=t, x0=x0, t0=t0, params=params)
-    sol = solve_system(system)
-    if notices:
-        sol = replace(sol, notices=tuple(notices) + sol.notices)
-    return sol
+    return _solve_on(system, assume, notices=notices)
 
 
-def solve_case(case: Case) -> Solution:
+def solve_case(case: Case, *, assume=None) -> Solution:
     """Solve a loaded case file; the Solution carries the case for rendering."""
-    sol = solve_system(case.system, case=case)
-    return replace(sol, notices=tuple(case.notices) + sol.notices)
+    return _solve_on(case.system, assume, notices=tuple(case.notices), case=case)
+
+
+def _solve_on(system: System, assume, *, notices=(), case: Case | None = None) -> Solution:
+    from .relations import apply_relations, parse_relations
+
+    conds: tuple = ()
+    notes: tuple[str, ...] = ()
+    if assume:
+        names = {p.name: p.symbol for p in system.params}
+        rel = parse_relations(assume, symbols=names, key="assume")
+        system, conds, notes = apply_relations(system, rel)
+    try:
+        sol = solve_system(system, case=case)
+    except VerificationError as err:
+        bad = getattr(err, "solution", None)
+        if bad is not None:
+            err.solution = replace(  # type: ignore[attr-defined]
+                bad, conditions=conds + bad.conditions, notices=tuple(notices) + notes + bad.notices
+            )
+        raise
+    return replace(sol, conditions=conds + sol.conditions, notices=tuple(notices) + notes + sol.notices)
 
 
 def _constant_names(system: System) -> str:
@@ -211,12 +231,11 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     # g = P^-1 f, as exponential polynomials
     try:
         f_ep = [to_expoly(e, t) for e in system.f]
-    except NotExpPoly as exc:
-        raise UnsupportedError(
-            f"the forcing is outside the closed-form classes of this version ({exc}); "
-            "use sums of polynomials, exponentials, sines and cosines and their products",
-            key="system.forcing",
-        )
+    except NotExpPoly:
+        # steps, impulses, piecewise and other inputs: per interval or in convolution form
+        from .forcing import solve_general_forcing
+
+        return solve_general_forcing(system, dec, steps=steps, case=case, check=check)
     g_ep = []
     for i in range(n):
         acc = ExpPoly()
@@ -251,6 +270,9 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     )
     steps.extend(scal.steps)
 
+    from .relations import regimes
+
+    notices.extend(regimes(dec.steps[0].factors, dec.lam, values))
     real = _is_real_data(system)
     rec = recombine(
         P,
@@ -270,6 +292,7 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
             "the eigenvalues' nature (real or complex) depends on the parameters, so the result "
             "is left in complex exponential form; declare the parameters' signs or choose a regime"
         )
+    steps.extend(steady_state_steps(system, dec.column_eigenvalues, rec.x))
     steps.append(
         ResultStep(
             t=t,

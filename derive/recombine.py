@@ -133,7 +133,10 @@ def recombine(
     # only a full pairing of the complex eigenvalues gives a real form
     n_complex = sum(1 for b in blocks if b.kind == "complex")
     n_unknown = sum(1 for b in blocks if b.kind == "unknown")
-    do_real = real and n_unknown == 0 and 2 * len(pairs) == n_complex
+    # indexed complex roots stay in exponential form: their real and imaginary
+    # parts have no closed form to write, and the value is real anyway
+    indexed = any(b.kind == "complex" and b.value.has(sp.CRootOf) for b in blocks)
+    do_real = real and n_unknown == 0 and 2 * len(pairs) == n_complex and not indexed
 
     values: dict[sp.Symbol, sp.Expr] = {}
     if ivp:
@@ -220,9 +223,9 @@ def recombine(
             )
         particular = _real(xp, t, shift) if do_real else _mat(xp, t, shift)
     cs = () if ivp else tuple(constants)
-    homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs))
-    particular = particular.applyfunc(lambda e: tidy(e, ()))
-    x = sp.ImmutableMatrix([tidy(a + b, cs) for a, b in zip(homogeneous, particular)])
+    homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
+    particular = particular.applyfunc(lambda e: tidy(e, (), t))
+    x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])
     return Recombined(
         x=x,
         homogeneous=homogeneous,
@@ -233,21 +236,27 @@ def recombine(
     )
 
 
-def tidy(e: sp.Expr, constants: Sequence[sp.Symbol]) -> sp.Expr:
+def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
     """Group a solution component by constant, then by exponential factor.
 
     c_1 e^{-t}(cos 2t - 2 sin 2t) + ... reads better than the expanded sum and
-    is what a checker compares with a hand derivation.  (sympy's collect is
-    not used for the exponentials: it rewrites e^{-t/2} as 1/sqrt(e^t).)
+    is what a checker compares with a hand derivation.  Exponentials are held
+    as placeholders while expanding: left alone, expand and collect rewrite
+    e^{-t/2} as 1/sqrt(e^t) and pull e^{-k t} into denominators.
     """
-    e = sp.expand(e, power_exp=False)
+    exps = sorted(e.atoms(sp.exp), key=sp.default_sort_key)
+    hold = {x: sp.Dummy(f"E{i}") for i, x in enumerate(exps)}
+    back = {v: sp.exp(sp.factor_terms(k.args[0])) for k, v in hold.items()}
+    e = sp.expand(e.xreplace(hold))
+    placeholders = set(hold.values())
+    has_params = bool(e.free_symbols - set(constants) - placeholders - {t})
     groups: dict[tuple, dict[sp.Expr, list[sp.Expr]]] = {}
     order: list[tuple] = []
     for term in sp.Add.make_args(e):
         factors = sp.Mul.make_args(term)
         cs = tuple(f for f in factors if f in constants)
-        ex = sp.Mul(*[f for f in factors if isinstance(f, sp.exp)])
-        rest = sp.Mul(*[f for f in factors if f not in constants and not isinstance(f, sp.exp)])
+        ex = sp.Mul(*[f for f in factors if _is_placeholder(f, placeholders)])
+        rest = sp.Mul(*[f for f in factors if f not in constants and not _is_placeholder(f, placeholders)])
         if cs not in groups:
             groups[cs] = {}
             order.append(cs)
@@ -256,10 +265,16 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol]) -> sp.Expr:
     for cs in order:
         inner = []
         for ex, rests in groups[cs].items():
-            ex = ex.replace(lambda a: isinstance(a, sp.exp), lambda a: sp.exp(sp.factor_terms(a.args[0])))
-            inner.append(ex * sp.Add(*rests))
+            coeff = sp.Add(*rests)
+            if has_params:
+                coeff = sp.factor(coeff)
+            inner.append(ex.xreplace(back) * coeff)
         out.append(sp.Mul(*cs) * sp.Add(*inner))
     return sp.Add(*out)
+
+
+def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:
+    return f in placeholders or (f.is_Pow and f.base in placeholders)
 
 
 def _block_of(layout: list[list[list[int]]], col: int) -> int:

@@ -218,7 +218,7 @@ def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
         if not fexpr.has(lam):
             const *= fexpr**mult
             continue
-        factors.append((fexpr, mult))
+        factors.append((fexpr, int(mult)))
     # det(A - lam I) = (-1)^n * const * prod(factor^mult)
     sign_const = sp.factor((-1) ** n * const)
     factored = sp.Mul(sign_const, *[f**m for f, m in factors], evaluate=False) if sign_const != 1 else sp.Mul(*[f**m for f, m in factors])
@@ -446,6 +446,7 @@ def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None)
     field_ok = True
 
     for fexpr, mult in factors:
+        mult = int(mult)
         q_lam = sp.Poly(fexpr, lam, domain=K)
         q_monic = q_lam.monic()
         roots, form, rule = _roots_of(q_lam, lam, has_params)
@@ -693,12 +694,24 @@ def _order_blocks(blocks: list[EigenBlock], keep: bool) -> list[EigenBlock]:
 
 
 def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
-    if P.rows <= 4:
+    """det P exactly where that is cheap (radicals, n <= 4), else its decimal.
+
+    Only invertibility is at stake here; P^-1 itself is exact either way.
+    """
+    if P.rows <= 4 and not P.has(sp.CRootOf):
         try:
             return sp.radsimp(sp.expand(P.det(method="berkowitz")))
         except Exception:  # pragma: no cover - sympy internals
             pass
-    return sp.Float(complex(sp.N(P.det(method="berkowitz"), 15)).real, 12)
+    import mpmath
+
+    with mpmath.workdps(30):
+        M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
+        d = mpmath.det(M)
+    d = complex(d)
+    if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
+        return sp.Float(d.real, 12)
+    return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
 
 
 def _numeric_similarity(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]:

@@ -20,7 +20,7 @@ from typing import Sequence
 import numpy as np
 import sympy as sp
 
-from .exact import decide_zero
+from .exact import decide_zero, root_value
 from .model import NumericCheck, System, Verification
 
 __all__ = ["verify", "numeric_check", "residual"]
@@ -128,7 +128,7 @@ def numeric_check(
     for i, c in enumerate(constants):
         subs[c] = samples[i % len(samples)] * (1 + sp.Rational(i, 7))
     xs = sp.Matrix(x).xreplace(subs)
-    xs = xs.xreplace({r: sp.Float(sp.N(r, 30), 30) for r in xs.atoms(sp.CRootOf)})
+    xs = xs.xreplace({r: root_value(r) for r in xs.atoms(sp.CRootOf)})
     leftover = xs.free_symbols - {t}
     if leftover:
         raise _Skip("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))

@@ -285,6 +285,29 @@ def test_a_wrong_jump_at_the_switch_is_caught() -> None:
     assert "delta(t - 30)" in item.detail
 
 
+def test_cubic_radicals_are_decided_numerically() -> None:
+    lam = sp.Symbol("lam")
+    A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])  # det(lam I - A) = lam^3 - 3 lam - 1, irreducible
+    cardano = list(sp.roots(lam**3 - 3 * lam - 1, lam, cubics=True))
+    good = check(A, eigenvalues=cardano[::-1])
+    assert good.ok and good.items[0].method == "numeric (50 digits)"
+    assert "numeric identity test (50 digits)" in good.items[0].detail
+    bad = check(A, eigenvalues=[cardano[0], cardano[1], cardano[1]])
+    assert not bad.ok and "nonzero by a numeric test" in bad.items[0].detail
+
+
+def test_indexed_roots() -> None:
+    lam = sp.Symbol("lam")
+    A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])
+    roots = [sp.CRootOf(lam**3 - 3 * lam - 1, k) for k in range(3)]
+    good = check(A, eigenvalues=roots[::-1])
+    assert good.ok
+    other = [sp.CRootOf(lam**3 - 3 * lam + 1, k) for k in range(3)]
+    assert not check(A, eigenvalues=other).ok
+    # The report has no legend of root names, so a root is printed in full.
+    assert r"\text{root } 0 \text{ of }" in render_check(good, "latex")
+
+
 def test_imaginary_unit_in_claim_strings() -> None:
     case = loads_case("[system]\nmatrix = [[1, -2], [2, 1]]\n")
     claim = loads_claim('eigenvalues = ["1 + 2i", "1 - 2j"]\neigenvectors = [["1 + 2i", ["1", "-i"]]]', case=case)

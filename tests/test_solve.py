@@ -215,7 +215,7 @@ def test_forced_ivp_against_scipy():
 
     ts = np.linspace(0, 6, 13)
     num = solve_ivp(rhs, (0, 6), np.array(x0, float), method="DOP853", rtol=1e-12, atol=1e-12, t_eval=ts)
-    x_num = sol.x.xreplace({r: sp.Float(sp.N(r, 30), 30) for r in sol.x.atoms(sp.CRootOf)})
+    x_num = sol.x.xreplace({r: sp.N(r, 30) for r in sol.x.atoms(sp.CRootOf)})
     fx = sp.lambdify(t, list(x_num), "numpy")
     exact = np.array([np.array(fx(tt), dtype=complex).real for tt in ts]).T
     assert np.max(np.abs(exact - num.y)) < 1e-8

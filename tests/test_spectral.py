@@ -1,0 +1,235 @@
+"""Every spectrum: repeated, defective, zero, complex defective, non-radical, symbolic.
+
+The Jordan structure is checked against sympy's own ``jordan_form`` (an
+independent implementation, used only here, never on the solving path) and
+every solution is checked by substitution.
+"""
+
+from __future__ import annotations
+
+import pytest
+import sympy as sp
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+import derive
+from derive.spectral import decompose
+
+t = sp.Symbol("t")
+
+
+def residual(A, f, x):
+    A = sp.Matrix(A)
+    f = sp.zeros(A.rows, 1) if f is None else sp.Matrix(f)
+    return sp.simplify(sp.Matrix(x).diff(t) - A * sp.Matrix(x) - f)
+
+
+@st.composite
+def unimodular(draw, n):
+    M = sp.eye(n)
+    for _ in range(draw(st.integers(n, 2 * n + 2))):
+        i = draw(st.integers(0, n - 1))
+        j = draw(st.integers(0, n - 1))
+        if i != j:
+            E = sp.eye(n)
+            E[i, j] = draw(st.integers(-1, 1))
+            M = M * E
+    return M
+
+
+def jordan_block(lam, size):
+    J = sp.eye(size) * lam
+    for i in range(size - 1):
+        J[i, i + 1] = 1
+    return J
+
+
+def block_signature(J):
+    """Sorted (eigenvalue, size) pairs of a Jordan matrix."""
+    n = J.rows
+    out = []
+    i = 0
+    while i < n:
+        size = 1
+        while i + size < n and J[i + size - 1, i + size] == 1:
+            size += 1
+        out.append((J[i, i], size))
+        i += size
+    return sorted(out, key=lambda p: (sp.default_sort_key(p[0]), p[1]))
+
+
+@st.composite
+def jordan_structure(draw):
+    """Blocks (eigenvalue, size) with total size 2..6, eigenvalues possibly shared."""
+    n = draw(st.integers(2, 6))
+    blocks = []
+    left = n
+    pool = draw(st.lists(st.integers(-3, 2), min_size=1, max_size=3, unique=True))
+    while left:
+        size = draw(st.integers(1, min(3, left)))
+        blocks.append((draw(st.sampled_from(pool)), size))
+        left -= size
+    return blocks
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(blocks=jordan_structure(), data=st.data())
+def test_every_block_structure_by_construction(blocks, data):
+    n = sum(s for _, s in blocks)
+    J = sp.diag(*[jordan_block(lam, s) for lam, s in blocks])
+    P = data.draw(unimodular(n))
+    A = P * J * P.inv()
+    forced = data.draw(st.booleans())
+    f = [sp.exp(-t) if i == 0 else 0 for i in range(n)] if forced else None
+    sol = derive.solve(A, f, x0=[1] + [0] * (n - 1))
+    assert sol.verification.ok
+    assert residual(A, f, sol.x) == sp.zeros(n, 1)
+    # sympy's jordan_form as the independent reference for J (up to block order)
+    _, J_ref = sp.Matrix(A).jordan_form()
+    assert block_signature(sol.D) == block_signature(J_ref)
+    assert sol.is_diagonalizable == all(s == 1 for _, s in blocks)
+    assert sp.simplify(sol.P * sol.D * sol.P_inv - A) == sp.zeros(n, n)
+
+
+@pytest.mark.parametrize("defective", [False, True])
+def test_complex_pair_repeated_and_defective_in_real_form(defective):
+    C = sp.Matrix([[-1, 2], [-2, -1]])  # eigenvalues -1 +- 2i
+    E = sp.eye(2) if defective else sp.zeros(2)
+    R = sp.Matrix(sp.BlockMatrix([[C, E], [sp.zeros(2), C]]))
+    P = sp.Matrix([[1, 1, 0, 0], [0, 1, 1, 0], [0, 0, 1, 1], [1, 0, 0, 2]])
+    assert P.det() != 0
+    A = P * R * P.inv()
+    sol = derive.solve(A, x0=[1, 0, 0, 1])
+    assert not sol.x.has(sp.I)
+    assert sol.verification.ok
+    assert sol.is_diagonalizable is (not defective)
+    if defective:
+        assert sol.x.has(t * sp.exp(-t) * sp.cos(2 * t)) or any(
+            a.has(t) and a.is_Mul for a in sp.Add.make_args(sp.expand(sol.x[0]))
+        )
+
+
+def test_published_defective_boyce_diprima():
+    # Boyce & DiPrima, Elementary Differential Equations and Boundary Value
+    # Problems, 10th ed., section 7.8, Example 1 (from memory):
+    # x' = [[1, -1], [1, 3]] x has the double eigenvalue r = 2 with the single
+    # eigenvector (1, -1); a second solution is x = (1,-1) t e^{2t} + eta e^{2t}
+    # with (A - 2I) eta = (1, -1).
+    A = sp.Matrix([[1, -1], [1, 3]])
+    sol = derive.solve(A)
+    assert sol.eigenvalues == (2, 2)
+    assert not sol.is_diagonalizable
+    assert sol.D == sp.Matrix([[2, 1], [0, 2]])
+    v1 = sol.P[:, 0]
+    assert v1[0] == -v1[1]
+    eta = sol.P[:, 1]
+    assert (A - 2 * sp.eye(2)) * eta == v1
+    assert any(step.kind == "jordan_chain" for step in sol.steps)
+    assert residual(A, None, sol.x) == sp.zeros(2, 1)
+    assert sol.x.has(t * sp.exp(2 * t))
+
+
+def test_published_repeated_diagonalizable_boyce_diprima():
+    # Boyce & DiPrima, 10th ed., section 7.3 (symmetric example, from memory):
+    # [[0, 1, 1], [1, 0, 1], [1, 1, 0]] has eigenvalues 2, -1, -1 and a
+    # two-dimensional eigenspace for -1, so it is diagonalisable.
+    A = sp.Matrix([[0, 1, 1], [1, 0, 1], [1, 1, 0]])
+    sol = derive.solve(A)
+    assert sorted(sol.eigenvalues) == [-1, -1, 2]
+    assert sol.is_diagonalizable
+    vec_step = next(s for s in sol.steps if s.kind == "eigenvector" and s.eigenvalue == -1)
+    assert len(vec_step.basis) == 2 and len(vec_step.free) == 2
+
+
+def test_zero_eigenvalues_free_integrator():
+    # double integrator with a constant push: x1'' = 1, so x1 = t^2/2 from rest
+    sol = derive.solve([[0, 1], [0, 0]], [0, 1], x0=[0, 0])
+    assert sp.simplify(sol.x[0] - t**2 / 2) == 0
+    assert sol.eigenvalues == (0, 0)
+    assert not sol.is_diagonalizable
+    scal = [s for s in sol.steps if s.kind == "scalar"]
+    assert all(s.factor == 1 for s in scal)
+
+
+def test_casus_irreducibilis_uses_indexed_roots_and_says_why():
+    A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])  # lambda^3 - 3 lambda - 1
+    dec = decompose(A)
+    ent = next(s for s in dec.steps if s.kind == "eigenvalues").entries
+    assert all(e.form == "indexed root" for e in ent)
+    assert "casus irreducibilis" in ent[0].rule
+    sol = derive.solve(A, x0=[1, 0, 0])
+    assert sol.verification.ok
+    assert "numeric" in sol.verification.residual_method
+
+
+@pytest.mark.slow
+def test_irreducible_quintic_verified_numerically_against_scipy():
+    # companion matrix of z^5 - z - 1 (irreducible, not solvable by radicals),
+    # shifted by -2 so every mode decays: eigenvalues are the roots minus 2
+    C = sp.zeros(5)
+    for i in range(4):
+        C[i + 1, i] = 1
+    C[0, 4] = 1
+    C[1, 4] = 1
+    A = C - 2 * sp.eye(5)
+    sol = derive.solve(A, x0=[0, 1, 0, 0, 0])
+    assert all(isinstance(e, sp.CRootOf) for e in sol.eigenvalues)
+    assert sol.verification.ok
+    num = sol.verification.numeric
+    assert num is not None and num.ok and num.max_rel_gap < 1e-6
+    assert num.method.startswith("scipy")
+
+
+def test_radical_cubic_within_the_size_rule():
+    # (lambda - 1)(lambda^2 + 1) is reducible; take an irreducible cubic with one
+    # real root and small radicals: lambda^3 - 2
+    A = sp.Matrix([[0, 1, 0], [0, 0, 1], [2, 0, 0]])
+    dec = decompose(A)
+    ent = next(s for s in dec.steps if s.kind == "eigenvalues").entries
+    assert ent[0].form == "radical"
+    assert sp.simplify(ent[0].value**3 - 2) == 0
+
+
+def test_three_compartments_symbolic_rates_state_conditions():
+    k1, k2, k3 = sp.symbols("k1 k2 k3", positive=True)
+    A = sp.Matrix([[-k1, 0, 0], [k1, -k2, 0], [0, k2, -k3]])
+    sol = derive.solve(A, x0=[1, 0, 0])
+    conds = {sp.factor(c.expr) for c in sol.conditions}
+    for a, b in ((k1, k2), (k1, k3), (k2, k3)):
+        assert (a - b) in conds or (b - a) in conds
+    assert residual(A, None, sol.x) == sp.zeros(3, 1)
+    assert sol.verification.ok
+
+
+def test_spring_mass_damper_generic_regime_and_critical_case():
+    k, m, c = sp.symbols("k m c", positive=True)
+    A = sp.Matrix([[0, 1], [-k / m, -c / m]])
+    gen = derive.solve(A, params={k: 4, m: 1, c: 1})
+    assert any(sp.expand(cd.expr - (c**2 - 4 * k * m)) == 0 for cd in gen.conditions)
+    assert any("complex-conjugate pair" in n for n in gen.notices)
+    crit = derive.solve(A, x0=[1, 0], assume=["c^2 = 4*k*m"])
+    assert not crit.is_diagonalizable
+    assert crit.eigenvalues == (-c / (2 * m), -c / (2 * m))
+    assert any(cd.relation == "= 0" for cd in crit.conditions)
+    # the textbook critically damped response from rest at x = 1
+    wn = c / (2 * m)
+    assert sp.simplify(crit.x[0] - (1 + wn * t) * sp.exp(-wn * t)) == 0
+
+
+def test_six_by_six_defective_rational():
+    J = sp.diag(jordan_block(-1, 3), jordan_block(-1, 1), jordan_block(2, 2))
+    P = sp.Matrix(
+        [
+            [1, 0, 1, 0, 0, 0],
+            [0, 1, 0, 1, 0, 0],
+            [0, 0, 1, 0, 1, 0],
+            [0, 0, 0, 1, 0, 1],
+            [1, 0, 0, 0, 1, 0],
+            [0, 1, 0, 0, 0, 1],
+        ]
+    )
+    assert P.det() != 0
+    A = P * J * P.inv()
+    sol = derive.solve(A, [1, 0, 0, 0, 0, sp.exp(-t)], x0=[1, 0, 0, 0, 0, 0])
+    assert sol.verification.ok
+    assert block_signature(sol.D) == block_signature(J)
