@@ -289,8 +289,9 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     steps.extend(rec.steps)
     if real and not rec.real_form and any(b.kind != "real" for b in dec.blocks):
         notices.append(
-            "the eigenvalues' nature (real or complex) depends on the parameters, so the result "
-            "is left in complex exponential form; declare the parameters' signs or choose a regime"
+            "whether the eigenvalues are real or complex depends on the parameter values, so the "
+            "result is written with exponentials of the eigenvalues as they stand; it holds in both "
+            "regimes (with the square roots imaginary where their argument is negative)"
         )
     steps.extend(steady_state_steps(system, dec.column_eigenvalues, rec.x))
     steps.append(

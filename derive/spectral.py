@@ -50,7 +50,7 @@ LAM = sp.Symbol("lambda")
 
 #: Size rule: a cubic or quartic root whose radical form needs more operations
 #: than this is kept as an indexed root of its polynomial (with a decimal).
-RADICAL_OPS_LIMIT = 40
+RADICAL_OPS_LIMIT = 16
 
 _TH = sp.Dummy("theta")  # generic root inside F = K[theta]/(q)
 

@@ -21,7 +21,9 @@ import sympy as sp
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
-import derive.check as check_module
+import importlib
+
+check_module = importlib.import_module("derive.check")  # the module: derive.check is the function
 import derive.claimfile as claimfile_module
 from derive.casefile import load_case, loads_case
 from derive.check import CAUTION, STEP_ORDER, CheckReport, check, render_check, write_check_outputs
