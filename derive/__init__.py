@@ -28,6 +28,7 @@ from .pipeline import solve, solve_case, solve_system  # noqa: E402
 from .casefile import load_case, loads_case  # noqa: E402
 from .render import render  # noqa: E402
 from .check import CheckItem, CheckReport, check  # noqa: E402
+from .batch import BatchReport, CaseResult, batch  # noqa: E402
 
 __all__ = [
     "__version__",
@@ -38,6 +39,9 @@ __all__ = [
     "loads_case",
     "render",
     "check",
+    "batch",
+    "BatchReport",
+    "CaseResult",
     "CheckReport",
     "CheckItem",
     "Solution",

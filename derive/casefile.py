@@ -25,7 +25,7 @@ from typing import Any
 import sympy as sp
 
 from .equations import parse_equations, split_equation
-from .errors import CaseFileError, LimitError
+from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
 from .parsing import (
     CONSTANTS,
@@ -40,6 +40,8 @@ from .parsing import (
 __all__ = [
     "load_case",
     "loads_case",
+    "load_cases",
+    "loads_cases",
     "case_name",
     "ASSUMPTIONS",
     "TOP_KEYS",
@@ -49,7 +51,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "sweep")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -301,6 +303,39 @@ def _matrix(
     return sp.ImmutableMatrix(entries)
 
 
+def _forcing_entry(
+    ctx: _Ctx, value: object, key: str, symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
+) -> sp.Expr:
+    """One forcing entry: an expression, or ``{ piecewise = [[v1, b1], ..., [vn]] }``.
+
+    The table form reads "v1 until t = b1, v2 until b2, ..., vn after"; it
+    becomes a sympy Piecewise, solved interval by interval (derive.forcing).
+    """
+    if not isinstance(value, dict):
+        return ctx.expr(value, key, symbols, notices)
+    ctx.keys(value, ("piecewise",), key)
+    if "piecewise" not in value:
+        raise ctx.error(key, f"{key} is a table without the key 'piecewise'; expected {{ piecewise = [[value, end], ..., [value]] }}")
+    pkey = f"{key}.piecewise"
+    rows = ctx.seq(value["piecewise"], pkey, "a list of [value, end] pairs ending with [value]")
+    pieces: list[tuple[sp.Expr, sp.Expr | None]] = []
+    for j, row in enumerate(rows):
+        rkey = f"{pkey}[{j}]"
+        last = j == len(rows) - 1
+        if not isinstance(row, list) or len(row) != (1 if last else 2):
+            want = "[value] (the last interval has no end)" if last else "[value, end]"
+            raise ctx.error(rkey, f"{rkey} is {_show(row)}; expected {want}")
+        v = ctx.expr(row[0], f"{rkey}[0]", symbols, notices)
+        b = None if last else ctx.expr(row[1], f"{rkey}[1]", symbols, notices)
+        pieces.append((v, b))
+    from .forcing import piecewise_from_intervals
+
+    try:
+        return piecewise_from_intervals(pieces, t, key=pkey, file=ctx.file)
+    except InputError as exc:
+        raise ctx.error(exc.key or pkey, exc.message) from exc
+
+
 def _state_names(ctx: _Ctx, raw: object, n: int, t: sp.Symbol) -> tuple[str, ...]:
     key = "system.states"
     names = ctx.seq(raw, key, f"a list of {n} state names")
@@ -439,7 +474,7 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             items = ctx.seq(system["forcing"], fkey, f"a list of {n} entries")
             if len(items) != n:
                 raise ctx.error(fkey, f"{shape} but system.forcing has {len(items)} entries")
-            f = sp.ImmutableMatrix([ctx.expr(v, f"{fkey}[{i}]", with_t, notices) for i, v in enumerate(items)])
+            f = sp.ImmutableMatrix([_forcing_entry(ctx, v, f"{fkey}[{i}]", with_t, t, notices) for i, v in enumerate(items)])
         else:
             f = sp.zeros(n, 1).as_immutable()
     else:
@@ -572,14 +607,60 @@ def loads_case(
     [ 0, -1/2]])
     """
     ctx = _Ctx(source, limits)
+    return _single(_loads(text, ctx=ctx, name=name, limits=limits), ctx)
+
+
+def _loads(text: str, *, ctx: _Ctx, name: str, limits: Limits) -> tuple[Case, Mapping[str, Any]]:
     if not isinstance(text, str):
-        raise CaseFileError(f"found {type(text).__name__}; expected the TOML text as a string", file=source)
+        raise CaseFileError(f"found {type(text).__name__}; expected the TOML text as a string", file=ctx.file)
     if len(text.encode("utf-8", "surrogatepass")) > limits.max_file_bytes:
-        raise LimitError(f"the case text is larger than the limit of {limits.max_file_bytes} bytes", file=source)
-    safe = case_name(name, file=source)
+        raise LimitError(f"the case text is larger than the limit of {limits.max_file_bytes} bytes", file=ctx.file)
+    safe = case_name(name, file=ctx.file)
     digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
     data = _decode_toml(text, ctx)
-    return _build(data, ctx=ctx, name=safe, source=source, digest=digest)
+    return _build(data, ctx=ctx, name=safe, source=ctx.file, digest=digest), data
+
+
+def _single(loaded: tuple[Case, Mapping[str, Any]], ctx: _Ctx) -> Case:
+    """The one case of a file; a file with a [sweep] holds several, which is said plainly."""
+    case, data = loaded
+    if "sweep" in data:
+        from .sweep import expand_sweep
+
+        count = len(expand_sweep(case, data["sweep"], file=ctx.file, limits=ctx.limits))
+        raise CaseFileError(
+            f"the file declares a [sweep] of {count} case(s); expected a single case here",
+            file=ctx.file,
+            key="sweep",
+            hint="run it with: derive batch FILE (or derive.batch([...]) from Python)",
+        )
+    return case
+
+
+def _expand(loaded: tuple[Case, Mapping[str, Any]], ctx: _Ctx) -> tuple[Case, ...]:
+    case, data = loaded
+    if "sweep" not in data:
+        return (case,)
+    from .sweep import expand_sweep
+
+    return expand_sweep(case, data["sweep"], file=ctx.file, limits=ctx.limits)
+
+
+def loads_cases(
+    text: str,
+    *,
+    name: str = "case",
+    source: str | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+) -> tuple[Case, ...]:
+    """Every case of a TOML text: one, or one per combination of its ``[sweep]``.
+
+    >>> text = '[system]\\nmatrix = [["-k"]]\\n[parameters.k]\\n[sweep]\\nk = [1, 2]'
+    >>> [c.name for c in loads_cases(text, name="decay")]
+    ['decay-k_1', 'decay-k_2']
+    """
+    ctx = _Ctx(source, limits)
+    return _expand(_loads(text, ctx=ctx, name=name, limits=limits), ctx)
 
 
 def load_case(path: str | os.PathLike[str], *, limits: Limits = DEFAULT_LIMITS) -> Case:
@@ -589,6 +670,19 @@ def load_case(path: str | os.PathLike[str], *, limits: Limits = DEFAULT_LIMITS) 
     >>> case.name, len(case.source_hash)              # doctest: +SKIP
     ('two_tanks', 64)
     """
+    return _single(*_load(path, limits=limits))
+
+
+def load_cases(path: str | os.PathLike[str], *, limits: Limits = DEFAULT_LIMITS) -> tuple[Case, ...]:
+    """Every case of a case file: one, or one per combination of its ``[sweep]``.
+
+    >>> [c.name for c in load_cases("examples/beam.toml")]  # doctest: +SKIP
+    ['beam-k_1', 'beam-k_2', 'beam-k_4']
+    """
+    return _expand(*_load(path, limits=limits))
+
+
+def _load(path: str | os.PathLike[str], *, limits: Limits) -> tuple[tuple[Case, Mapping[str, Any]], _Ctx]:
     p = Path(path)
     where = str(path)
     try:
@@ -611,4 +705,5 @@ def load_case(path: str | os.PathLike[str], *, limits: Limits = DEFAULT_LIMITS) 
     # A backslash is legal in a POSIX file name but reads as a separator elsewhere.
     safe = case_name(p.stem.replace("\\", "_"), file=where)
     data = _decode_toml(text, ctx)
-    return _build(data, ctx=ctx, name=safe, source=where, digest=hashlib.sha256(raw).hexdigest())
+    case = _build(data, ctx=ctx, name=safe, source=where, digest=hashlib.sha256(raw).hexdigest())
+    return (case, data), ctx

@@ -11,6 +11,7 @@ from __future__ import annotations
 import contextlib
 import signal
 import threading
+import time
 from typing import Iterator
 
 from .errors import TimeLimitError
@@ -39,6 +40,12 @@ def time_limit(seconds: float | None, *, what: str = "the case") -> Iterator[Non
             "numeric values for them)",
         )
 
+    # nested limits: the earlier deadline wins, and the outer timer is re-armed after
+    outer_left, _ = signal.getitimer(signal.ITIMER_REAL)
+    if outer_left and outer_left < seconds:
+        yield
+        return
+    started = time.monotonic()
     previous = signal.signal(signal.SIGALRM, _alarm)
     signal.setitimer(signal.ITIMER_REAL, seconds)
     try:
@@ -46,3 +53,6 @@ def time_limit(seconds: float | None, *, what: str = "the case") -> Iterator[Non
     finally:
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, previous)
+        if outer_left:
+            remaining = outer_left - (time.monotonic() - started)
+            signal.setitimer(signal.ITIMER_REAL, max(remaining, 1e-3))

@@ -73,6 +73,13 @@ def _atomic_write(path: Path, data: bytes) -> None:
         raise
 
 
+def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> Path:
+    """Write bytes atomically (a PDF that came back from a cluster worker, say)."""
+    path = Path(path)
+    _atomic_write(path, data)
+    return path
+
+
 def atomic_write_text(path: str | os.PathLike[str], text: str) -> Path:
     """Write text (UTF-8) atomically: a reader sees the old file or the whole new one.
 

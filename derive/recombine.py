@@ -270,7 +270,8 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
                 coeff = sp.factor(coeff)
             inner.append(ex.xreplace(back) * coeff)
         out.append(sp.Mul(*cs) * sp.Add(*inner))
-    return sp.Add(*out)
+    # a placeholder can also sit inside a coefficient (an exponential in a denominator)
+    return sp.Add(*out).xreplace(back)
 
 
 def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:

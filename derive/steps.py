@@ -40,6 +40,10 @@ __all__ = [
     "RealFormStep",
     "InitialValuesStep",
     "ResultStep",
+    "IntervalStep",
+    "JumpStep",
+    "ConvolutionStep",
+    "SteadyStateStep",
     "STEP_KINDS",
 ]
 
@@ -290,6 +294,108 @@ class ResultStep(Step):
     constants: tuple[sp.Symbol, ...]
 
 
+@dataclass(frozen=True)
+class IntervalStep(Step):
+    """One interval between switching times, solved as an IVP from the state handed over.
+
+    ``end`` is ``None`` for the last interval (it runs on without end).  ``f``
+    is the forcing with every switch function resolved on the interval, ``g``
+    its decoupled form P^-1 f; ``x_start`` is the state at ``start`` (after
+    any jump there) and ``y_start`` = P^-1 x_start the modal starting values;
+    ``y`` and ``x`` are the decoupled and the physical solution on the
+    interval and ``x_end`` the state at its end, handed to the next one.
+    ``method`` is "closed form" (exponential-polynomial forcing) or
+    "convolution".
+    """
+
+    kind: ClassVar[str] = "interval"
+    index: int
+    t: sp.Symbol
+    start: sp.Expr
+    end: sp.Expr | None
+    f: Matrix
+    g: Matrix
+    x_start: Matrix
+    y_start: Matrix
+    y: Matrix
+    x: Matrix
+    x_end: Matrix | None
+    method: str
+
+
+@dataclass(frozen=True)
+class JumpStep(Step):
+    """An impulse b delta(t - a) in the forcing: the state jumps, x(a+) = x(a-) + b."""
+
+    kind: ClassVar[str] = "jump"
+    t: sp.Symbol
+    at: sp.Expr
+    weight: Matrix  # b
+    before: Matrix  # x(a-)
+    after: Matrix  # x(a+)
+
+
+@dataclass(frozen=True)
+class ConvolutionStep(Step):
+    """y_i as a convolution integral, for a forcing with no closed-form rule.
+
+    ``kernel`` is the integrand of y_i(t) = (free part ``homogeneous``) +
+    integral from t0 to t of kernel ds (s is ``s``): e^{lam (t - s)} g_i(s), plus
+    the chain terms (t - s)^m / m! e^{lam (t - s)} g_(i+m)(s) inside a Jordan
+    block.  ``integrals`` pairs each separated integral (integrand free of t)
+    with its value: a closed form found by sympy's integrate within the time
+    limit, or the same ``Integral`` kept for quadrature.  ``solution`` is
+    y_i(t) with those values in place.
+    """
+
+    kind: ClassVar[str] = "convolution"
+    index: int
+    t: sp.Symbol
+    s: sp.Symbol
+    y: sp.Symbol
+    eigenvalue: sp.Expr
+    g: sp.Expr
+    kernel: sp.Expr
+    t0: sp.Expr
+    homogeneous: sp.Expr  # the free part of y_i (its constant times the exponential)
+    integrals: tuple[tuple[sp.Expr, sp.Expr], ...]
+    closed: bool  # every integral has a closed form
+    written: sp.Expr  # homogeneous + Integral(kernel, (s, t0, t)): the definition, unevaluated
+    solution: sp.Expr
+
+
+@dataclass(frozen=True)
+class SteadyStateStep(Step):
+    """Steady state of a stable system under constant and/or sinusoidal input.
+
+    ``x_constant`` = -A^-1 f0 answers the constant part ``constant``; for a
+    sinusoid of angular frequency ``omega`` the input phasor ``phasor_in`` (f =
+    Re(F e^{i omega t})) gives X = (i omega I - A)^-1 F (``phasor``) and each
+    state oscillates as ``amplitude[k]`` cos(omega t + ``phase[k]``).
+    ``transient`` = x - x_ss decays; ``since`` is the start of the interval the
+    forcing holds on (``None`` when it holds throughout).  ``stability`` says
+    how Re(lambda) < 0 was established; ``residual_zero`` records that x_ss
+    itself satisfies x' = A x + f.
+    """
+
+    kind: ClassVar[str] = "steady_state"
+    t: sp.Symbol
+    eigenvalues: tuple[sp.Expr, ...]
+    stability: str
+    forcing: Matrix
+    constant: Matrix | None
+    x_constant: Matrix | None
+    omega: sp.Expr | None
+    phasor_in: Matrix | None
+    phasor: Matrix | None
+    amplitude: tuple[sp.Expr, ...]
+    phase: tuple[sp.Expr, ...]
+    x_ss: Matrix
+    transient: Matrix
+    since: sp.Expr | None
+    residual_zero: bool
+
+
 STEP_KINDS: tuple[type[Step], ...] = (
     EquationsStep,
     CharPolyStep,
@@ -305,4 +411,8 @@ STEP_KINDS: tuple[type[Step], ...] = (
     RealFormStep,
     InitialValuesStep,
     ResultStep,
+    IntervalStep,
+    JumpStep,
+    ConvolutionStep,
+    SteadyStateStep,
 )

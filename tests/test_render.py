@@ -53,6 +53,10 @@ from derive.steps import (
     ScalarStep,
     SimilarityStep,
     Step,
+    IntervalStep,
+    JumpStep,
+    ConvolutionStep,
+    SteadyStateStep,
 )
 
 M = sp.ImmutableMatrix
@@ -137,6 +141,35 @@ def sample_steps() -> dict[str, Step]:
             values=((c1, sp.Integer(2)), (c2, sp.Integer(-1))),
         ),
         "result": ResultStep(t=t, states=(x1, x2), x=X, homogeneous=XH, particular=XP, constants=()),
+        # the samples below belong to the forcing classes of derive.forcing (switched
+        # inputs, impulses, convolution, steady state); small hand-made objects
+        "interval": IntervalStep(
+            index=2, t=t, start=sp.Integer(1), end=sp.Integer(3), f=M([0, 5]), g=M([5, -5]),
+            x_start=M([1, 0]), y_start=M([2, -1]), y=M([2 * sp.exp(1 - t) + 5, -sp.exp(2 - 2 * t)]),
+            x=M([5 + 2 * sp.exp(1 - t) - sp.exp(2 - 2 * t), -2 * sp.exp(1 - t) + 2 * sp.exp(2 - 2 * t)]),
+            x_end=M([5 + 2 * sp.exp(-2) - sp.exp(-4), -2 * sp.exp(-2) + 2 * sp.exp(-4)]), method="closed form",
+        ),
+        "jump": JumpStep(t=t, at=sp.Integer(2), weight=M([0, 3]), before=M([1, 0]), after=M([1, 3])),
+        "convolution": ConvolutionStep(
+            index=1, t=t, s=sp.Symbol("s", real=True), y=y1, eigenvalue=sp.Integer(-1), g=1 / (1 + t**2),
+            kernel=sp.exp(sp.Symbol("s", real=True) - t) / (1 + sp.Symbol("s", real=True) ** 2), t0=sp.Integer(0),
+            homogeneous=2 * sp.exp(-t),
+            integrals=((sp.Integral(sp.exp(sp.Symbol("s", real=True)) / (1 + sp.Symbol("s", real=True) ** 2),
+                                    (sp.Symbol("s", real=True), 0, t)),) * 2,),
+            closed=False,
+            written=2 * sp.exp(-t) + sp.Integral(sp.exp(sp.Symbol("s", real=True) - t) / (1 + sp.Symbol("s", real=True) ** 2),
+                                                 (sp.Symbol("s", real=True), 0, t)),
+            solution=2 * sp.exp(-t) + sp.exp(-t) * sp.Integral(sp.exp(sp.Symbol("s", real=True)) / (1 + sp.Symbol("s", real=True) ** 2),
+                                                               (sp.Symbol("s", real=True), 0, t)),
+        ),
+        "steady_state": SteadyStateStep(
+            t=t, eigenvalues=(sp.Integer(-1), sp.Integer(-2)), stability="exact", forcing=M([0, 2 + sp.cos(t)]),
+            constant=M([0, 2]), x_constant=M([1, 0]), omega=sp.Integer(1), phasor_in=M([0, 1]),
+            phasor=M([sp.Rational(1, 10) - 3 * sp.I / 10, sp.Rational(3, 10) + sp.I / 10]),
+            amplitude=(sp.sqrt(10) / 10, sp.sqrt(10) / 10), phase=(-sp.atan(3), sp.atan(sp.Rational(1, 3))),
+            x_ss=M([1 + sp.cos(t) / 10 + 3 * sp.sin(t) / 10, 3 * sp.cos(t) / 10 - sp.sin(t) / 10]),
+            transient=M([-sp.exp(-t), sp.exp(-t)]), since=None, residual_zero=True,
+        ),
     }
 
 
@@ -156,6 +189,10 @@ HEADINGS = {
     "real_form": "Real form",
     "initial_values": "Constants from the initial values",
     "result": "Collected result",
+    "interval": "Interval 2",
+    "jump": "Impulse at",
+    "convolution": "Convolution form for",
+    "steady_state": "Steady state and transient",
 }
 
 

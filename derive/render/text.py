@@ -390,6 +390,98 @@ def _result(s: Any, c: _Ctx) -> list[Block]:
     return [Heading(3, "Collected result"), Para(tuple(parts)), Eq(c.state_rows(s.x))]
 
 
+def _interval(s: Any, c: _Ctx) -> list[Block]:
+    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
+    a, ap = c.fmt.m(s.start), c.fmt.plain(s.start)
+    end = "infinity" if s.end is None else c.fmt.plain(s.end)
+    origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
+    how = (
+        "The forcing is an exponential polynomial here: each decoupled equation is solved by its integrating factor from the start of the interval:"
+        if s.method == "closed form"
+        else "The forcing has no closed-form rule here: each decoupled equation is solved in convolution form (next):"
+    )
+    out: list[Block] = [
+        Heading(3, f"Interval {s.index}: {ap} <= {Tp} < {end}"),
+        P("Every step, pulse and piecewise branch has a fixed value on this interval, so the forcing and its decoupled form g = P^-1 f are:"),
+        _mat(f"f({T})", f"f({Tp})", s.f),
+        _mat(f"g({T})", f"g({Tp})", s.g),
+        P(f"It starts from {origin} (with any jump at {Tp} = {ap} applied), and y = P^-1 x there:"),
+        _mat(f"x({a})", f"x({ap})", s.x_start),
+        _mat(f"y({a})", f"y({ap})", s.y_start),
+        P(how),
+        _mat(f"y({T})", f"y({Tp})", s.y),
+        P("With x = P y, on this interval:"),
+        Eq(c.state_rows(s.x)),
+    ]
+    if s.x_end is not None:
+        out += [P("The state at the end, handed to the next interval:"), _mat(f"x({c.fmt.m(s.end)})", f"x({end})", s.x_end)]
+    else:
+        out.append(P("This interval has no end: the solution above holds for all later times."))
+    return out
+
+
+def _jump(s: Any, c: _Ctx) -> list[Block]:
+    a, ap = c.fmt.m(s.at), c.fmt.plain(s.at)
+    Tp = c.fmt.plain(s.t)
+    return [
+        Heading(3, f"Impulse at {Tp} = {ap}"),
+        P(f"The forcing contains b delta({Tp} - {ap}). Integrating x' = A x + f across {Tp} = {ap}, only the impulse contributes, so the state jumps by b:"),
+        _mat("b", "b", s.weight),
+        _mat(f"x({a}^{{-}})", f"x({ap}-)", s.before),
+        _mat(f"x({a}^{{+}})", f"x({ap}+)", s.after),
+    ]
+
+
+def _convolution(s: Any, c: _Ctx) -> list[Block]:
+    yp = c.fmt.plain(s.y)
+    out: list[Block] = [
+        Heading(3, f"Convolution form for {yp}"),
+        P("The equation with eigenvalue ", Math(s.eigenvalue), " and decoupled forcing g = ", Math(s.g),
+          " has no closed-form rule for the integrating-factor integral, so the solution is the convolution:"),
+        Eq(((c.fn(s.y), s.written),)),
+        P("Splitting e^(lambda (t - s)) at t0, it combines integrals whose integrands do not contain t:"),
+    ]
+    for integral, value in s.integrals:
+        if value == integral:
+            out += [Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), integral),)),
+                    P("No closed form found within the time limit: kept as a definite integral, evaluated by quadrature in the numeric check.")]
+        else:
+            out.append(Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), value),)))
+    out += [P("With these:"), Eq(((c.fn(s.y), s.solution),))]
+    return out
+
+
+def _steady_state(s: Any, c: _Ctx) -> list[Block]:
+    basis = "decided exactly" if s.stability == "exact" else "decided at the given parameter values"
+    since = f", for the input from {c.fmt.plain(s.t)} = {c.fmt.plain(s.since)} on" if s.since is not None else ""
+    out: list[Block] = [
+        Heading(3, "Steady state and transient"),
+        P(f"Every eigenvalue has a negative real part ({basis}): the free response decays and the solution tends to the steady state{since}."),
+    ]
+    if s.constant is not None:
+        out += [P("For the constant part f0 of the input, x_ss = -A^-1 f0:"), _mat("f_0", "f0", s.constant), _mat("-A^{-1} f_0", "-A^-1 f0", s.x_constant)]
+    if s.omega is not None:
+        j = c.fmt.style.imaginary_unit
+        out += [
+            P(f"The sinusoidal part is Re(F e^({j} omega t)) with omega = ", Math(s.omega), f"; X = ({j} omega I - A)^-1 F:"),
+            _mat("F", "F", s.phasor_in),
+            _mat("X", "X", s.phasor),
+            P("Each state oscillates as |X_k| cos(omega t + arg X_k):"),
+            Items(tuple(
+                (Math(state), ": amplitude ", Math(amp), f" (~ {c.fmt.decimal(amp, latex=False)})" if c.fmt.decimal(amp, latex=False) else "",
+                 ", phase ", Math(ph), f" rad (~ {c.fmt.decimal(ph, latex=False)})" if c.fmt.decimal(ph, latex=False) else " rad")
+                for state, amp, ph in zip(c.solution.system.states, s.amplitude, s.phase)
+            )),
+        ]
+    out += [
+        P("Steady state and transient x - x_ss:"),
+        Eq(c.state_rows(s.x_ss, "ss")),
+        Eq(c.state_rows(s.transient, "tr")),
+        P("Substituting x_ss into x' = A x + f " + ("leaves a zero residual." if s.residual_zero else "does NOT leave a zero residual.")),
+    ]
+    return out
+
+
 #: Step kind -> blocks; every kind in ``derive.steps.STEP_KINDS`` has an entry.
 STEP_BLOCKS: dict[str, Callable[[Any, _Ctx], list[Block]]] = {
     "equations": _equations,
@@ -406,6 +498,10 @@ STEP_BLOCKS: dict[str, Callable[[Any, _Ctx], list[Block]]] = {
     "real_form": _real_form,
     "initial_values": _initial_values,
     "result": _result,
+    "interval": _interval,
+    "jump": _jump,
+    "convolution": _convolution,
+    "steady_state": _steady_state,
 }
 
 
