@@ -531,7 +531,7 @@ def group_terms(e: sp.Expr, t: sp.Symbol) -> sp.Expr:
 
     >>> t = sp.Symbol("t")
     >>> group_terms(5*sp.exp(3 - t) - 5*sp.exp(-2)*sp.exp(3 - t), t)
-    (5 - 5*exp(-2))*exp(3 - t)
+    5*(1 - exp(-2))*exp(3 - t)
     """
     exps = sorted(sp.sympify(e).atoms(sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}", positive=True) for i, x in enumerate(exps)}
@@ -544,7 +544,7 @@ def group_terms(e: sp.Expr, t: sp.Symbol) -> sp.Expr:
         for factor in sp.Mul.make_args(term):
             (with_t if (factor.has(t) or factor.free_symbols & timed) else rest).append(factor)
         groups.setdefault(sp.Mul(*with_t), []).append(sp.Mul(*rest))
-    out = [key.xreplace(back) * sp.Add(*parts).xreplace(back) for key, parts in groups.items()]
+    out = [key.xreplace(back) * sp.factor_terms(sp.Add(*parts).xreplace(back)) for key, parts in groups.items()]
     return sp.Add(*out)
 
 

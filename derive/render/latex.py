@@ -43,12 +43,27 @@ __all__ = ["LatexRenderer", "template_environment", "program_versions", "FRAGMEN
 FRAGMENT_PACKAGES: tuple[str, ...] = ("amsmath", "amssymb", "mathtools", "booktabs", "array", "refcount")
 
 
+@functools.lru_cache(maxsize=1)
+def _template_root():
+    """Where the templates are: the installed package data, or in a source
+    checkout that is imported directly (its top-level templates/ folder)."""
+    try:
+        return importlib.resources.files("derive.templates")
+    except ModuleNotFoundError:
+        import pathlib
+
+        source = pathlib.Path(__file__).resolve().parents[2] / "templates"
+        if source.is_dir():
+            return source
+        raise
+
+
 def _load_template(name: str) -> str | None:
     """Template source from the installed ``derive.templates`` package, or None."""
     parts = name.split("/")
     if any(p in ("", ".", "..") or "\\" in p for p in parts):
         return None
-    node = importlib.resources.files("derive.templates")
+    node = _template_root()
     for part in parts:
         node = node.joinpath(part)
     if not node.is_file():

@@ -286,6 +286,23 @@ class SheetLatexPrinter(LatexPrinter):
             tex = r"\left(%s\right)^{%s}" % (tex, exp)
         return tex
 
+    def _print_Piecewise(self, expr: sp.Expr) -> str:
+        # "otherwise" after a chain of t < b_k reads as the interval t >= b_last
+        pieces = list(expr.args)
+        rows = []
+        last_bound = None
+        for value, cond in pieces:
+            if cond is sp.true and isinstance(last_bound, sp.StrictLessThan):
+                cond_tex = r"%s \ge %s" % (self._print(last_bound.lhs), self._print(last_bound.rhs))
+            elif cond is sp.true:
+                cond_tex = r"\text{otherwise}"
+            else:
+                cond_tex = self._print(cond)
+            if isinstance(cond, sp.StrictLessThan):
+                last_bound = cond
+            rows.append(r"%s & \text{for}\: %s" % (self._print(value), cond_tex))
+        return r"\begin{cases} %s \end{cases}" % r" \\ ".join(rows)
+
     def _print_ExpBase(self, expr: sp.Expr, exp: str | None = None) -> str:
         arg = self._print(expr.args[0])
         if visible_width(arg) > self._settings["exp_threshold"]:
