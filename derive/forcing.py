@@ -99,6 +99,19 @@ Matrix = sp.ImmutableMatrix
 # Piecewise input from intervals (the case file's ``{ piecewise = [...] }``)
 
 
+def _exact_value(value: Any, *, key: str | None, file: str | None) -> sp.Expr:
+    """A number or sympy object; text is refused here (it goes through the parser)."""
+    try:
+        return sp.sympify(value, strict=True)
+    except sp.SympifyError:
+        raise InputError(
+            f"expected a number or a sympy expression, found {value!r}; "
+            "parse text with derive.parsing.parse_expression first",
+            key=key,
+            file=file,
+        )
+
+
 def piecewise_from_intervals(
     pieces: Sequence[tuple[sp.Expr, sp.Expr | None]],
     t: sp.Symbol,
@@ -118,7 +131,7 @@ def piecewise_from_intervals(
     previous: sp.Expr | None = None
     for i, (value, bound) in enumerate(pieces):
         last = i == len(pieces) - 1
-        value = sp.sympify(value)
+        value = _exact_value(value, key=key, file=file)
         if last:
             if bound is not None:
                 raise InputError(
@@ -135,7 +148,7 @@ def piecewise_from_intervals(
                 key=f"{key}[{i}]" if key else None,
                 file=file,
             )
-        bound = sp.sympify(bound)
+        bound = _exact_value(bound, key=key, file=file)
         if bound.has(t):
             raise InputError(
                 f"the bound {bound} depends on {t}; expected a time (a number or a parameter expression)",
@@ -756,18 +769,9 @@ class _Skip(Exception):
 
 
 def _span(eigenvalues: Sequence[sp.Expr], subs: Mapping[sp.Symbol, sp.Expr]) -> float:
-    rates = []
-    for lam in eigenvalues:
-        try:
-            z = complex(sp.N(sp.sympify(lam).xreplace(dict(subs)), 15))
-        except (TypeError, ValueError):
-            continue
-        if abs(z) > 1e-12:
-            rates.append(abs(z))
-    if not rates:
-        return 5.0
-    slow, fast = min(rates), max(rates)
-    return float(min(max(4.0 / slow, 0.5), 20.0, 30.0 / fast if fast > 1 else 20.0))
+    from .verify import time_span
+
+    return time_span(eigenvalues, dict(subs))
 
 
 def _evaluator(X: Sequence[sp.Expr], t: sp.Symbol):

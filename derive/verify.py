@@ -89,12 +89,12 @@ class _Skip(Exception):
     pass
 
 
-def _span(eigenvalues: Sequence[sp.Expr], subs: dict) -> float:
+def time_span(eigenvalues: Sequence[sp.Expr], subs: dict) -> float:
     """A time span that shows the slowest decaying mode without overflow."""
     rates = []
     for lam in eigenvalues:
         try:
-            z = complex(sp.N(sp.sympify(lam).subs(subs), 15))
+            z = complex(sp.N(sp.sympify(lam).xreplace(subs), 15))
         except (TypeError, ValueError):
             continue
         if abs(z) > 1e-12:
@@ -143,7 +143,7 @@ def numeric_check(
     f_fn = sp.lambdify(t, list(f_expr), modules="numpy")
     x_fn = sp.lambdify(t, list(xs), modules=["numpy"])
     t0 = float(system.t0)
-    T = _span(eigenvalues, subs)
+    T = time_span(eigenvalues, subs)
     t_eval = np.linspace(t0, t0 + T, points)
 
     def exact(tt: float) -> np.ndarray:
