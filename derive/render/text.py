@@ -175,7 +175,11 @@ def _charpoly(s: Any, c: _Ctx) -> list[Block]:
         Heading(3, "Characteristic polynomial"),
         P("The eigenvalues are the values where A - lambda I is singular, so its determinant is formed."),
         _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
-        Eq(((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded), (N("", ""), s.factored))),
+        Eq(
+            ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded), (N("", ""), s.factored))
+            if s.factored != s.expanded  # an irreducible polynomial is shown once
+            else ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded),)
+        ),
         P(f"Irreducible factors over {s.domain}:"),
         Items(tuple((Math(f), f", multiplicity {m}") for f, m in s.factors)),
     ]
