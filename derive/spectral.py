@@ -372,9 +372,18 @@ def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None, *, radical
     return sp.expand(val)
 
 
+def _with_root_values(e):
+    """Indexed roots replaced by their cached decimals: sympy refines a CRootOf
+    afresh on every evalf, which dominated the time of non-radical cases."""
+    from .exact import root_value
+
+    roots = e.atoms(sp.CRootOf)
+    return e.xreplace({r: root_value(r) for r in roots}) if roots else e
+
+
 def _numeric(value: sp.Expr, subs: dict) -> complex | None:
     try:
-        v = complex(sp.N(value.subs(subs), 30))
+        v = complex(sp.N(_with_root_values(value).subs(subs), 30))
     except (TypeError, ValueError):
         return None
     return v
@@ -706,6 +715,7 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
     import mpmath
 
     with mpmath.workdps(30):
+        P = _with_root_values(P)
         M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
         d = mpmath.det(M)
     d = complex(d)
@@ -718,9 +728,9 @@ def _numeric_similarity(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, boo
     """P J P^-1 evaluated at 40 digits against A (exact check already done in F)."""
     subs = dict(values)
     try:
-        Pn = P.subs(subs).evalf(40)
-        Jn = J.subs(subs).evalf(40)
-        Qn = P_inv.subs(subs).evalf(40)
+        Pn = _with_root_values(P).subs(subs).evalf(40)
+        Jn = _with_root_values(J).subs(subs).evalf(40)
+        Qn = _with_root_values(P_inv).subs(subs).evalf(40)
         An = A.subs(subs).evalf(40)
         prod = Pn * Jn * Qn
         gap = max(abs(complex(x - y)) for x, y in zip(prod, An))

@@ -242,6 +242,11 @@ def format_decimal(
     expr = sp.sympify(value)
     if not expr.is_number:
         return ""
+    roots = expr.atoms(sp.CRootOf)
+    if roots:  # evalf refines a CRootOf slowly; use the cached decimals
+        from ..exact import root_value
+
+        expr = expr.xreplace({r: root_value(r) for r in roots})
     num = sp.N(expr, digits + 5)
     re_, im_ = (float(part) for part in num.as_real_imag())
     # Keep the display from showing round-off of an exact zero part.
