@@ -1643,7 +1643,18 @@ def _render_latex(report: CheckReport, *, meta: Any, sources: Sequence[tuple[str
         show=show,
         mlist=lambda objs: ", ".join(fmt.m(o) for o in objs),
         failed=not report.ok,
+        step_tex=_step_tex,
     )
+
+
+#: How the derivation steps are named on a LaTeX report (the items keep plain names).
+_STEP_TEX = {"P_inv": "$P^{-1}$", "P": "$P$", "D": "$D$"}
+
+
+def _step_tex(step: str) -> str:
+    from .render.printing import tex_escape
+
+    return _STEP_TEX.get(step, tex_escape(step))
 
 
 def render_check(
