@@ -170,7 +170,8 @@ _out_option = click.option(
     multiple=True,
     metavar="RELATION",
     help="Solve on a parameter relation, e.g. --case 'c^2 = 4*k*m' (a degenerate case "
-    "the sheet lists); the output name gets a '-case' suffix. Repeatable.",
+    "the sheet lists), or in a regime, e.g. --case 'c^2 < 4*k*m' (complex pair: sines "
+    "and cosines); the output name gets a '-case' suffix. Repeatable.",
 )
 def solve(
     case_file: Path,

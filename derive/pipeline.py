@@ -18,7 +18,7 @@ import sympy as sp
 from .errors import InputError, UnsupportedError, VerificationError
 from .exact import is_zero_number
 from .expoly import ExpPoly, NotExpPoly, to_expoly
-from .model import Case, Parameter, Solution, System
+from .model import Case, Condition, Parameter, Solution, System
 from .recombine import conjugate_pairs, recombine
 from .scalar import solve_blocks
 from .spectral import decompose
@@ -169,16 +169,18 @@ def solve_case(case: Case, *, assume=None) -> Solution:
 
 
 def _solve_on(system: System, assume, *, notices=(), case: Case | None = None) -> Solution:
-    from .relations import apply_relations, parse_relations
+    from .relations import apply_relations, parse_relations, split_assumptions
 
     conds: tuple = ()
     notes: tuple[str, ...] = ()
+    regimes: tuple = ()
     if assume:
         names = {p.name: p.symbol for p in system.params}
+        assume, regimes = split_assumptions(assume, symbols=names, key="assume")
         rel = parse_relations(assume, symbols=names, key="assume")
         system, conds, notes = apply_relations(system, rel)
     try:
-        sol = solve_system(system, case=case)
+        sol = solve_system(system, case=case, regimes=regimes)
     except VerificationError as err:
         bad = getattr(err, "solution", None)
         if bad is not None:
@@ -213,7 +215,7 @@ def _is_real_data(system: System) -> bool:
     return True
 
 
-def solve_system(system: System, *, case: Case | None = None, check: bool = True) -> Solution:
+def solve_system(system: System, *, case: Case | None = None, check: bool = True, regimes=()) -> Solution:
     """Run the whole pipeline on a System.  With ``check`` (default) an
     unverified result raises VerificationError carrying the Solution."""
     t = system.t
@@ -223,7 +225,7 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     if system.equations:
         steps.append(EquationsStep(equations=system.equations, states=system.states, t=t, A=system.A, f=system.f))
     values = system.parameter_values()
-    dec = decompose(system.A, values=values)
+    dec = decompose(system.A, values=values, regimes=regimes)
     steps.extend(dec.steps)
 
     P, J, P_inv = dec.P, dec.J, dec.P_inv
@@ -270,9 +272,10 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     )
     steps.extend(scal.steps)
 
-    from .relations import regimes
+    from .relations import regimes as regime_notes
 
-    notices.extend(regimes(dec.steps[0].factors, dec.lam, values))
+    if not regimes:
+        notices.extend(regime_notes(dec.steps[0].factors, dec.lam, values))
     real = _is_real_data(system)
     rec = recombine(
         P,
@@ -293,38 +296,58 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
             "result is written with exponentials of the eigenvalues as they stand; it holds in both "
             "regimes (with the square roots imaginary where their argument is negative)"
         )
-    steps.extend(steady_state_steps(system, dec.column_eigenvalues, rec.x))
+    # a chosen regime ran the algebra with a positive placeholder for a square
+    # root; the result carries the root itself
+    aux = dict(dec.aux)
+    x_res, hom_res, par_res = (sp.ImmutableMatrix(m.xreplace(aux)) for m in (rec.x, rec.homogeneous, rec.particular))
+    # a regime (expr < 0) already implies expr != 0: state it once
+    implied = {sp.expand(e) for e, _ in regimes} | {sp.expand(-e) for e, _ in regimes}
+    kept = tuple(
+        c for c in dec.conditions + scal.conditions if not (c.relation == "!= 0" and sp.expand(c.expr) in implied)
+    )
+    conditions = kept + tuple(
+        Condition(expr=e, relation="< 0" if sign < 0 else "> 0", reason="the regime solved here")
+        for e, sign in regimes
+    )
+    steps.extend(steady_state_steps(system, dec.column_eigenvalues, x_res))
     steps.append(
         ResultStep(
             t=t,
             states=system.states,
-            x=rec.x,
-            homogeneous=rec.homogeneous,
-            particular=rec.particular,
+            x=x_res,
+            homogeneous=hom_res,
+            particular=par_res,
             constants=rec.constants,
         )
     )
+    eigenvalues = tuple(sp.sympify(e).xreplace(aux) for e in dec.column_eigenvalues)
     ver = verify(
         system,
-        rec.x,
+        x_res,
         constants=rec.constants,
         similarity_ok=True,
-        eigenvalues=dec.column_eigenvalues,
+        eigenvalues=eigenvalues,
     )
+    if aux:
+        from .forcing import _swap
+
+        steps = [_swap(st, aux) for st in steps]
+        conditions = _swap(conditions, aux)
+        P, J, P_inv = (sp.ImmutableMatrix(m.xreplace(aux)) for m in (P, J, P_inv))
     sol = Solution(
         system=system,
-        x=rec.x,
+        x=x_res,
         constants=rec.constants,
-        eigenvalues=dec.column_eigenvalues,
+        eigenvalues=eigenvalues,
         P=P,
         D=J,
         P_inv=P_inv,
         is_diagonalizable=dec.diagonalizable,
-        homogeneous=rec.homogeneous,
-        particular=rec.particular,
+        homogeneous=hom_res,
+        particular=par_res,
         steps=tuple(steps),
         verification=ver,
-        conditions=dec.conditions + scal.conditions,
+        conditions=conditions,
         notices=tuple(notices),
         case=case,
     )

@@ -55,6 +55,8 @@ def conjugate_pairs(blocks: Sequence[EigenBlock]) -> list[tuple[int, int]]:
     """(block of a + ib, block of a - ib) index pairs, b > 0, found numerically."""
     pairs = []
     used: set[int] = set()
+    if any(b.kind == "complex" and b.numeric is None for b in blocks):
+        return _symbolic_pairs(blocks)
     for i, b in enumerate(blocks):
         if b.kind != "complex" or b.numeric is None or b.numeric.imag <= 0 or i in used:
             continue
@@ -62,6 +64,25 @@ def conjugate_pairs(blocks: Sequence[EigenBlock]) -> list[tuple[int, int]]:
             if j == i or j in used or c.kind != "complex" or c.numeric is None:
                 continue
             if abs(c.numeric - b.numeric.conjugate()) <= 1e-20 * max(1.0, abs(b.numeric)):
+                pairs.append((i, j))
+                used.update((i, j))
+                break
+    return pairs
+
+
+def _symbolic_pairs(blocks: Sequence[EigenBlock]) -> list[tuple[int, int]]:
+    """Pairs a + ib, a - ib found exactly, for eigenvalues in parameters without values."""
+    pairs = []
+    used: set[int] = set()
+    for i, b in enumerate(blocks):
+        if b.kind != "complex" or i in used:
+            continue
+        im = split_complex(b.value)[1]
+        if not im.is_positive:
+            continue
+        conj = sp.expand(split_complex(b.value)[0] - sp.I * im)
+        for j, c in enumerate(blocks):
+            if j != i and j not in used and c.kind == "complex" and sp.expand(c.value - conj) == 0:
                 pairs.append((i, j))
                 used.update((i, j))
                 break
@@ -209,7 +230,15 @@ def recombine(
         else:
             homogeneous = sp.ImmutableMatrix(hom_real_expr)
         particular = _real(xp, t, shift)
-        steps.append(RealFormStep(t=t, pairs=tuple(real_pairs), homogeneous=homogeneous, particular=particular))
+        cs_real = () if ivp else tuple(constants)
+        steps.append(
+            RealFormStep(
+                t=t,
+                pairs=tuple(real_pairs),
+                homogeneous=homogeneous.applyfunc(lambda e: tidy(e, cs_real, t)),
+                particular=particular.applyfunc(lambda e: tidy(e, (), t)),
+            )
+        )
     else:
         if ivp:
             hv = [ExpPoly() for _ in range(n)]
@@ -267,11 +296,20 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
         for ex, rests in groups[cs].items():
             coeff = sp.Add(*rests)
             if has_params:
-                coeff = sp.factor(coeff)
+                coeff = _factor_by_trig(coeff)
             inner.append(ex.xreplace(back) * coeff)
         out.append(sp.Mul(*cs) * sp.Add(*inner))
     # a placeholder can also sit inside a coefficient (an exponential in a denominator)
     return sp.Add(*out).xreplace(back)
+
+
+def _factor_by_trig(coeff: sp.Expr) -> sp.Expr:
+    """Factor the coefficient of each cos/sin separately: A cos wt + B sin wt, not one fraction."""
+    trig = sorted(coeff.atoms(sp.sin, sp.cos), key=sp.default_sort_key)
+    if not trig:
+        return sp.factor(coeff)
+    parts = sp.collect(sp.expand(coeff), trig, evaluate=False)
+    return sp.Add(*[sp.factor(cf) * tr for tr, cf in parts.items()])
 
 
 def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:

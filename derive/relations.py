@@ -22,7 +22,44 @@ import sympy as sp
 from .errors import InputError
 from .model import Condition, Parameter, System
 
-__all__ = ["Relation", "parse_relations", "apply_relations", "regimes"]
+__all__ = ["Relation", "Regime", "split_assumptions", "parse_relations", "apply_relations", "regimes"]
+
+#: (expression, sign): the expression is negative (-1) or positive (+1)
+Regime = tuple[sp.Expr, int]
+
+
+def split_assumptions(items: Any, *, symbols: Mapping[str, sp.Symbol], key: str = "assume") -> tuple[Any, tuple[Regime, ...]]:
+    """Separate regime inequalities ("c^2 < 4*k*m") from relations ("c^2 = 4*k*m").
+
+    >>> k, m, c = sp.symbols("k m c", positive=True)
+    >>> split_assumptions(["c^2 < 4 k m"], symbols={"k": k, "m": m, "c": c})
+    ([], ((c**2 - 4*k*m, -1),))
+    """
+    if not items or isinstance(items, Mapping):
+        return items, ()
+    relations: list[Any] = []
+    out: list[Regime] = []
+    for i, item in enumerate(items):
+        where = f"{key}[{i}]"
+        if isinstance(item, sp.core.relational.StrictLessThan) or isinstance(item, sp.core.relational.StrictGreaterThan):
+            expr = item.lhs - item.rhs
+            out.append((sp.expand(expr), -1 if isinstance(item, sp.core.relational.StrictLessThan) else 1))
+            continue
+        if isinstance(item, str) and ("<" in item or ">" in item):
+            if "=" in item or item.count("<") + item.count(">") != 1:
+                raise InputError(
+                    f"a regime is written 'lhs < rhs' or 'lhs > rhs' (strict, one comparison), found {item!r}",
+                    key=where,
+                )
+            op = "<" if "<" in item else ">"
+            lhs, rhs = item.split(op)
+            expr = sp.expand(_text((lhs, rhs), symbols, where))
+            if not expr.free_symbols:
+                raise InputError(f"the regime {item!r} contains no parameter", key=where)
+            out.append((expr, -1 if op == "<" else 1))
+            continue
+        relations.append(item)
+    return relations, tuple(out)
 
 Relation = tuple[sp.Symbol, sp.Expr]  # parameter := expression in the others
 

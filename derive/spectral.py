@@ -94,6 +94,8 @@ class Decomposition:
     diagonalizable: bool
     steps: tuple[Step, ...]
     conditions: tuple[Condition, ...]
+    #: placeholders for square roots whose sign a regime fixed, and their values
+    aux: tuple[tuple[sp.Symbol, sp.Expr], ...] = ()
 
 
 # ---------------------------------------------------------------------------
@@ -225,7 +227,18 @@ def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
     return expanded, factored, factors
 
 
-def _roots_of(q: sp.Poly, lam: sp.Symbol, has_params: bool) -> tuple[list[sp.Expr], str, str]:
+def _regime_sign(disc: sp.Expr, regimes: Sequence[tuple[sp.Expr, int]]) -> int:
+    """+1 or -1 when a declared regime fixes the sign of ``disc``, else 0."""
+    for expr, sign in regimes:
+        ratio = sp.cancel(sp.together(disc / expr))
+        if ratio.is_number and ratio != 0:
+            return sign if ratio > 0 else -sign
+    return 0
+
+
+def _roots_of(
+    q: sp.Poly, lam: sp.Symbol, has_params: bool, regimes: Sequence[tuple[sp.Expr, int]] = (), aux: list | None = None
+) -> tuple[list[sp.Expr], str, str]:
     """The roots of an irreducible factor, in the form the size rule picks."""
     d = q.degree()
     if d == 1:
@@ -234,6 +247,20 @@ def _roots_of(q: sp.Poly, lam: sp.Symbol, has_params: bool) -> tuple[list[sp.Exp
     if d == 2:
         a, b, c = q.all_coeffs()
         disc = sp.factor(b**2 - 4 * a * c)
+        sign = _regime_sign(disc, regimes) if has_params and aux is not None else 0
+        if sign:
+            # the regime fixes the sign: a positive placeholder stands for the square
+            # root while the algebra runs, so the real form can be taken; it is
+            # replaced by the root itself in the result
+            w = sp.Dummy("w", positive=True)
+            aux.append((w, sp.sqrt(sp.factor(-disc) if sign < 0 else disc)))
+            s_ = sp.I * w if sign < 0 else w
+            rule = (
+                "regime chosen: discriminant "
+                + sp.sstr(disc)
+                + (" < 0, a complex-conjugate pair" if sign < 0 else " > 0, two real eigenvalues")
+            )
+            return [(-b + s_) / (2 * a), (-b - s_) / (2 * a)], "radical", rule
         if disc.is_negative:
             s = sp.I * sp.sqrt(sp.factor(-disc))
         else:
@@ -420,7 +447,13 @@ def _mat_expr(rows: Sequence[Sequence[sp.Expr]]) -> sp.ImmutableMatrix:
 # the decomposition
 
 
-def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None) -> Decomposition:
+def decompose(
+    A: sp.Matrix,
+    *,
+    lam: sp.Symbol = LAM,
+    values: dict | None = None,
+    regimes: Sequence[tuple[sp.Expr, int]] = (),
+) -> Decomposition:
     """Exact P, J (D when diagonalisable) and P^-1 of a square matrix, with steps.
 
     >>> dec = decompose(sp.Matrix([[2, 1], [1, 2]]))
@@ -428,7 +461,8 @@ def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None)
     (1, 3)
 
     ``values`` maps parameters to numbers, used only to order eigenvalues and
-    print decimals.
+    print decimals.  ``regimes`` are (expression, sign) pairs, e.g.
+    (c^2 - 4 k m, -1), fixing the sign of a discriminant in the parameters.
     """
     A = sp.ImmutableMatrix(A)
     n = A.rows
@@ -437,6 +471,7 @@ def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None)
     K = dom
     params = sorted(A.free_symbols, key=sp.default_sort_key)
     has_params = bool(params)
+    aux: list[tuple[sp.Symbol, sp.Expr]] = []
     expanded, factored, factors = _factor_charpoly(A, K, lam)
     steps: list[Step] = [
         CharPolyStep(
@@ -458,7 +493,10 @@ def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None)
         mult = int(mult)
         q_lam = sp.Poly(fexpr, lam, domain=K)
         q_monic = q_lam.monic()
-        roots, form, rule = _roots_of(q_lam, lam, has_params)
+        roots, form, rule = _roots_of(q_lam, lam, has_params, regimes, aux)
+        for w, w_value in aux:
+            if w not in values and all(p in values for p in w_value.free_symbols):
+                values[w] = sp.N(w_value.xreplace(values), 30)
         d = q_lam.degree()
         if d == 1:
             root = roots[0]
@@ -686,6 +724,7 @@ def decompose(A: sp.Matrix, *, lam: sp.Symbol = LAM, values: dict | None = None)
         diagonalizable=diagonalizable,
         steps=tuple(steps),
         conditions=conditions,
+        aux=tuple(aux),
     )
 
 

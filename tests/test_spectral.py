@@ -233,3 +233,22 @@ def test_six_by_six_defective_rational():
     sol = derive.solve(A, [1, 0, 0, 0, 0, sp.exp(-t)], x0=[1, 0, 0, 0, 0, 0])
     assert sol.verification.ok
     assert block_signature(sol.D) == block_signature(J)
+
+
+def test_underdamped_regime_gives_sines_and_states_the_regime():
+    # common practice: with c^2 < 4 k m the free response of a spring-mass-damper
+    # is e^{-c t/(2m)} (cos w t + c/(2 m w) sin w t), w = sqrt(4 k m - c^2)/(2 m)
+    k, m, c = sp.symbols("k m c", positive=True)
+    A = sp.Matrix([[0, 1], [-k / m, -c / m]])
+    sol = derive.solve(A, x0=[1, 0], assume=["c^2 < 4*k*m"])
+    assert not sol.x.has(sp.I)
+    assert sol.x.has(sp.cos) and sol.x.has(sp.sin)
+    w = sp.sqrt(4 * k * m - c**2) / (2 * m)
+    expected = sp.exp(-c * t / (2 * m)) * (sp.cos(w * t) + c / (2 * m * w) * sp.sin(w * t))
+    assert sp.simplify(sol.x[0] - expected) == 0
+    assert any(cd.relation == "< 0" and sp.expand(cd.expr - (c**2 - 4 * k * m)) == 0 for cd in sol.conditions)
+    assert sol.verification.ok
+    # the overdamped regime: two real exponentials, no sines
+    over = derive.solve(A, x0=[1, 0], assume=["c^2 > 4*k*m"])
+    assert not over.x.has(sp.sin) and not over.x.has(sp.I)
+    assert over.verification.ok
