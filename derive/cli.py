@@ -16,7 +16,6 @@ import click
 
 from . import __version__
 from .errors import (
-    EXIT_INPUT,
     EXIT_OK,
     EXIT_VERIFICATION,
     DeriveError,

@@ -55,14 +55,13 @@ from .errors import InputError, LimitError, UnsupportedError, VerificationError
 from .exact import decide_zero, is_zero_number
 from .expoly import ExpPoly, NotExpPoly, _is_negative, to_expoly
 from .model import Case, Condition, NumericCheck, Solution, System, Verification
-from .recombine import recombine, tidy
+from .recombine import recombine
 from .scalar import solve_blocks
 from .spectral import Decomposition
 from .steady import steady_state_steps
 from .steps import (
     ConvolutionStep,
     DecoupleStep,
-    InitialValuesStep,
     IntervalStep,
     JumpStep,
     RealFormStep,

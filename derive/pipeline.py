@@ -15,7 +15,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import sympy as sp
 
-from .errors import InputError, UnsupportedError, VerificationError
+from .errors import InputError, VerificationError
 from .exact import is_zero_number
 from .expoly import ExpPoly, NotExpPoly, to_expoly
 from .model import Case, Condition, Parameter, Solution, System

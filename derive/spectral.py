@@ -390,13 +390,11 @@ def _scale_chain(chain: list[sp.ImmutableMatrix], gen: sp.Symbol | None) -> list
     return [sp.ImmutableMatrix(v.applyfunc(lambda e: sp.expand(sp.cancel(e * factor)))) for v in chain]
 
 
-def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None, *, radical: bool) -> sp.Expr:
+def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None) -> sp.Expr:
+    """A polynomial in the generic root, evaluated at one concrete root."""
     if gen is None:
         return expr
-    val = expr.subs(gen, root)
-    if radical:
-        return sp.expand(val)
-    return sp.expand(val)
+    return sp.expand(expr.subs(gen, root))
 
 
 def _with_root_values(e):
@@ -437,10 +435,6 @@ def _kind(value: sp.Expr, num: complex | None) -> str:
     if isinstance(value, sp.CRootOf) and num is not None:
         return "real" if value.is_real else "complex"
     return "unknown"
-
-
-def _mat_expr(rows: Sequence[Sequence[sp.Expr]]) -> sp.ImmutableMatrix:
-    return sp.ImmutableMatrix(rows)
 
 
 # ---------------------------------------------------------------------------
@@ -567,13 +561,12 @@ def decompose(
         W_expr = _to_matrix(W, fld)
         instances = []
         for root in roots:
-            radical = form == "radical"
             inst_chains = tuple(
-                tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen, radical=radical))) for v in ch)
+                tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen))) for v in ch)
                 for ch in chains_expr
             )
             inst_left = tuple(
-                sp.ImmutableMatrix(1, n, [_instantiate(e, root, gen, radical=radical) for e in W_expr.row(i)])
+                sp.ImmutableMatrix(1, n, [_instantiate(e, root, gen) for e in W_expr.row(i)])
                 for i in range(W_expr.rows)
             )
             num = _numeric(root, values)
@@ -593,7 +586,7 @@ def decompose(
                 )
             )
             eig_basis = tuple(ch[0] for ch in inst_chains) if geometric == mult else tuple(
-                sp.ImmutableMatrix(b.applyfunc(lambda e: _instantiate(e.subs(lam, _TH) if gen is not None else e, root, gen, radical=radical)))
+                sp.ImmutableMatrix(b.applyfunc(lambda e: _instantiate(e.subs(lam, _TH) if gen is not None else e, root, gen)))
                 for b in basis_expr
             )
             instances.append((root, eig_basis))
@@ -636,7 +629,7 @@ def decompose(
                     vectors=tuple(_to_matrix(v, fld, show_lam) for v in ch_F),
                     links=tuple(links),
                     instances=tuple(
-                        (root, tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen, radical=True))) for v in ch_expr))
+                        (root, tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen))) for v in ch_expr))
                         for root in roots
                     ),
                 )

@@ -312,7 +312,7 @@ def _decouple(s: Any, c: _Ctx) -> list[Block]:
 
 def _scalar(s: Any, c: _Ctx) -> list[Block]:
     T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
-    yl, yp = c.fmt.m(s.y), c.fmt.plain(s.y)
+    yp = c.fmt.plain(s.y)
     head = Heading(3, f"Solution for {yp}")
     if s.conjugate_of is not None:
         return [
