@@ -299,7 +299,22 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     # a chosen regime ran the algebra with a positive placeholder for a square
     # root; the result carries the root itself
     aux = dict(dec.aux)
-    x_res, hom_res, par_res = (sp.ImmutableMatrix(m.xreplace(aux)) for m in (rec.x, rec.homogeneous, rec.particular))
+    x_res, hom_res, par_res = rec.x, rec.homogeneous, rec.particular
+    if aux:
+        from .recombine import tidy
+
+        def back(m: sp.ImmutableMatrix, cs) -> sp.ImmutableMatrix:
+            # the square of a placeholder is its radicand: c^2 - 4km = -w^2 lets
+            # c w/(4km - c^2) cancel to c/w before w is replaced by the root
+            for w, root in aux.items():
+                radicand = sp.expand(root**2)
+                m = m.applyfunc(lambda e: e.subs(radicand, w**2).subs(-radicand, -(w**2)))
+            m = m.applyfunc(lambda e: tidy(e, cs, t))
+            return sp.ImmutableMatrix(m.xreplace(aux))
+
+        x_res = back(x_res, rec.constants)
+        hom_res = back(hom_res, rec.constants)
+        par_res = back(par_res, ())
     # a regime (expr < 0) already implies expr != 0: state it once
     implied = {sp.expand(e) for e, _ in regimes} | {sp.expand(-e) for e, _ in regimes}
     kept = tuple(
