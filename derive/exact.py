@@ -95,7 +95,7 @@ def _numeric_zero(expr: sp.Expr, *, seed: int = 12345, points: int = POINTS) -> 
 
 def decide_zero(expr: sp.Expr, *, allow_simplify: bool = True) -> ZeroVerdict:
     """Is ``expr`` identically zero?  Exact first, numeric identity if needed."""
-    e = sp.expand(sp.sympify(expr))
+    e = sp.expand(sp.sympify(expr, strict=True))
     if e == 0:
         return ZeroVerdict(True, "exact")
     if e.is_number and not e.has(sp.CRootOf):

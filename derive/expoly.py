@@ -54,11 +54,11 @@ class ExpPoly:
 
     @staticmethod
     def constant(c: sp.Expr) -> "ExpPoly":
-        return ExpPoly.from_dict({(0, sp.Integer(0)): sp.sympify(c)})
+        return ExpPoly.from_dict({(0, sp.Integer(0)): sp.sympify(c, strict=True)})
 
     @staticmethod
     def term(c: sp.Expr, k: int, gamma: sp.Expr) -> "ExpPoly":
-        return ExpPoly.from_dict({(k, sp.sympify(gamma)): sp.sympify(c)})
+        return ExpPoly.from_dict({(k, sp.sympify(gamma, strict=True)): sp.sympify(c, strict=True)})
 
     def as_dict(self) -> dict[tuple[int, sp.Expr], sp.Expr]:
         return dict(self.terms)
@@ -197,7 +197,7 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
     and factored, which keeps 1/((k1 - k2)(k1 - k3)) readable instead of
     expanding it.
     """
-    c = sp.sympify(c)
+    c = sp.sympify(c, strict=True)
     if c.is_Rational or c == 0:
         return c
     if not c.free_symbols:
@@ -306,7 +306,7 @@ def to_expoly(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
     Raises ``NotExpPoly`` when the expression is not of the class (a step, a
     rational function of t, ...).
     """
-    expr = sp.sympify(expr)
+    expr = sp.sympify(expr, strict=True)
     if not expr.has(t):
         return ExpPoly.constant(expr)
     if any(expr.has(fn) for fn in _TRIG):

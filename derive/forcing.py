@@ -170,7 +170,7 @@ def piecewise_from_intervals(
 
 
 def _switch_atoms(expr: sp.Expr, t: sp.Symbol) -> list[sp.Expr]:
-    return [a for a in sp.sympify(expr).atoms(*_SWITCHES) if a.has(t)]
+    return [a for a in sp.sympify(expr, strict=True).atoms(*_SWITCHES) if a.has(t)]
 
 
 def is_switched(f: Sequence[sp.Expr], t: sp.Symbol) -> bool:
@@ -185,7 +185,7 @@ def is_switched(f: Sequence[sp.Expr], t: sp.Symbol) -> bool:
 
 def _decided_sign(d: sp.Expr) -> int | None:
     """-1, 0 or 1 when sympy can decide the sign of ``d`` (assumptions included), else None."""
-    d = sp.sympify(d)
+    d = sp.sympify(d, strict=True)
     if d.is_zero or (not d.free_symbols and d.is_number and sp.simplify(d) == 0):
         return 0
     for cand in (d, sp.simplify(d)):
@@ -302,7 +302,7 @@ def resolve_on(expr: sp.Expr, t: sp.Symbol, point: sp.Expr) -> sp.Expr:
     >>> resolve_on(5*sp.Heaviside(t - 2) + sp.DiracDelta(t - 3), t, sp.Integer(4))
     5
     """
-    expr = sp.sympify(expr)
+    expr = sp.sympify(expr, strict=True)
 
     def step(*args: sp.Expr) -> sp.Expr:
         if not args[0].has(t):
@@ -490,7 +490,7 @@ def _local(st: _Setting, f: Sequence[sp.Expr], *, start: sp.Expr, x_start: Matri
     ivp = x_start is not None
     tau = sp.Dummy("tau", real=True) if ivp else t
     shift = {tau: t - start} if ivp else {}
-    f_ep = [to_expoly(sp.expand(sp.sympify(e).subs(t, tau + start)) if ivp else e, tau) for e in f]
+    f_ep = [to_expoly(sp.expand(sp.sympify(e, strict=True).subs(t, tau + start)) if ivp else e, tau) for e in f]
     g_ep = []
     for i in range(st.n):
         acc = ExpPoly()
@@ -545,11 +545,11 @@ def group_terms(e: sp.Expr, t: sp.Symbol) -> sp.Expr:
     >>> group_terms(5*sp.exp(3 - t) - 5*sp.exp(-2)*sp.exp(3 - t), t)
     5*(1 - exp(-2))*exp(3 - t)
     """
-    exps = sorted(sp.sympify(e).atoms(sp.exp), key=sp.default_sort_key)
+    exps = sorted(sp.sympify(e, strict=True).atoms(sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}", positive=True) for i, x in enumerate(exps)}
     back = {v: sp.exp(sp.factor_terms(k.args[0])) if k.has(t) else k for k, v in hold.items()}
     timed = {v for k, v in hold.items() if k.has(t)}
-    ex = sp.expand(sp.sympify(e).xreplace(hold))
+    ex = sp.expand(sp.sympify(e, strict=True).xreplace(hold))
     groups: dict[sp.Expr, list[sp.Expr]] = {}
     for term in sp.Add.make_args(ex):
         with_t, rest = [], []
@@ -608,7 +608,7 @@ def _convolution_piece(
 
     def held(l: int, k: int, lam: sp.Expr) -> sp.Expr:
         """A placeholder for the integral of (-sigma)^k e^{-lam sigma} f_l(s) ds."""
-        fl = sp.sympify(f[l]).subs(t, s)
+        fl = sp.sympify(f[l], strict=True).subs(t, s)
         poly = (-sigma) ** k
         if st.real:
             a, b = (sp.expand(v) for v in sp.expand(lam).as_real_imag())
@@ -777,9 +777,9 @@ def _evaluator(X: Sequence[sp.Expr], t: sp.Symbol):
     """tt -> real values of X at t = tt; unevaluated integrals by adaptive quadrature."""
     from scipy.integrate import quad
 
-    ints = sorted({I for e in X for I in sp.sympify(e).atoms(sp.Integral)}, key=sp.default_sort_key)
+    ints = sorted({I for e in X for I in sp.sympify(e, strict=True).atoms(sp.Integral)}, key=sp.default_sort_key)
     dummies = [sp.Dummy(f"I{k}") for k in range(len(ints))]
-    Xd = [sp.sympify(e).xreplace(dict(zip(ints, dummies))) for e in X]
+    Xd = [sp.sympify(e, strict=True).xreplace(dict(zip(ints, dummies))) for e in X]
     # mpmath evaluates special functions of closed-form integrals (erf, Ei, ...) at complex arguments too
     main = sp.lambdify([t, *dummies], Xd, modules=["mpmath"])
     parts = []

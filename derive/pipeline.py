@@ -335,7 +335,7 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
             constants=rec.constants,
         )
     )
-    eigenvalues = tuple(sp.sympify(e).xreplace(aux) for e in dec.column_eigenvalues)
+    eigenvalues = tuple(sp.sympify(e, strict=True).xreplace(aux) for e in dec.column_eigenvalues)
     ver = verify(
         system,
         x_res,

@@ -69,7 +69,7 @@ def _as_equation(item: Any, symbols: Mapping[str, sp.Symbol], key: str) -> sp.Ex
     if isinstance(item, sp.Equality):
         return item.lhs - item.rhs
     if isinstance(item, tuple) and len(item) == 2:
-        return sp.sympify(item[0]) - sp.sympify(item[1]) if all(isinstance(v, sp.Basic) for v in item) else _text(item, symbols, key)
+        return sp.sympify(item[0], strict=True) - sp.sympify(item[1], strict=True) if all(isinstance(v, sp.Basic) for v in item) else _text(item, symbols, key)
     if isinstance(item, str):
         if item.count("=") != 1 or "==" in item:
             raise InputError(
@@ -108,7 +108,7 @@ def parse_relations(
             sym = s if isinstance(s, sp.Symbol) else symbols.get(str(s))
             if sym is None:
                 raise InputError(f"{s!r} is not a declared parameter", key=key)
-            out.append((sym, sp.sympify(v) if isinstance(v, sp.Basic) else _text((sym.name, v), symbols, key)))
+            out.append((sym, sp.sympify(v, strict=True) if isinstance(v, sp.Basic) else _text((sym.name, v), symbols, key)))
         return tuple(out)
     out: list[Relation] = []
     for i, item in enumerate(items):

@@ -118,7 +118,7 @@ class _Field:
         return x
 
     def from_expr(self, x: sp.Expr):
-        return self.dom.from_sympy(sp.sympify(x))
+        return self.dom.from_sympy(sp.sympify(x, strict=True))
 
 
 def _coefficient_domain(entries: Sequence[sp.Expr]):
@@ -135,7 +135,7 @@ def _coefficient_domain(entries: Sequence[sp.Expr]):
 
 
 def _dm(M: sp.Matrix, dom) -> DomainMatrix:
-    rows = [[dom.from_sympy(sp.sympify(e)) for e in M.row(i)] for i in range(M.rows)]
+    rows = [[dom.from_sympy(sp.sympify(e, strict=True)) for e in M.row(i)] for i in range(M.rows)]
     return DomainMatrix(rows, M.shape, dom)
 
 

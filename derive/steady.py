@@ -44,7 +44,7 @@ def stability(eigenvalues: Sequence[sp.Expr], values: Mapping[sp.Symbol, sp.Expr
         if negative is False:
             return None
         # The sign depends on the parameters: decide it at their given values only.
-        point = sp.sympify(re).xreplace(dict(values))
+        point = sp.sympify(re, strict=True).xreplace(dict(values))
         if point.free_symbols:
             return None
         try:

@@ -94,7 +94,7 @@ def time_span(eigenvalues: Sequence[sp.Expr], subs: dict) -> float:
     rates = []
     for lam in eigenvalues:
         try:
-            z = complex(sp.N(sp.sympify(lam).xreplace(subs), 15))
+            z = complex(sp.N(sp.sympify(lam, strict=True).xreplace(subs), 15))
         except (TypeError, ValueError):
             continue
         if abs(z) > 1e-12:

@@ -239,7 +239,7 @@ def format_decimal(
     >>> format_decimal(1 - 2*sp.I, unit="j")
     '1 - 2 j'
     """
-    expr = sp.sympify(value)
+    expr = sp.sympify(value, strict=True)
     if not expr.is_number:
         return ""
     roots = expr.atoms(sp.CRootOf)
