@@ -112,13 +112,8 @@ def _solve_and_write(
     return code
 
 
-class _Group(click.Group):
-    def main(self, *args, **kwargs):  # type: ignore[override]
-        # click prints usage errors itself with exit code 2, which is our code for bad input
-        return super().main(*args, **kwargs)
-
-
-@click.group(cls=_Group, epilog=EXIT_CODES_HELP, context_settings={"help_option_names": ["-h", "--help"]})
+# click reports usage errors itself with exit code 2, which is our code for bad input.
+@click.group(epilog=EXIT_CODES_HELP, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="derive")
 def cli() -> None:
     """Exact closed-form solutions of x' = A x + f(t), every step shown and verified,
@@ -146,15 +141,19 @@ _timeout_option = click.option(
     show_default=True,
     help="Seconds allowed for solving one case (0: no limit).",
 )
-_out_option = click.option(
-    "-o",
-    "--out",
-    "out_dir",
-    type=click.Path(file_okay=False, path_type=Path),
-    default=Path("out"),
-    show_default=True,
-    help="Output folder.",
-)
+def _folder_option(default: str = "out", help: str = "Output folder."):
+    return click.option(
+        "-o",
+        "--out",
+        "out_dir",
+        type=click.Path(file_okay=False, path_type=Path),
+        default=Path(default),
+        show_default=True,
+        help=help,
+    )
+
+
+_out_option = _folder_option()
 
 
 @cli.command(epilog=EXIT_CODES_HELP)
@@ -212,15 +211,7 @@ def demo(out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: flo
 
 @cli.command(epilog=EXIT_CODES_HELP)
 @click.argument("name")
-@click.option(
-    "-o",
-    "--out",
-    "out_dir",
-    type=click.Path(file_okay=False, path_type=Path),
-    default=Path("."),
-    show_default=True,
-    help="Folder to write NAME.toml into.",
-)
+@_folder_option(".", "Folder to write NAME.toml into.")
 @click.option("--force", is_flag=True, help="Replace an existing file of that name.")
 def new(name: str, out_dir: Path, force: bool) -> None:
     """Write NAME.toml: a commented case-file template to fill in.

@@ -92,9 +92,6 @@ class ExpPoly:
                 seen.append(g)
         return tuple(seen)
 
-    def map_coeffs(self, fn: Callable[[sp.Expr], sp.Expr]) -> "ExpPoly":
-        return ExpPoly.from_dict({key: fn(c) for key, c in self.terms})
-
     def coeff_of(self, sym: sp.Symbol) -> "ExpPoly":
         """The part linear in ``sym`` (coefficients are linear in the constants)."""
         return ExpPoly.from_dict({key: sp.expand(c).coeff(sym) for key, c in self.terms})
@@ -122,16 +119,14 @@ class ExpPoly:
                 out.append(sp.expand(c * sp.exp(g * t0)) * t**k * sp.exp(g * (t - t0)))
         return sp.Add(*out)
 
-    def real_form(self, t: sp.Symbol, *, t0: sp.Expr = sp.Integer(0), re_im=None) -> sp.Expr:
+    def real_form(self, t: sp.Symbol, *, t0: sp.Expr = sp.Integer(0)) -> sp.Expr:
         """The real part, as e^{a t} (cos b t, sin b t) terms.
 
         Valid when the function is real: conjugate exponents then carry
         conjugate coefficients, so the sum equals its real part and each
-        conjugate pair gives 2 Re(c t^k e^{(a + i b) t}).  ``re_im`` splits an
-        exact number into real and imaginary parts (``split_complex`` by
-        default).
+        conjugate pair gives 2 Re(c t^k e^{(a + i b) t}).
         """
-        split = re_im or split_complex
+        split = split_complex
         grouped: dict[tuple[int, sp.Expr, sp.Expr], list[sp.Expr]] = {}
         order: list[tuple[int, sp.Expr, sp.Expr]] = []
         for (k, g), c in self.terms:
@@ -209,11 +204,7 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
         return e
     e = sp.expand(c)
     if any(p.exp.is_negative and p.base.free_symbols for p in e.atoms(sp.Pow)):
-        e = sp.factor(sp.cancel(sp.together(e)))
-        if e.is_Add:
-            return e
-        # keep sums of constants visible: distribute a lone numerator sum
-        return e
+        return sp.factor(sp.cancel(sp.together(e)))
     return e
 
 

@@ -53,12 +53,13 @@ from sympy.core.function import AppliedUndef
 
 from .errors import InputError, LimitError, UnsupportedError, VerificationError
 from .exact import decide_zero, is_zero_number
-from .expoly import ExpPoly, NotExpPoly, _is_negative, to_expoly
+from .expoly import NotExpPoly, _is_negative, to_expoly
 from .model import Case, Condition, NumericCheck, Solution, System, Verification
 from .recombine import recombine
-from .scalar import solve_blocks
+from .scalar import decouple, solve_blocks
 from .spectral import Decomposition
 from .steady import steady_state_steps
+from .verify import combined_method, time_span
 from .steps import (
     ConvolutionStep,
     DecoupleStep,
@@ -491,13 +492,7 @@ def _local(st: _Setting, f: Sequence[sp.Expr], *, start: sp.Expr, x_start: Matri
     tau = sp.Dummy("tau", real=True) if ivp else t
     shift = {tau: t - start} if ivp else {}
     f_ep = [to_expoly(sp.expand(sp.sympify(e, strict=True).subs(t, tau + start)) if ivp else e, tau) for e in f]
-    g_ep = []
-    for i in range(st.n):
-        acc = ExpPoly()
-        for j in range(st.n):
-            if dec.P_inv[i, j] != 0 and not f_ep[j].is_zero:
-                acc = acc + f_ep[j].scale(dec.P_inv[i, j])
-        g_ep.append(acc)
+    g_ep = decouple(dec.P_inv, f_ep)
     scal = solve_blocks(
         dec.jordan_blocks, g_ep, t=tau, constants=st.consts, y_symbols=st.y_syms, ivp=ivp, t0=_ZERO, is_zero=is_zero_number
     )
@@ -767,12 +762,6 @@ class _Skip(Exception):
     pass
 
 
-def _span(eigenvalues: Sequence[sp.Expr], subs: Mapping[sp.Symbol, sp.Expr]) -> float:
-    from .verify import time_span
-
-    return time_span(eigenvalues, dict(subs))
-
-
 def _evaluator(X: Sequence[sp.Expr], t: sp.Symbol):
     """tt -> real values of X at t = tt; unevaluated integrals by adaptive quadrature."""
     from scipy.integrate import quad
@@ -831,7 +820,7 @@ def _numeric_pieces(
     A = np.array(system.A.xreplace(subs).evalf(20).tolist(), dtype=float)
     t0 = float(sp.N(system.t0.xreplace(subs)))
     switches = [float(sp.N(p.start.xreplace(subs))) for p in pieces[1:]]
-    span = _span(eigenvalues, subs)
+    span = time_span(eigenvalues, dict(subs))
     t_end = (switches[-1] if switches else t0) + span
     if system.x0 is not None:
         state = np.array([float(sp.N(v.xreplace(subs))) for v in system.x0])
@@ -932,7 +921,7 @@ def verify_pieces(
         ])
     else:
         residual = Matrix([col[0] for col in reduced])
-    method = "exact" if all(m == "exact" for m in methods) else next(m for m in methods if m != "exact")
+    method = combined_method(methods)
     init_res = None
     init_ok = None
     if system.x0 is not None:

@@ -17,10 +17,10 @@ import sympy as sp
 
 from .errors import InputError, VerificationError
 from .exact import is_zero_number
-from .expoly import ExpPoly, NotExpPoly, to_expoly
+from .expoly import NotExpPoly, to_expoly
 from .model import Case, Condition, Parameter, Solution, System
 from .recombine import conjugate_pairs, recombine
-from .scalar import solve_blocks
+from .scalar import decouple, solve_blocks
 from .spectral import decompose
 from .steady import steady_state_steps
 from .steps import DecoupleStep, EquationsStep, ResultStep, Step
@@ -238,13 +238,7 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
         from .forcing import solve_general_forcing
 
         return solve_general_forcing(system, dec, steps=steps, case=case, check=check)
-    g_ep = []
-    for i in range(n):
-        acc = ExpPoly()
-        for j in range(n):
-            if P_inv[i, j] != 0 and not f_ep[j].is_zero:
-                acc = acc + f_ep[j].scale(P_inv[i, j])
-        g_ep.append(acc)
+    g_ep = decouple(P_inv, f_ep)
     g_mat = sp.ImmutableMatrix([g.to_expr(t) for g in g_ep])
     steps.append(DecoupleStep(t=t, y=y_syms, D=J, P_inv=P_inv, f=system.f, g=g_mat))
 

@@ -175,6 +175,7 @@ def recombine(
             )
         )
 
+    cs = () if ivp else tuple(constants)  # the free constants of the result
     real_pairs: list[RealFormPair] = []
     hom_vec: list[ExpPoly] = [ExpPoly() for _ in range(n)]
     hom_real_expr = [sp.Integer(0)] * n
@@ -230,15 +231,9 @@ def recombine(
         else:
             homogeneous = sp.ImmutableMatrix(hom_real_expr)
         particular = _real(xp, t, shift)
-        cs_real = () if ivp else tuple(constants)
-        steps.append(
-            RealFormStep(
-                t=t,
-                pairs=tuple(real_pairs),
-                homogeneous=homogeneous.applyfunc(lambda e: tidy(e, cs_real, t)),
-                particular=particular.applyfunc(lambda e: tidy(e, (), t)),
-            )
-        )
+        homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
+        particular = particular.applyfunc(lambda e: tidy(e, (), t))
+        steps.append(RealFormStep(t=t, pairs=tuple(real_pairs), homogeneous=homogeneous, particular=particular))
     else:
         if ivp:
             hv = [ExpPoly() for _ in range(n)]
@@ -251,15 +246,14 @@ def recombine(
                 [sum((c * p.real_form(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)]
             )
         particular = _real(xp, t, shift) if do_real else _mat(xp, t, shift)
-    cs = () if ivp else tuple(constants)
-    homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
-    particular = particular.applyfunc(lambda e: tidy(e, (), t))
+        homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
+        particular = particular.applyfunc(lambda e: tidy(e, (), t))
     x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])
     return Recombined(
         x=x,
         homogeneous=homogeneous,
         particular=particular,
-        constants=() if ivp else tuple(constants),
+        constants=cs,
         steps=tuple(steps),
         real_form=do_real,
     )

@@ -23,7 +23,20 @@ from .expoly import ExpPoly, integrate_against, shift_exponents
 from .model import Condition
 from .steps import ScalarStep
 
-__all__ = ["ScalarResult", "solve_blocks"]
+__all__ = ["ScalarResult", "solve_blocks", "decouple"]
+
+
+def decouple(P_inv: sp.MatrixBase, f: Sequence[ExpPoly]) -> list[ExpPoly]:
+    """g = P^-1 f, row by row, for forcing given as exponential polynomials."""
+    n = len(f)
+    g = []
+    for i in range(n):
+        acc = ExpPoly()
+        for j in range(n):
+            if P_inv[i, j] != 0 and not f[j].is_zero:
+                acc = acc + f[j].scale(P_inv[i, j])
+        g.append(acc)
+    return g
 
 
 @dataclass(frozen=True)

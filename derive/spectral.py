@@ -426,14 +426,13 @@ def _decimal(value: sp.Expr, subs: dict) -> str:
     return f"{v.real:.6g} {sign} {abs(v.imag):.6g}i"
 
 
-def _kind(value: sp.Expr, num: complex | None) -> str:
+def _kind(value: sp.Expr) -> str:
+    """"real", "complex", or "unknown" when the sign of a discriminant in the parameters decides."""
     r = value.is_real
     if r is True:
         return "real"
     if r is False:
         return "complex"
-    if isinstance(value, sp.CRootOf) and num is not None:
-        return "real" if value.is_real else "complex"
     return "unknown"
 
 
@@ -581,7 +580,7 @@ def decompose(
                     form=form,
                     rule=rule,
                     decimal=_decimal(root, values),
-                    kind=_kind(root, num),
+                    kind=_kind(root),
                     numeric=num,
                 )
             )

@@ -30,6 +30,11 @@ ATOL = 1e-13
 GAP_LIMIT = 1e-6
 
 
+def combined_method(methods: Sequence[str]) -> str:
+    """How a set of zero tests was settled: "exact", or the first other method used."""
+    return next((m for m in methods if m != "exact"), "exact")
+
+
 def residual(system: System, x: sp.Matrix) -> sp.ImmutableMatrix:
     """x' - A x - f, expanded."""
     t = system.t
@@ -57,7 +62,7 @@ def verify(
         methods.append(v.method)
         zero = zero and v.zero
         reduced.append(sp.Integer(0) if v.zero else r)
-    method = "exact" if all(m == "exact" for m in methods) else next(m for m in methods if m != "exact")
+    method = combined_method(methods)
     init_res = None
     init_ok = None
     if system.x0 is not None:
