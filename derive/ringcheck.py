@@ -1,0 +1,240 @@
+"""The substitution check x' - A x - f = 0 done in a polynomial ring.
+
+A solution of this solver is a sum of terms c t^k e^{u} cos(u) or sin(u) with
+u linear in t.  Holding every exponential, cosine and sine as a generator of a
+polynomial ring (beside t, the free constants and the algebraic numbers
+sqrt(d), i, indexed roots), differentiation in t is the derivation
+
+    D t = 1,   D E = u' E   (E = e^u),   D C = -u' S,   D S = u' C
+    (C = cos u, S = sin u),   D of a constant = 0,
+
+and x' - A x - f is a polynomial in those generators whose zero test is one
+pass of sparse arithmetic, where expanding the sympy expression rewrites the
+whole tree.  An algebraic generator g = b^(1/q) is reduced with g^q = b (i^2 =
+-1; an indexed root with its defining polynomial), so coefficients such as
+(1 + sqrt 2)(sqrt 2 / 4) cancel exactly.
+
+Only a zero polynomial is a verdict.  Treating the generators as independent
+is sound in that direction (every relation used is true), but not complete:
+e^{2t} beside (e^t)^2, or sqrt 6 beside sqrt 2 sqrt 3, can leave a nonzero
+polynomial for a zero residual, so ``None`` sends the caller to expansion and
+the numeric identity test.  The derivative of the argument of each function
+is taken by sympy, so the check uses only the final x(t), A and f.
+"""
+
+from __future__ import annotations
+
+from typing import Sequence
+
+import sympy as sp
+from sympy.polys.polyerrors import PolynomialError
+
+__all__ = ["residual_is_zero", "initial_is_zero"]
+
+
+class _NotInRing(Exception):
+    pass
+
+
+class _Ring:
+    """Generators, their derivatives and the algebraic relations for one set of expressions."""
+
+    def __init__(self, exprs: Sequence[sp.Expr], t: sp.Symbol) -> None:
+        self.t = t
+        exprs = [sp.sympify(e, strict=True) for e in exprs]
+        funcs = set()
+        for e in exprs:
+            funcs |= e.atoms(sp.exp, sp.sin, sp.cos)
+        # the derivative of cos u is in sin u: both are generators
+        funcs |= {sp.sin(a.args[0]) for a in funcs if isinstance(a, sp.cos)}
+        funcs |= {sp.cos(a.args[0]) for a in funcs if isinstance(a, sp.sin)}
+        funcs = {a for a in funcs if isinstance(a, (sp.exp, sp.sin, sp.cos))}
+        self.hold: dict[sp.Expr, sp.Dummy] = {}
+        rates: dict[sp.Dummy, tuple[str, sp.Expr, sp.Expr]] = {}
+        for i, a in enumerate(sorted(funcs, key=sp.default_sort_key)):
+            u = a.args[0]
+            if u.has(sp.exp, sp.sin, sp.cos):
+                raise _NotInRing("a nested function")
+            self.hold[a] = sp.Dummy(f"G{i}")
+        for a, g in self.hold.items():
+            u = a.args[0]
+            du = sp.diff(u, t)
+            if du.has(t):
+                raise _NotInRing("an argument not linear in t")
+            rates[g] = (type(a).__name__, du, u)
+        held = [e.xreplace(self.hold) for e in exprs] + [du for _, du, _ in rates.values()]
+        # algebraic numbers as generators, with their relations
+        alg: dict[sp.Expr, sp.Dummy] = {}
+        # (generator, relation expression in it that vanishes)
+        self.relations: list[tuple[sp.Dummy, sp.Expr]] = []
+        for e in held:
+            for p in e.atoms(sp.Pow):
+                if p.base.has(t) or p.base.free_symbols & set(self.hold.values()):
+                    continue
+                for base, q, _ in _radical_parts(p):
+                    if (base, q) not in alg:
+                        g = alg[(base, q)] = sp.Dummy(f"R{len(alg)}")
+                        self.relations.append((g, g**q - base))
+            if e.has(sp.I) and sp.I not in alg:
+                alg[sp.I] = sp.Dummy("I")
+                self.relations.append((alg[sp.I], alg[sp.I] ** 2 + 1))
+            for r in e.atoms(sp.CRootOf):
+                if r not in alg:
+                    alg[r] = sp.Dummy(f"Q{len(alg)}")
+                    self.relations.append((alg[r], r.poly.as_expr().subs(r.poly.gen, alg[r])))
+        self.alg = alg
+        self.rates = rates
+        others = set()
+        for e in held:
+            others |= e.free_symbols
+        others -= set(self.hold.values()) | {t}
+        # the constants c_i are generators too; parameters go to the coefficient domain
+        self.gens = (t, *self.hold.values(), *alg.values())
+        self.param_syms = others
+
+    def _alg_expr(self, e: sp.Expr) -> sp.Expr:
+        # a^(p/q) as (a^(1/q))^p, so every algebraic number is a power of a generator
+        e = sp.sympify(e, strict=True)
+        rep = {}
+        for p in e.atoms(sp.Pow):
+            parts = _radical_parts(p)
+            if parts and all((b, q) in self.alg for b, q, _ in parts):
+                # b^(k/q) = b^floor(k/q) g^(k mod q): a negative power lands in the domain
+                rep[p] = sp.Mul(*[b ** (k // q) * self.alg[(b, q)] ** (k % q) for b, q, k in parts])
+        e = e.xreplace(rep) if rep else e
+        rest = {k: v for k, v in self.alg.items() if not isinstance(k, tuple)}
+        return e.xreplace(rest) if rest else e
+
+    def poly(self, e: sp.Expr) -> sp.Poly:
+        e = self._alg_expr(sp.sympify(e, strict=True).xreplace(self.hold))
+        try:
+            p = sp.Poly(e, *self.gens)
+        except (PolynomialError, sp.CoercionFailed, ValueError, TypeError) as exc:
+            raise _NotInRing(str(exc)) from None
+        if p.domain.is_EX or p.domain.is_EXRAW:
+            raise _NotInRing("coefficients outside a polynomial domain")
+        if any(c.has(self.t) for c in p.coeffs()):
+            raise _NotInRing("t in a coefficient")
+        return p
+
+    def derivative(self, p: sp.Poly) -> sp.Poly:
+        out = p.diff(self.t)
+        for g, (kind, du, _) in self.rates.items():
+            dg = p.diff(g)
+            if dg.is_zero:
+                continue
+            if kind == "exp":
+                rate = du * g
+            elif kind == "cos":
+                rate = -du * self._trig_partner(g, "sin")
+            else:
+                rate = du * self._trig_partner(g, "cos")
+            out = out + dg * self.poly_held(rate)
+        return out
+
+    def poly_held(self, e: sp.Expr) -> sp.Poly:
+        e = self._alg_expr(e)
+        try:
+            p = sp.Poly(e, *self.gens)
+        except (PolynomialError, sp.CoercionFailed, ValueError, TypeError) as exc:
+            raise _NotInRing(str(exc)) from None
+        return p
+
+    def _trig_partner(self, g: sp.Dummy, kind: str) -> sp.Dummy:
+        u = self.rates[g][2]
+        partner = (sp.sin if kind == "sin" else sp.cos)(u)
+        if partner not in self.hold:  # sympy evaluated it (sin 0, cos of a multiple of pi)
+            raise _NotInRing(f"{kind}({u}) is not among the generators")
+        return self.hold[partner]
+
+    def reduce(self, p: sp.Poly) -> sp.Poly:
+        for g, rel in self.relations:
+            try:
+                p = _reduce_by(p, g, self.poly_held(self._alg_expr(rel)))
+            except (PolynomialError, sp.CoercionFailed, ValueError, TypeError, ZeroDivisionError) as exc:
+                raise _NotInRing(str(exc)) from None
+        return p
+
+
+def _radical_parts(p: sp.Expr) -> list[tuple[sp.Expr, int, int]]:
+    """b^(k/q) as factors (base, q, k): a positive integer base split into primes.
+
+    sqrt 6 is then sqrt 2 sqrt 3, so the radicals of distinct primes are
+    independent generators and products of them reduce exactly.
+    """
+    if not (p.is_Pow and p.exp.is_Rational and not p.exp.is_Integer):
+        return []
+    q, k = int(p.exp.q), int(p.exp.p)
+    if p.base.is_Integer and 0 < p.base < 10**12:  # factorint stays cheap
+        return [(sp.Integer(prime), q, k * m) for prime, m in sorted(sp.factorint(int(p.base)).items())]
+    return [(p.base, q, k)]
+
+
+def _reduce_by(p: sp.Poly, g: sp.Dummy, rel: sp.Poly) -> sp.Poly:
+    """p modulo rel, rel monic in g (g^q - b, or an indexed root's integer polynomial made monic)."""
+    gi = p.gens.index(g)
+    deg = rel.degree(g)
+    lead = rel.coeff_monomial(g**deg)
+    if lead != 1:
+        rel = rel.quo_ground(lead) if rel.domain.is_Field else rel.to_field().quo_ground(lead)
+        p = p.to_field() if not p.domain.is_Field else p
+    tail = (sp.Poly(g**deg, *p.gens, domain=rel.domain) - rel)  # g^deg = tail
+    for _ in range(64):
+        if p.degree(g) < deg:
+            return p
+        hi = p.as_dict()
+        low = {}
+        high = {}
+        for mon, c in hi.items():
+            if mon[gi] >= deg:
+                m = list(mon)
+                m[gi] -= deg
+                high[tuple(m)] = c
+            else:
+                low[mon] = c
+        p = sp.Poly.from_dict(low, *p.gens, domain=p.domain) + sp.Poly.from_dict(high, *p.gens, domain=p.domain) * tail
+    raise _NotInRing("reduction did not terminate")
+
+
+def residual_is_zero(
+    x: Sequence[sp.Expr], A: sp.MatrixBase, f: Sequence[sp.Expr], t: sp.Symbol
+) -> bool:
+    """True when x' - A x - f reduces to the zero polynomial, component by component.
+
+    False means "not settled here", never "nonzero".
+    """
+    try:
+        ring = _Ring(list(x) + list(f), t)
+        px = [ring.poly(e) for e in x]
+        pf = [ring.poly(e) for e in f]
+        n = len(px)
+        for i in range(n):
+            r = ring.derivative(px[i]) - pf[i]
+            for j in range(n):
+                a = A[i, j]
+                if a != 0:
+                    r = r - px[j] * ring.poly_held(ring._alg_expr(a))
+            if not ring.reduce(r).is_zero:
+                return False
+        return True
+    except _NotInRing:
+        return False
+
+
+def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -> bool:
+    """True when x(0) = x0 exactly, with every exponential and cosine 1 and sine 0 at t = 0."""
+    try:
+        ring = _Ring(list(x) + list(x0), t)
+        at0 = {}
+        for a, g in ring.hold.items():
+            if a.args[0].subs(t, 0) != 0:
+                return False
+            at0[g] = 0 if isinstance(a, sp.sin) else 1
+        for e, v in zip(x, x0):
+            # reduced first: evaluating t and the functions keeps it reduced
+            p = ring.reduce(ring.poly(e) - ring.poly(v)).eval({t: 0, **at0})
+            if not (p.is_zero if isinstance(p, sp.Poly) else p == 0):
+                return False
+        return True
+    except _NotInRing:
+        return False

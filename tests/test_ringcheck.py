@@ -1,0 +1,138 @@
+"""The polynomial-ring substitution check (derive.ringcheck).
+
+Its one promise is soundness: a True verdict means x' - A x - f is zero.  The
+reference is sympy's own diff and simplify (an independent route), and
+wrong answers must never be settled as zero.  False means "not settled
+here" and sends verify() to expansion and the numeric identity test.
+"""
+
+from __future__ import annotations
+
+import pytest
+import sympy as sp
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+import derive
+from derive.ringcheck import initial_is_zero, residual_is_zero
+
+t = sp.Symbol("t")
+Z = sp.zeros(2, 2)
+
+
+def test_rotation_decay_solution_is_settled():
+    # x' = [[-1, 2], [-2, -1]] x: e^{-t}(cos 2t, -sin 2t) solves it (common practice)
+    A = sp.Matrix([[-1, 2], [-2, -1]])
+    x = [sp.exp(-t) * sp.cos(2 * t), -sp.exp(-t) * sp.sin(2 * t)]
+    assert residual_is_zero(x, A, [0, 0], t)
+    assert initial_is_zero(x, [1, 0], t)
+    assert not initial_is_zero(x, [1, 1], t)
+
+
+def test_radicals_in_exponents_and_coefficients_cancel():
+    # A = [[1, 1], [1, -1]] has eigenvalues +-sqrt 2, eigenvector (1 + sqrt 2, 1)
+    A = sp.Matrix([[1, 1], [1, -1]])
+    r = sp.sqrt(2)
+    x = [(1 + r) * sp.exp(r * t), sp.exp(r * t)]
+    assert residual_is_zero(x, A, [0, 0], t)
+    # the other eigenvector with the wrong eigenvalue is not a solution
+    assert not residual_is_zero([(1 - r) * sp.exp(r * t), sp.exp(r * t)], A, [0, 0], t)
+
+
+def test_parameters_in_the_coefficient_domain():
+    k, m = sp.symbols("k m", positive=True)
+    w = sp.sqrt(k / m)
+    A = sp.Matrix([[0, 1], [-k / m, 0]])
+    x = [sp.cos(w * t), -w * sp.sin(w * t)]
+    assert residual_is_zero(x, A, [0, 0], t)
+    assert not residual_is_zero([sp.cos(w * t), w * sp.sin(w * t)], A, [0, 0], t)
+
+
+def test_forced_resonant_term():
+    # x'' + x = cos t as a system: x = t sin t / 2 (Boyce & DiPrima 10th ed. §3.5, from memory)
+    A = sp.Matrix([[0, 1], [-1, 0]])
+    x = [t * sp.sin(t) / 2, sp.sin(t) / 2 + t * sp.cos(t) / 2]
+    assert residual_is_zero(x, A, [0, sp.cos(t)], t)
+    assert not residual_is_zero(x, A, [0, sp.sin(t)], t)
+
+
+def test_indexed_roots_reduced_by_their_polynomial():
+    z = sp.Symbol("z")
+    lam = sp.CRootOf(z**5 - z - 1, 0)  # the real root; x = e^{lam t} solves x' = lam x
+    x = [sp.exp(lam * t)]
+    assert residual_is_zero(x, sp.Matrix([[lam]]), [0], t)
+    assert not residual_is_zero(x, sp.Matrix([[lam + 1]]), [0], t)
+
+
+@pytest.mark.parametrize(
+    "x",
+    [
+        [sp.log(t + 2), 0],  # not an exponential polynomial
+        [sp.Heaviside(t - 1) * sp.exp(-t), 0],  # a switch
+        [sp.exp(-t) / (1 + t), 0],  # t in a denominator
+        [sp.exp(t**2), 0],  # an argument not linear in t
+    ],
+)
+def test_outside_the_ring_is_not_settled(x):
+    assert residual_is_zero(x, Z, [0, 0], t) is False
+
+
+def test_verify_falls_back_when_the_ring_cannot_settle():
+    # e^{2t} written as (e^t)^2 against x' = 2x: the ring treats e^t and e^{2t} as
+    # independent, so expansion settles it instead
+    sol_x = [sp.exp(t) ** 2]
+    assert sp.simplify(sp.diff(sol_x[0], t) - 2 * sol_x[0]) == 0
+    from derive.model import System
+    from derive.verify import verify
+
+    system = System(
+        A=sp.ImmutableMatrix([[2]]), f=sp.ImmutableMatrix([0]), t=t, states=(sp.Symbol("x_1"),)
+    )
+    ver = verify(system, sp.Matrix(sol_x), numeric=False)
+    assert ver.residual_zero
+
+
+# ---------------------------------------------------------------------------
+# soundness against sympy's diff: x' = f with f := dx/dt by sympy
+
+
+_rates = st.sampled_from([sp.Integer(0), sp.Integer(-1), sp.Rational(-1, 2), sp.Integer(2), sp.sqrt(3), -1 + sp.sqrt(2)])
+_freqs = st.sampled_from([sp.Integer(0), sp.Integer(1), sp.Integer(3), sp.sqrt(2), sp.Rational(1, 2)])
+_coeffs = st.sampled_from([sp.Integer(1), sp.Integer(-3), sp.Rational(2, 5), sp.sqrt(2), 1 + sp.sqrt(3), sp.I / 2])
+
+
+@st.composite
+def exp_poly(draw):
+    terms = []
+    for _ in range(draw(st.integers(1, 4))):
+        c, a, b = draw(_coeffs), draw(_rates), draw(_freqs)
+        k = draw(st.integers(0, 2))
+        trig = draw(st.sampled_from([sp.cos, sp.sin]))
+        terms.append(c * t**k * sp.exp(a * t) * trig(b * t))
+    return sp.Add(*terms)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(exp_poly(), exp_poly())
+def test_true_verdicts_agree_with_sympy_diff(x1, x2):
+    x = [x1, x2]
+    f = [sp.diff(e, t) for e in x]
+    assert residual_is_zero(x, Z, f, t)  # every such pair lies in the ring
+    # perturbed: f is off by a term that is not a derivative of x, never settled as zero
+    bad = [f[0] + sp.exp(sp.Rational(1, 7) * t), f[1]]
+    assert not residual_is_zero(x, Z, bad, t)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(exp_poly())
+def test_initial_values_agree_with_substitution(x1):
+    v = sp.nsimplify(sp.expand(x1.subs(t, 0)))
+    assert initial_is_zero([x1], [v], t) == (sp.simplify(x1.subs(t, 0) - v) == 0)
+    assert not initial_is_zero([x1], [v + 1], t)
+
+
+def test_solutions_of_the_solver_are_settled_exactly():
+    # the casus irreducibilis cubic: three indexed roots of one polynomial
+    A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])  # lambda^3 - 3 lambda - 1
+    sol = derive.solve(A)
+    assert residual_is_zero(list(sol.x), A, [0, 0, 0], t)
