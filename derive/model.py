@@ -127,14 +127,18 @@ class Condition:
 
 @dataclass(frozen=True)
 class NumericCheck:
-    """Numeric integration of the system compared with the exact solution."""
+    """A numeric solution of the system compared with the exact one.
+
+    ``rtol`` and ``atol`` are the integrator's tolerances; None for a route
+    without them (the stepped matrix exponential of an unforced system).
+    """
 
     method: str
     t_start: float
     t_end: float
     points: int
-    rtol: float
-    atol: float
+    rtol: float | None
+    atol: float | None
     max_abs_gap: float
     max_rel_gap: float
     ok: bool

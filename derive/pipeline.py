@@ -19,7 +19,9 @@ from .errors import InputError, VerificationError
 from .exact import is_zero_number
 from .expoly import NotExpPoly, to_expoly
 from .model import Case, Condition, Parameter, Solution, System
-from .recombine import conjugate_pairs, recombine
+from .recombine import conjugate_pairs, recombine, tidy
+from .relations import apply_relations, parse_relations, split_assumptions
+from .relations import regimes as regime_notes
 from .scalar import decouple, solve_blocks
 from .spectral import decompose
 from .steady import steady_state_steps
@@ -169,8 +171,6 @@ def solve_case(case: Case, *, assume=None) -> Solution:
 
 
 def _solve_on(system: System, assume, *, notices=(), case: Case | None = None) -> Solution:
-    from .relations import apply_relations, parse_relations, split_assumptions
-
     conds: tuple = ()
     notes: tuple[str, ...] = ()
     regimes: tuple = ()
@@ -266,8 +266,6 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     )
     steps.extend(scal.steps)
 
-    from .relations import regimes as regime_notes
-
     if not regimes:
         notices.extend(regime_notes(dec.steps[0].factors, dec.lam, values))
     real = _is_real_data(system)
@@ -295,8 +293,6 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     aux = dict(dec.aux)
     x_res, hom_res, par_res = rec.x, rec.homogeneous, rec.particular
     if aux:
-        from .recombine import tidy
-
         def back(m: sp.ImmutableMatrix, cs) -> sp.ImmutableMatrix:
             # the square of a placeholder is its radicand: c^2 - 4km = -w^2 lets
             # c w/(4km - c^2) cancel to c/w before w is replaced by the root

@@ -27,6 +27,7 @@ from __future__ import annotations
 from typing import Sequence
 
 import sympy as sp
+import sympy.polys.domains.old_polynomialring  # noqa: F401 - domain unification imports it on first use
 from sympy.polys.polyerrors import PolynomialError
 
 __all__ = ["residual_is_zero", "initial_is_zero"]

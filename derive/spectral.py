@@ -208,13 +208,23 @@ def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
     coeffs = _dm(A, dom).charpoly()  # det(lam I - A), monic
     mono = sp.Add(*[dom.to_sympy(c) * lam ** (n - i) for i, c in enumerate(coeffs)])
     expanded = sp.expand((-1) ** n * mono)  # det(A - lam I), as on the sheet
+    if dom.is_QQ or dom.is_ZZ:
+        # rational coefficients: factor the integer polynomial directly, no expression round trip
+        den, prim = sp.Poly(list(coeffs), lam, domain=dom).clear_denoms(convert=True)
+        lc, fl = prim.factor_list()
+        den, fl = dom.to_sympy(den) if not isinstance(den, sp.Basic) else den, [(f.as_expr(), m) for f, m in fl]
+        return expanded, *_collect_factors(n, lam, sp.Integer(lc) / den, fl)
     num, den = sp.fraction(sp.together(mono))
     gens = [lam] + sorted((num.free_symbols | den.free_symbols) - {lam}, key=sp.default_sort_key)
     if dom.is_Algebraic:
         lc, fl = sp.factor_list(num, lam, extension=list(dom.orig_ext))
     else:
         lc, fl = sp.factor_list(num, *gens)
-    const = lc / den
+    return expanded, *_collect_factors(n, lam, lc / den, fl)
+
+
+def _collect_factors(n: int, lam: sp.Symbol, const: sp.Expr, fl) -> tuple[sp.Expr, list]:
+    """(det(A - lam I) as a product, the factors in lam with multiplicities)."""
     factors = []
     for fexpr, mult in fl:
         if not fexpr.has(lam):
@@ -224,7 +234,7 @@ def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
     # det(A - lam I) = (-1)^n * const * prod(factor^mult)
     sign_const = sp.factor((-1) ** n * const)
     factored = sp.Mul(sign_const, *[f**m for f, m in factors], evaluate=False) if sign_const != 1 else sp.Mul(*[f**m for f, m in factors])
-    return expanded, factored, factors
+    return factored, factors
 
 
 def _regime_sign(disc: sp.Expr, regimes: Sequence[tuple[sp.Expr, int]]) -> int:
