@@ -702,7 +702,7 @@ def decompose(
             "normalised so that W V = I; computed once per irreducible factor of the "
             "characteristic polynomial, in terms of a generic root"
         )
-        product, sim_ok = _numeric_similarity(A, P, J, P_inv, values)
+        product, sim_ok = _similarity_check(A, P, J, P_inv, values)
         sim_ok = sim_ok and field_ok
     steps.append(InverseStep(P=P, det=det, P_inv=P_inv, method=method))
     steps.append(SimilarityStep(P=P, D=J, P_inv=P_inv, product=product, A=A, ok=sim_ok))
@@ -765,22 +765,70 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
     return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
 
 
-def _numeric_similarity(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]:
-    """P J P^-1 evaluated at 40 digits against A (exact check already done in F)."""
+def _similarity_check(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]:
+    """P J P^-1 against A: exactly over Q(i) or a quadratic field, else numerically.
+
+    The exact check in F has already run; this one covers putting the actual
+    roots into the generic-root expressions.  Numerically, double precision
+    first (a slip leaves a gap of the size of A, rounding one near 1e-16 of
+    |P| |J| |P^-1|), 40 digits where that is not conclusive.
+    """
+    import numpy as np
+
+    n = A.rows
+    exact = _exact_similarity(A, P, J, P_inv)
+    if exact is not None:
+        return A, exact
     subs = dict(values)
+    mats = [_with_root_values(M).xreplace(subs) for M in (P, J, P_inv, A)]
+    if any(M.free_symbols for M in mats):
+        # free parameters without values: the exact check in F stands alone
+        return A, True
     try:
-        Pn = _with_root_values(P).subs(subs).evalf(40)
-        Jn = _with_root_values(J).subs(subs).evalf(40)
-        Qn = _with_root_values(P_inv).subs(subs).evalf(40)
-        An = A.subs(subs).evalf(40)
+        fn = sp.lambdify((), [list(M) for M in mats], modules="numpy")
+        Pn, Jn, Qn, An = (np.array(v, dtype=complex).reshape(n, n) for v in fn())
+        bound = 1e-10 * max(1.0, np.abs(Pn).max() * np.abs(Jn).max() * np.abs(Qn).max() * n * n)
+        gap = float(np.abs(Pn @ Jn @ Qn - An).max())
+        if gap <= bound:
+            return A, True
+    except (TypeError, ValueError, ZeroDivisionError, OverflowError):
+        pass
+    try:
+        Pn, Jn, Qn, An = (M.evalf(40) for M in mats)
         prod = Pn * Jn * Qn
         gap = max(abs(complex(x - y)) for x, y in zip(prod, An))
         scale = max(1.0, max(abs(complex(y)) for y in An))
         ok = gap <= 1e-25 * scale
     except (TypeError, ValueError):
-        # free parameters without values: the exact check in F stands alone
         return A, True
     return A, ok
+
+
+def _exact_similarity(A, P, J, P_inv) -> bool | None:
+    """P J P^-1 = A exactly over Q(i) or Q(one or two radicals); None elsewhere.
+
+    Gaussian rationals and a quadratic field or two cost a millisecond or so;
+    indexed roots and towers of radicals make the primitive element of the
+    field expensive, so those go to the numeric check.
+    """
+    entries = [e for M in (P, J, P_inv, A) for e in M]
+    if any(e.free_symbols or e.has(sp.CRootOf) for e in entries):
+        return None
+    radicals = set()
+    for e in entries:
+        radicals |= {p for p in e.atoms(sp.Pow) if p.exp.is_Rational and not p.exp.is_Integer}
+    if len(radicals) > 2 or any(p.exp.q != 2 or not p.base.is_Rational for p in radicals):
+        return None
+    try:
+        K, elems = construct_domain(entries, extension=True)
+    except Exception:  # pragma: no cover - sympy internals
+        return None
+    if K.is_EX or K.is_EXRAW:
+        return None
+    n = A.rows
+    k = n * n
+    M = [DomainMatrix([elems[i * k + r * n : i * k + r * n + n] for r in range(n)], (n, n), K) for i in range(4)]
+    return (M[0] * M[1] * M[2] - M[3]).is_zero_matrix
 
 
 def _conditions(A, factors, P, P_inv, lam) -> tuple[Condition, ...]:

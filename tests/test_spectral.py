@@ -253,3 +253,24 @@ def test_underdamped_regime_gives_sines_and_states_the_regime():
     over = derive.solve(A, x0=[1, 0], assume=["c^2 > 4*k*m"])
     assert not over.x.has(sp.sin) and not over.x.has(sp.I)
     assert over.verification.ok
+
+
+@pytest.mark.parametrize(
+    "A",
+    [
+        sp.Matrix([[1, -2], [4, -3]]),  # -1 +- 2i: checked exactly over Q(i)
+        sp.Matrix([[1, 1], [1, -1]]),  # +-sqrt 2: exactly over Q(sqrt 2)
+        sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]]),  # indexed roots: numerically
+    ],
+)
+def test_similarity_check_catches_a_wrong_instantiation(A):
+    from derive.spectral import _similarity_check
+
+    dec = decompose(A)
+    assert _similarity_check(dec.A, dec.P, dec.J, dec.P_inv, {})[1]
+    # the eigenvalues of D swapped against the columns of P: a slip the check must see
+    n = A.rows
+    perm = list(range(n))
+    perm[0], perm[1] = perm[1], perm[0]
+    J_bad = sp.diag(*[dec.J[p, p] for p in perm])
+    assert not _similarity_check(dec.A, dec.P, J_bad, dec.P_inv, {})[1]
