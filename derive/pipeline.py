@@ -332,6 +332,7 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
         constants=rec.constants,
         similarity_ok=True,
         eigenvalues=eigenvalues,
+        decimals=[b.numeric for b in dec.blocks for ch in b.chains for _ in ch],
     )
     if aux:
         from .forcing import _swap

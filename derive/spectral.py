@@ -20,6 +20,7 @@ F; with disjoint spectra they imply P J P^-1 = A exactly.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Sequence
 
@@ -373,6 +374,18 @@ def _scale_chain(chain: list[sp.ImmutableMatrix], gen: sp.Symbol | None) -> list
 
     One factor for the chain keeps (A - lam I) v_{k+1} = v_k intact.
     """
+    if all(e.is_Rational for v in chain for e in v):
+        # rational vectors: integer arithmetic, no expression round trip
+        nonzero = [e for v in chain for e in v if e != 0]
+        if not nonzero:
+            return chain
+        L = math.lcm(*[int(e.q) for e in nonzero])
+        G = math.gcd(*[int(e.p) * (L // int(e.q)) for e in nonzero])
+        factor = sp.Rational(L, G)
+        first = next(e for e in chain[0] if e != 0) if any(e != 0 for e in chain[0]) else None
+        if first is not None and first < 0:
+            factor = -factor
+        return [sp.ImmutableMatrix(v * factor) for v in chain]
     entries = [sp.cancel(e) for v in chain for e in v if e != 0]
     if not entries:
         return chain
@@ -748,6 +761,11 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
 
     Only invertibility is at stake here; P^-1 itself is exact either way.
     """
+    n = P.rows
+    got = _small_field(list(P))
+    if got is not None:
+        K, elems = got
+        return K.to_sympy(DomainMatrix([elems[r * n : r * n + n] for r in range(n)], (n, n), K).det())
     if P.rows <= 4 and not P.has(sp.CRootOf):
         try:
             return sp.radsimp(sp.expand(P.det(method="berkowitz")))
@@ -804,14 +822,12 @@ def _similarity_check(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]
     return A, ok
 
 
-def _exact_similarity(A, P, J, P_inv) -> bool | None:
-    """P J P^-1 = A exactly over Q(i) or Q(one or two radicals); None elsewhere.
+def _small_field(entries: Sequence[sp.Expr]):
+    """(K, elements) when the numbers lie in Q(i) or Q(one or two square roots); else None.
 
-    Gaussian rationals and a quadratic field or two cost a millisecond or so;
-    indexed roots and towers of radicals make the primitive element of the
-    field expensive, so those go to the numeric check.
+    Such fields cost a millisecond or so to build; indexed roots and towers of
+    radicals make the primitive element of the field expensive.
     """
-    entries = [e for M in (P, J, P_inv, A) for e in M]
     if any(e.free_symbols or e.has(sp.CRootOf) for e in entries):
         return None
     radicals = set()
@@ -820,13 +836,22 @@ def _exact_similarity(A, P, J, P_inv) -> bool | None:
     if len(radicals) > 2 or any(p.exp.q != 2 or not p.base.is_Rational for p in radicals):
         return None
     try:
-        K, elems = construct_domain(entries, extension=True)
+        K, elems = construct_domain(list(entries), extension=True)
     except Exception:  # pragma: no cover - sympy internals
         return None
     if K.is_EX or K.is_EXRAW:
         return None
+    return K, elems
+
+
+def _exact_similarity(A, P, J, P_inv) -> bool | None:
+    """P J P^-1 = A exactly in a small field (see ``_small_field``); None elsewhere."""
     n = A.rows
     k = n * n
+    got = _small_field([e for M in (P, J, P_inv, A) for e in M])
+    if got is None:
+        return None
+    K, elems = got
     M = [DomainMatrix([elems[i * k + r * n : i * k + r * n + n] for r in range(n)], (n, n), K) for i in range(4)]
     return (M[0] * M[1] * M[2] - M[3]).is_zero_matrix
 
