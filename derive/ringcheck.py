@@ -40,7 +40,7 @@ class _NotInRing(Exception):
 class _Ring:
     """Generators, their derivatives and the algebraic relations for one set of expressions."""
 
-    def __init__(self, exprs: Sequence[sp.Expr], t: sp.Symbol) -> None:
+    def __init__(self, exprs: Sequence[sp.Expr], t: sp.Symbol, symbols_as_gens: bool = True) -> None:
         self.t = t
         exprs = [sp.sympify(e, strict=True) for e in exprs]
         funcs = set()
@@ -89,9 +89,10 @@ class _Ring:
         for e in held:
             others |= e.free_symbols
         others -= set(self.hold.values()) | {t}
-        # the constants c_i are generators too; parameters go to the coefficient domain
-        self.gens = (t, *self.hold.values(), *alg.values())
-        self.param_syms = others
+        # every other symbol a generator too (a rational domain is the fast one);
+        # parameters in a denominator need the fraction field instead
+        extra = sorted(others, key=sp.default_sort_key) if symbols_as_gens else []
+        self.gens = (t, *self.hold.values(), *alg.values(), *extra)
 
     def _alg_expr(self, e: sp.Expr) -> sp.Expr:
         # a^(p/q) as (a^(1/q))^p, so every algebraic number is a power of a generator
@@ -197,6 +198,16 @@ def _reduce_by(p: sp.Poly, g: sp.Dummy, rel: sp.Poly) -> sp.Poly:
     raise _NotInRing("reduction did not terminate")
 
 
+def _in_ring(check, exprs: Sequence[sp.Expr], t: sp.Symbol) -> bool:
+    """Run ``check(ring)`` with the symbols as generators, then in the coefficient field."""
+    for symbols_as_gens in (True, False):
+        try:
+            return check(_Ring(exprs, t, symbols_as_gens))
+        except _NotInRing:
+            continue
+    return False
+
+
 def residual_is_zero(
     x: Sequence[sp.Expr], A: sp.MatrixBase, f: Sequence[sp.Expr], t: sp.Symbol
 ) -> bool:
@@ -204,28 +215,32 @@ def residual_is_zero(
 
     False means "not settled here", never "nonzero".
     """
-    try:
-        ring = _Ring(list(x) + list(f), t)
+    n = len(x)
+
+    def check(ring: _Ring) -> bool:
         px = [ring.poly(e) for e in x]
         pf = [ring.poly(e) for e in f]
-        n = len(px)
         for i in range(n):
             r = ring.derivative(px[i]) - pf[i]
             for j in range(n):
                 a = A[i, j]
-                if a != 0:
-                    r = r - px[j] * ring.poly_held(ring._alg_expr(a))
+                if a == 0:
+                    continue
+                if a.is_Rational and px[j].domain.is_Field or a.is_Integer:
+                    r = r - px[j].mul_ground(a)
+                else:
+                    r = r - px[j] * ring.poly_held(a)
             if not ring.reduce(r).is_zero:
                 return False
         return True
-    except _NotInRing:
-        return False
+
+    return _in_ring(check, list(x) + list(f), t)
 
 
 def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -> bool:
     """True when x(0) = x0 exactly, with every exponential and cosine 1 and sine 0 at t = 0."""
-    try:
-        ring = _Ring(list(x) + list(x0), t)
+
+    def check(ring: _Ring) -> bool:
         at0 = {}
         for a, g in ring.hold.items():
             if a.args[0].subs(t, 0) != 0:
@@ -237,5 +252,5 @@ def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -
             if not (p.is_zero if isinstance(p, sp.Poly) else p == 0):
                 return False
         return True
-    except _NotInRing:
-        return False
+
+    return _in_ring(check, list(x) + list(x0), t)
