@@ -24,6 +24,7 @@ from .exact import decide_zero
 from .expoly import NotExpPoly, norm_coeff, split_complex, to_expoly
 from .model import System
 from .recombine import tidy
+from .ringcheck import residual_is_zero
 from .steps import SteadyStateStep
 
 __all__ = ["steady_state_steps", "stability"]
@@ -64,6 +65,26 @@ def _is_real(system: System, f: sp.MatrixBase) -> bool:
         if any(not (s.is_real or s == system.t) for s in e.free_symbols):
             return False
     return True
+
+
+def _solve(M: sp.Matrix, b: sp.Matrix) -> sp.Matrix:
+    """M y = b exactly: in the small exact field of the numbers where there is one
+    (Q, Q(i), a quadratic field: DomainMatrix arithmetic), else by sympy's LU."""
+    from sympy.polys.constructor import construct_domain
+    from sympy.polys.matrices import DomainMatrix
+
+    entries = list(M) + list(b)
+    if not any(e.free_symbols or e.has(sp.CRootOf) for e in entries):
+        try:
+            K, elems = construct_domain(entries, field=True, extension=True)
+        except Exception:  # pragma: no cover - sympy internals
+            K = None
+        if K is not None and not (K.is_EX or K.is_EXRAW):
+            n = M.rows
+            Md = DomainMatrix([elems[i * n : i * n + n] for i in range(n)], (n, n), K)
+            bd = DomainMatrix([[e] for e in elems[n * n :]], (n, 1), K)
+            return Md.lu_solve(bd).to_Matrix()
+    return M.LUsolve(b)
 
 
 def _clean(e: sp.Expr) -> sp.Expr:
@@ -126,7 +147,7 @@ def steady_state_steps(
     x_const = None
     x_ss = sp.Matrix.zeros(n, 1)
     if has_const:
-        x_const = sp.ImmutableMatrix(A.LUsolve(-sp.Matrix(f0)).applyfunc(_clean))
+        x_const = sp.ImmutableMatrix(_solve(A, -sp.Matrix(f0)).applyfunc(_clean))
         x_ss = x_ss + sp.Matrix(x_const)
     F = X = None
     amplitude: tuple[sp.Expr, ...] = ()
@@ -136,7 +157,7 @@ def steady_state_steps(
         # f = C e^{i w t} + conj(C) e^{-i w t} = Re(2 C e^{i w t}): the phasor is 2 C
         F = sp.ImmutableMatrix([_clean(2 * ep.as_dict().get(key, zero)) for ep in eps])
         M = sp.I * omega * sp.eye(n) - A
-        X = sp.ImmutableMatrix(M.LUsolve(sp.Matrix(F)).applyfunc(_clean))
+        X = sp.ImmutableMatrix(_solve(M, sp.Matrix(F)).applyfunc(_clean))
         amps, phases = [], []
         for k in range(n):
             re, im = split_complex(X[k])
@@ -150,8 +171,9 @@ def steady_state_steps(
             x_ss[k] += re * sp.cos(omega * t) - im * sp.sin(omega * t)
         amplitude, phase = tuple(amps), tuple(phases)
     x_ss = sp.ImmutableMatrix(x_ss)
-    r = x_ss.diff(t) - A * x_ss - f
-    ok = all(decide_zero(e).zero for e in r)
+    ok = residual_is_zero(list(x_ss), A, list(f), t) or all(
+        decide_zero(x_ss[i].diff(t) - (A.row(i) * x_ss)[0] - f[i]).zero for i in range(n)
+    )
     transient = sp.ImmutableMatrix([tidy(sp.expand(a - b), (), t) for a, b in zip(x, x_ss)])
     return (
         SteadyStateStep(
