@@ -44,7 +44,7 @@ from .steps import (
     Step,
 )
 
-__all__ = ["LAM", "Decomposition", "EigenBlock", "decompose", "RADICAL_OPS_LIMIT"]
+__all__ = ["LAM", "Decomposition", "EigenBlock", "decompose", "small_field", "RADICAL_OPS_LIMIT"]
 
 #: The eigenvalue variable shown on the sheet.
 LAM = sp.Symbol("lambda")
@@ -762,7 +762,7 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
     Only invertibility is at stake here; P^-1 itself is exact either way.
     """
     n = P.rows
-    got = _small_field(list(P))
+    got = small_field(list(P))
     if got is not None:
         K, elems = got
         return K.to_sympy(DomainMatrix([elems[r * n : r * n + n] for r in range(n)], (n, n), K).det())
@@ -822,7 +822,7 @@ def _similarity_check(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]
     return A, ok
 
 
-def _small_field(entries: Sequence[sp.Expr]):
+def small_field(entries: Sequence[sp.Expr]):
     """(K, elements) when the numbers lie in Q(i) or Q(one or two square roots); else None.
 
     Such fields cost a millisecond or so to build; indexed roots and towers of
@@ -845,10 +845,10 @@ def _small_field(entries: Sequence[sp.Expr]):
 
 
 def _exact_similarity(A, P, J, P_inv) -> bool | None:
-    """P J P^-1 = A exactly in a small field (see ``_small_field``); None elsewhere."""
+    """P J P^-1 = A exactly in a small field (see ``small_field``); None elsewhere."""
     n = A.rows
     k = n * n
-    got = _small_field([e for M in (P, J, P_inv, A) for e in M])
+    got = small_field([e for M in (P, J, P_inv, A) for e in M])
     if got is None:
         return None
     K, elems = got

@@ -19,12 +19,14 @@ from __future__ import annotations
 from typing import Mapping, Sequence
 
 import sympy as sp
+from sympy.polys.matrices import DomainMatrix
 
 from .exact import decide_zero
 from .expoly import NotExpPoly, norm_coeff, split_complex, to_expoly
 from .model import System
 from .recombine import tidy
 from .ringcheck import residual_is_zero
+from .spectral import small_field
 from .steps import SteadyStateStep
 
 __all__ = ["steady_state_steps", "stability"]
@@ -68,23 +70,16 @@ def _is_real(system: System, f: sp.MatrixBase) -> bool:
 
 
 def _solve(M: sp.Matrix, b: sp.Matrix) -> sp.Matrix:
-    """M y = b exactly: in the small exact field of the numbers where there is one
-    (Q, Q(i), a quadratic field: DomainMatrix arithmetic), else by sympy's LU."""
-    from sympy.polys.constructor import construct_domain
-    from sympy.polys.matrices import DomainMatrix
-
-    entries = list(M) + list(b)
-    if not any(e.free_symbols or e.has(sp.CRootOf) for e in entries):
-        try:
-            K, elems = construct_domain(entries, field=True, extension=True)
-        except Exception:  # pragma: no cover - sympy internals
-            K = None
-        if K is not None and not (K.is_EX or K.is_EXRAW):
-            n = M.rows
-            Md = DomainMatrix([elems[i * n : i * n + n] for i in range(n)], (n, n), K)
-            bd = DomainMatrix([[e] for e in elems[n * n :]], (n, 1), K)
-            return Md.lu_solve(bd).to_Matrix()
-    return M.LUsolve(b)
+    """M y = b exactly: by DomainMatrix in a small exact field of the numbers where
+    there is one (Q, Q(i), a quadratic field), else by sympy's LU."""
+    got = small_field(list(M) + list(b))
+    if got is None:
+        return M.LUsolve(b)
+    K, elems = got
+    n = M.rows
+    Md = DomainMatrix([elems[i * n : i * n + n] for i in range(n)], (n, n), K).to_field()
+    bd = DomainMatrix([[e] for e in elems[n * n :]], (n, 1), K).to_field()
+    return Md.lu_solve(bd).to_Matrix()
 
 
 def _clean(e: sp.Expr) -> sp.Expr:
