@@ -17,7 +17,7 @@ whole tree.  An algebraic generator g = b^(1/q) is reduced with g^q = b (i^2 =
 Only a zero polynomial is a verdict.  Treating the generators as independent
 is sound in that direction (every relation used is true), but not complete:
 e^{2t} beside (e^t)^2, or sqrt 6 beside sqrt 2 sqrt 3, can leave a nonzero
-polynomial for a zero residual, so ``None`` sends the caller to expansion and
+polynomial for a zero residual, so False (not settled) sends the caller to expansion and
 the numeric identity test.  The derivative of the argument of each function
 is taken by sympy, so the check uses only the final x(t), A and f.
 """

@@ -805,7 +805,7 @@ def _similarity_check(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]
     try:
         fn = sp.lambdify((), [list(M) for M in mats], modules="numpy")
         Pn, Jn, Qn, An = (np.array(v, dtype=complex).reshape(n, n) for v in fn())
-        bound = 1e-10 * max(1.0, np.abs(Pn).max() * np.abs(Jn).max() * np.abs(Qn).max() * n * n)
+        bound = 1e-12 * max(1.0, np.abs(Pn).max() * np.abs(Jn).max() * np.abs(Qn).max() * n * n)
         gap = float(np.abs(Pn @ Jn @ Qn - An).max())
         if gap <= bound:
             return A, True
