@@ -93,6 +93,7 @@ class _Ring:
         # parameters in a denominator need the fraction field instead
         extra = sorted(others, key=sp.default_sort_key) if symbols_as_gens else []
         self.gens = (t, *self.hold.values(), *alg.values(), *extra)
+        self._relation_polys: list[tuple[sp.Dummy, sp.Poly]] | None = None
 
     def _alg_expr(self, e: sp.Expr) -> sp.Expr:
         # a^(p/q) as (a^(1/q))^p, so every algebraic number is a power of a generator
@@ -108,11 +109,8 @@ class _Ring:
         return e.xreplace(rest) if rest else e
 
     def poly(self, e: sp.Expr) -> sp.Poly:
-        e = self._alg_expr(sp.sympify(e, strict=True).xreplace(self.hold))
-        try:
-            p = sp.Poly(e, *self.gens)
-        except (PolynomialError, sp.CoercionFailed, ValueError, TypeError) as exc:
-            raise _NotInRing(str(exc)) from None
+        """An expression of the caller's (functions not yet held) as an element of the ring."""
+        p = self.poly_held(sp.sympify(e, strict=True).xreplace(self.hold))
         if p.domain.is_EX or p.domain.is_EXRAW:
             raise _NotInRing("coefficients outside a polynomial domain")
         if any(c.has(self.t) for c in p.coeffs()):
@@ -135,6 +133,7 @@ class _Ring:
         return out
 
     def poly_held(self, e: sp.Expr) -> sp.Poly:
+        """An expression whose functions are already generators, as a polynomial."""
         e = self._alg_expr(e)
         try:
             p = sp.Poly(e, *self.gens)
@@ -150,9 +149,11 @@ class _Ring:
         return self.hold[partner]
 
     def reduce(self, p: sp.Poly) -> sp.Poly:
-        for g, rel in self.relations:
+        if self._relation_polys is None:  # once per ring, on first use
+            self._relation_polys = [(g, self.poly_held(rel)) for g, rel in self.relations]
+        for g, rel in self._relation_polys:
             try:
-                p = _reduce_by(p, g, self.poly_held(self._alg_expr(rel)))
+                p = _reduce_by(p, g, rel)
             except (PolynomialError, sp.CoercionFailed, ValueError, TypeError, ZeroDivisionError) as exc:
                 raise _NotInRing(str(exc)) from None
         return p

@@ -119,7 +119,8 @@ class _Field:
         return x
 
     def from_expr(self, x: sp.Expr):
-        return self.dom.from_sympy(sp.sympify(x, strict=True))
+        # x is an entry of a sympy matrix built here, never text
+        return self.dom.from_sympy(x)
 
 
 def _coefficient_domain(entries: Sequence[sp.Expr]):
@@ -136,7 +137,8 @@ def _coefficient_domain(entries: Sequence[sp.Expr]):
 
 
 def _dm(M: sp.Matrix, dom) -> DomainMatrix:
-    rows = [[dom.from_sympy(sp.sympify(e, strict=True)) for e in M.row(i)] for i in range(M.rows)]
+    # entries of a sympy Matrix are sympy objects already: nothing to convert
+    rows = [[dom.from_sympy(e) for e in M.row(i)] for i in range(M.rows)]
     return DomainMatrix(rows, M.shape, dom)
 
 
@@ -213,8 +215,7 @@ def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
         # rational coefficients: factor the integer polynomial directly, no expression round trip
         den, prim = sp.Poly(list(coeffs), lam, domain=dom).clear_denoms(convert=True)
         lc, fl = prim.factor_list()
-        den, fl = dom.to_sympy(den) if not isinstance(den, sp.Basic) else den, [(f.as_expr(), m) for f, m in fl]
-        return expanded, *_collect_factors(n, lam, sp.Integer(lc) / den, fl)
+        return expanded, *_collect_factors(n, lam, sp.Integer(lc) / den, [(f.as_expr(), m) for f, m in fl])
     num, den = sp.fraction(sp.together(mono))
     gens = [lam] + sorted((num.free_symbols | den.free_symbols) - {lam}, key=sp.default_sort_key)
     if dom.is_Algebraic:
@@ -715,8 +716,7 @@ def decompose(
             "normalised so that W V = I; computed once per irreducible factor of the "
             "characteristic polynomial, in terms of a generic root"
         )
-        product, sim_ok = _similarity_check(A, P, J, P_inv, values)
-        sim_ok = sim_ok and field_ok
+        product, sim_ok = A, field_ok and _similarity_check(A, P, J, P_inv, values)
     steps.append(InverseStep(P=P, det=det, P_inv=P_inv, method=method))
     steps.append(SimilarityStep(P=P, D=J, P_inv=P_inv, product=product, A=A, ok=sim_ok))
     if not sim_ok:
@@ -761,11 +761,9 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
 
     Only invertibility is at stake here; P^-1 itself is exact either way.
     """
-    n = P.rows
-    got = small_field(list(P))
-    if got is not None:
-        K, elems = got
-        return K.to_sympy(DomainMatrix([elems[r * n : r * n + n] for r in range(n)], (n, n), K).det())
+    exact = small_field(P)
+    if exact is not None:
+        return exact[0].domain.to_sympy(exact[0].det())
     if P.rows <= 4 and not P.has(sp.CRootOf):
         try:
             return sp.radsimp(sp.expand(P.det(method="berkowitz")))
@@ -783,8 +781,8 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
     return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
 
 
-def _similarity_check(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]:
-    """P J P^-1 against A: exactly over Q(i) or a quadratic field, else numerically.
+def _similarity_check(A, P, J, P_inv, values) -> bool:
+    """P J P^-1 = A: exactly in a small field (``small_field``), else numerically.
 
     The exact check in F has already run; this one covers putting the actual
     roots into the generic-root expressions.  Numerically, double precision
@@ -793,41 +791,40 @@ def _similarity_check(A, P, J, P_inv, values) -> tuple[sp.ImmutableMatrix, bool]
     """
     import numpy as np
 
-    n = A.rows
-    exact = _exact_similarity(A, P, J, P_inv)
+    exact = small_field(P, J, P_inv, A)
     if exact is not None:
-        return A, exact
-    subs = dict(values)
-    mats = [_with_root_values(M).xreplace(subs) for M in (P, J, P_inv, A)]
+        Pd, Jd, Qd, Ad = exact
+        return (Pd * Jd * Qd - Ad).is_zero_matrix
+    n = A.rows
+    mats = [_with_root_values(M).xreplace(dict(values)) for M in (P, J, P_inv, A)]
     if any(M.free_symbols for M in mats):
         # free parameters without values: the exact check in F stands alone
-        return A, True
+        return True
     try:
         fn = sp.lambdify((), [list(M) for M in mats], modules="numpy")
         Pn, Jn, Qn, An = (np.array(v, dtype=complex).reshape(n, n) for v in fn())
         bound = 1e-12 * max(1.0, np.abs(Pn).max() * np.abs(Jn).max() * np.abs(Qn).max() * n * n)
-        gap = float(np.abs(Pn @ Jn @ Qn - An).max())
-        if gap <= bound:
-            return A, True
+        if float(np.abs(Pn @ Jn @ Qn - An).max()) <= bound:
+            return True
     except (TypeError, ValueError, ZeroDivisionError, OverflowError):
         pass
     try:
         Pn, Jn, Qn, An = (M.evalf(40) for M in mats)
-        prod = Pn * Jn * Qn
-        gap = max(abs(complex(x - y)) for x, y in zip(prod, An))
+        gap = max(abs(complex(x - y)) for x, y in zip(Pn * Jn * Qn, An))
         scale = max(1.0, max(abs(complex(y)) for y in An))
-        ok = gap <= 1e-25 * scale
     except (TypeError, ValueError):
-        return A, True
-    return A, ok
+        return True
+    return gap <= 1e-25 * scale
 
 
-def small_field(entries: Sequence[sp.Expr]):
-    """(K, elements) when the numbers lie in Q(i) or Q(one or two square roots); else None.
+def small_field(*matrices: sp.MatrixBase) -> list[DomainMatrix] | None:
+    """The matrices over one exact field when their numbers lie in Q, Q(i) or Q(one or
+    two square roots); None otherwise.
 
     Such fields cost a millisecond or so to build; indexed roots and towers of
     radicals make the primitive element of the field expensive.
     """
+    entries = [e for M in matrices for e in M]
     if any(e.free_symbols or e.has(sp.CRootOf) for e in entries):
         return None
     radicals = set()
@@ -836,24 +833,17 @@ def small_field(entries: Sequence[sp.Expr]):
     if len(radicals) > 2 or any(p.exp.q != 2 or not p.base.is_Rational for p in radicals):
         return None
     try:
-        K, elems = construct_domain(list(entries), extension=True)
+        K, elems = construct_domain(entries, field=True, extension=True)
     except Exception:  # pragma: no cover - sympy internals
         return None
     if K.is_EX or K.is_EXRAW:
         return None
-    return K, elems
-
-
-def _exact_similarity(A, P, J, P_inv) -> bool | None:
-    """P J P^-1 = A exactly in a small field (see ``small_field``); None elsewhere."""
-    n = A.rows
-    k = n * n
-    got = small_field([e for M in (P, J, P_inv, A) for e in M])
-    if got is None:
-        return None
-    K, elems = got
-    M = [DomainMatrix([elems[i * k + r * n : i * k + r * n + n] for r in range(n)], (n, n), K) for i in range(4)]
-    return (M[0] * M[1] * M[2] - M[3]).is_zero_matrix
+    out, pos = [], 0
+    for M in matrices:
+        r, c = M.shape
+        out.append(DomainMatrix([elems[pos + i * c : pos + i * c + c] for i in range(r)], (r, c), K))
+        pos += r * c
+    return out
 
 
 def _conditions(A, factors, P, P_inv, lam) -> tuple[Condition, ...]:

@@ -19,7 +19,6 @@ from __future__ import annotations
 from typing import Mapping, Sequence
 
 import sympy as sp
-from sympy.polys.matrices import DomainMatrix
 
 from .exact import decide_zero
 from .expoly import NotExpPoly, norm_coeff, split_complex, to_expoly
@@ -72,14 +71,10 @@ def _is_real(system: System, f: sp.MatrixBase) -> bool:
 def _solve(M: sp.Matrix, b: sp.Matrix) -> sp.Matrix:
     """M y = b exactly: by DomainMatrix in a small exact field of the numbers where
     there is one (Q, Q(i), a quadratic field), else by sympy's LU."""
-    got = small_field(list(M) + list(b))
-    if got is None:
+    exact = small_field(M, b)
+    if exact is None:
         return M.LUsolve(b)
-    K, elems = got
-    n = M.rows
-    Md = DomainMatrix([elems[i * n : i * n + n] for i in range(n)], (n, n), K).to_field()
-    bd = DomainMatrix([[e] for e in elems[n * n :]], (n, 1), K).to_field()
-    return Md.lu_solve(bd).to_Matrix()
+    return exact[0].lu_solve(exact[1]).to_Matrix()
 
 
 def _clean(e: sp.Expr) -> sp.Expr:
