@@ -801,8 +801,13 @@ def _similarity_check(A, P, J, P_inv, values) -> bool:
         # free parameters without values: the exact check in F stands alone
         return True
     try:
-        fn = sp.lambdify((), [list(M) for M in mats], modules="numpy")
-        Pn, Jn, Qn, An = (np.array(v, dtype=complex).reshape(n, n) for v in fn())
+        import mpmath
+
+        # mpmath at double precision: roots of negative numbers are complex, not nan
+        fn = sp.lambdify((), [list(M) for M in mats], modules="mpmath")
+        with mpmath.workdps(16):
+            vals = fn()
+        Pn, Jn, Qn, An = (np.array([complex(x) for x in v], dtype=complex).reshape(n, n) for v in vals)
         bound = 1e-12 * max(1.0, np.abs(Pn).max() * np.abs(Jn).max() * np.abs(Qn).max() * n * n)
         if float(np.abs(Pn @ Jn @ Qn - An).max()) <= bound:
             return True
