@@ -59,6 +59,7 @@ from . import __version__
 from .errors import DeriveError, InputError, OutputError, TimeLimitError, VerificationError
 from .limits import DEFAULT_TIMEOUT, time_limit
 from .model import Case, Solution
+from .output import atomic_write_bytes
 
 __all__ = [
     "STATUSES",
@@ -1052,7 +1053,7 @@ def batch(
             for rel, data in files:
                 target = folder / rel
                 target.parent.mkdir(parents=True, exist_ok=True)
-                _write_text_bytes(target, data)
+                atomic_write_bytes(target, data)
         results[index] = result
         if folder is not None:
             if result.ok and key:
@@ -1114,9 +1115,3 @@ def batch(
     return BatchReport(results=tuple(finished()), out_dir=folder, index_error=index_error)
 
 
-def _write_text_bytes(path: Path, data: bytes) -> None:
-    # output.py offers only a text writer publicly; sheets that come back from a
-    # cluster may be PDFs, so the byte writer behind it is used.
-    from .output import _atomic_write
-
-    _atomic_write(path, data)

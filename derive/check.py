@@ -42,6 +42,7 @@ import mpmath
 import sympy as sp
 
 from .errors import EXIT_OK, EXIT_VERIFICATION, InputError, OutputError, TimeLimitError
+from .exact import root_value
 
 __all__ = [
     "STEP_ORDER",
@@ -292,8 +293,11 @@ def _mp_value(expr: sp.Expr, point: Mapping[sp.Symbol, sp.Expr]) -> Any:
             value = mpmath.mpf(0) if arg == 0 else arg / abs(arg)
         elif type(node) in _MP_FUNCTIONS:
             value = _MP_FUNCTIONS[type(node)](*[ev(a) for a in node.args])
+        elif isinstance(node, sp.CRootOf):
+            # the cached Newton refinement: evalf on a complex indexed root takes seconds
+            value = mpmath.mpmathify(root_value(node, mpmath.mp.dps + 5))
         elif node.is_number:
-            # CRootOf and other exact constants: sympy knows their value best.
+            # other exact constants: sympy knows their value best.
             value = mpmath.mpmathify(sp.N(node, mpmath.mp.dps))
         else:
             raise _Singular

@@ -59,7 +59,8 @@ from .recombine import recombine
 from .scalar import decouple, solve_blocks
 from .spectral import Decomposition
 from .steady import steady_state_steps
-from .verify import combined_method, time_span
+from .ringcheck import residual_is_zero
+from .verify import ATOL, GAP_LIMIT, RTOL, _Skip, combined_method, sample_constants, time_span
 from .steps import (
     ConvolutionStep,
     DecoupleStep,
@@ -187,16 +188,21 @@ def is_switched(f: Sequence[sp.Expr], t: sp.Symbol) -> bool:
 def _decided_sign(d: sp.Expr) -> int | None:
     """-1, 0 or 1 when sympy can decide the sign of ``d`` (assumptions included), else None."""
     d = sp.sympify(d, strict=True)
-    if d.is_zero or (not d.free_symbols and d.is_number and sp.simplify(d) == 0):
-        return 0
-    for cand in (d, sp.simplify(d)):
-        if cand.is_positive:
-            return 1
-        if cand.is_negative:
-            return -1
-        if cand.is_zero:
+    if d.is_Rational:
+        return (d.p > 0) - (d.p < 0)
+
+    def sign_of(e: sp.Expr) -> int | None:
+        if e.is_zero:
             return 0
-    return None
+        if e.is_positive:
+            return 1
+        if e.is_negative:
+            return -1
+        return None
+
+    # the assumptions first; simplify once, only when they cannot tell
+    got = sign_of(d)
+    return got if got is not None else sign_of(sp.simplify(d))
 
 
 def _root(arg: sp.Expr, t: sp.Symbol, what: str) -> sp.Expr:
@@ -727,11 +733,6 @@ class PieceRecord:
     jump: Matrix
 
 
-RTOL = 1e-11
-ATOL = 1e-13
-GAP_LIMIT = 1e-6
-
-
 def _drop_empty_integrals(e: sp.Expr) -> sp.Expr:
     return e.replace(
         lambda a: isinstance(a, sp.Integral) and all(sp.expand(lo - hi) == 0 for _, lo, hi in a.limits),
@@ -756,10 +757,6 @@ def _zero(e: sp.Expr) -> tuple[bool, str]:
         return False, "undecided: unevaluated integrals or unspecified functions remain"
     v = decide_zero(e)
     return v.zero, v.method
-
-
-class _Skip(Exception):
-    pass
 
 
 def _evaluator(X: Sequence[sp.Expr], t: sp.Symbol):
@@ -807,9 +804,7 @@ def _numeric_pieces(
 
     t = system.t
     subs: dict[sp.Symbol, sp.Expr] = dict(system.parameter_values())
-    samples = [sp.Rational(1), sp.Rational(-1, 2), sp.Rational(3, 4), sp.Rational(-2, 3), sp.Rational(1, 3)]
-    for i, c in enumerate(constants):
-        subs[c] = samples[i % len(samples)] * (1 + sp.Rational(i, 7))
+    subs.update(sample_constants(constants))
     for p in pieces:
         for obj in (p.f, p.x, p.jump):
             if any(e.atoms(AppliedUndef) for e in obj):
@@ -895,6 +890,12 @@ def verify_pieces(
     reduced: list[list[sp.Expr]] = [[] for _ in range(system.n)]
     notes: list[str] = []
     for k, p in enumerate(pieces):
+        if residual_is_zero(list(p.x), A, list(p.f), t):
+            # settled exactly in the polynomial ring (derive.ringcheck)
+            methods.append("exact")
+            for i in range(system.n):
+                reduced[i].append(_ZERO)
+            continue
         r = sp.Matrix(p.x).diff(t) - A * sp.Matrix(p.x) - sp.Matrix(p.f)
         for i, e in enumerate(r):
             ok, how = _zero(e)

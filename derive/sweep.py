@@ -53,10 +53,6 @@ class SweepValue:
     label: str
     key: str
 
-    @property
-    def is_number(self) -> bool:
-        return not self.value.free_symbols
-
 
 def _label(raw: object) -> str:
     text = raw if isinstance(raw, str) else repr(raw)

@@ -109,7 +109,13 @@ def verify(
 
 
 class _Skip(Exception):
-    pass
+    """A numeric check that cannot run; the reason becomes a note on the sheet."""
+
+
+def sample_constants(constants: Sequence[sp.Symbol]) -> dict[sp.Symbol, sp.Expr]:
+    """Fixed exact values for the free constants of a general solution in a numeric check."""
+    samples = [sp.Rational(1), sp.Rational(-1, 2), sp.Rational(3, 4), sp.Rational(-2, 3), sp.Rational(1, 3)]
+    return {c: samples[i % len(samples)] * (1 + sp.Rational(i, 7)) for i, c in enumerate(constants)}
 
 
 def time_span(eigenvalues: Sequence[sp.Expr], subs: dict, decimals: Sequence[complex | None] = ()) -> float:
@@ -164,9 +170,7 @@ def numeric_check(
     missing = [s for s in free if s not in subs]
     if missing:
         raise _Skip("parameters without numeric values: " + ", ".join(sorted(s.name for s in missing)))
-    samples = [sp.Rational(1), sp.Rational(-1, 2), sp.Rational(3, 4), sp.Rational(-2, 3), sp.Rational(1, 3)]
-    for i, c in enumerate(constants):
-        subs[c] = samples[i % len(samples)] * (1 + sp.Rational(i, 7))
+    subs.update(sample_constants(constants))
     xs = sp.Matrix(x).xreplace(subs)
     xs = xs.xreplace({r: root_value(r) for r in xs.atoms(sp.CRootOf)})
     if xs.has(sp.zoo, sp.nan, sp.oo, -sp.oo):

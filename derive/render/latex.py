@@ -309,6 +309,23 @@ def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> di
     }
 
 
+#: (solution, style, body) of the last sheet rendered.  The body holds all the
+#: mathematics and does not depend on its wrapper, so the standalone sheet and
+#: the fragment written together print it once.  The solution itself is kept,
+#: so an identity match cannot be a different object at a reused address.
+_last_body: tuple[Solution, "MathStyle", str] | None = None
+
+
+def _shared_body(solution: Solution, style: "MathStyle", make: Callable[[], str]) -> str:
+    global _last_body
+    last = _last_body
+    if last is not None and last[0] is solution and last[1] == style:
+        return last[2]
+    body = make()
+    _last_body = (solution, style, body)
+    return body
+
+
 @dataclass(frozen=True)
 class LatexRenderer(Renderer):
     """The LaTeX calculation sheet (standalone document, or a fragment for \\input).
@@ -334,7 +351,9 @@ class LatexRenderer(Renderer):
             )
         try:
             template = env.get_template(name)
+            body_template = env.get_template("body.tex.j2")
         except jinja2.TemplateNotFound as exc:
             raise OutputError(f"LaTeX template {exc.name} is missing from the installed package") from exc
         context = sheet_context(solution, style=self.style, fragment=fragment)
+        context["body"] = _shared_body(solution, self.style, lambda: body_template.render(**context))
         return template.render(**context)

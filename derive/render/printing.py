@@ -698,12 +698,6 @@ class MathFormatter:
         """A displayed matrix, broken into columns or elements when too wide."""
         return "\\begin{align*}\n" + self.matrix_rows(name, M) + "\n\\end{align*}"
 
-    def vector_components(
-        self, names: Sequence[str], v: sp.MatrixBase
-    ) -> str:
-        """Each component ``name_i = v_i`` on its own row (long ones broken)."""
-        return self.display([(n, v[i]) for i, n in enumerate(names)])
-
     def plain_matrix(self, M: sp.MatrixBase, *, indent: int = 0) -> list[str]:
         """Rows of a matrix as aligned plain-text lines ``[ a  b ]``."""
         cells = [[self.plain(M[i, j]) for j in range(M.cols)] for i in range(M.rows)]
