@@ -55,7 +55,7 @@ from .errors import InputError, LimitError, UnsupportedError, VerificationError
 from .exact import decide_zero, is_zero_number
 from .expoly import NotExpPoly, _is_negative, to_expoly
 from .model import Case, Condition, NumericCheck, Solution, System, Verification
-from .recombine import recombine
+from .recombine import recombine, restore_roots
 from .scalar import decouple, solve_blocks
 from .spectral import Decomposition
 from .steady import steady_state_steps
@@ -990,14 +990,37 @@ def _finish(
     particular: Matrix,
     constants: tuple[sp.Symbol, ...],
     steps: list[Step],
-    ver: Verification,
+    records: Sequence[PieceRecord],
     conditions: Sequence[Condition],
     notices: Sequence[str],
     case: Case | None,
     check: bool,
 ) -> Solution:
+    """Verify the pieces and assemble the Solution.
+
+    A chosen regime ran the algebra with a positive placeholder for a square
+    root (``dec.aux``); the root itself goes back into everything first, so the
+    verification and the sheet see the real expressions.
+    """
     from .pipeline import _failure_summary
 
+    aux = dict(dec.aux)
+    if aux:
+        x, homogeneous, particular = (
+            Matrix([restore_roots(e, aux, constants, system.t) for e in m]) for m in (x, homogeneous, particular)
+        )
+        records = [replace(r, x=r.x.xreplace(aux), f=r.f.xreplace(aux), jump=r.jump.xreplace(aux)) for r in records]
+        steps = [_swap(st, aux) for st in steps]
+        conditions = _swap(tuple(conditions), aux)
+        dec = replace(
+            dec,
+            P=dec.P.xreplace(aux),
+            J=dec.J.xreplace(aux),
+            P_inv=dec.P_inv.xreplace(aux),
+            column_eigenvalues=_swap(tuple(dec.column_eigenvalues), aux),
+            conditions=_swap(tuple(dec.conditions), aux),
+        )
+    ver = verify_pieces(system, records, constants=constants, eigenvalues=dec.column_eigenvalues)
     sol = Solution(
         system=system,
         x=x,
@@ -1074,9 +1097,8 @@ def _solve_convolution(system: System, dec: Decomposition, *, steps: list[Step],
             "definite integrals, evaluated by quadrature in the numeric check"
         )
     record = PieceRecord(start=system.t0, end=None, f=system.f, x=piece.x, jump=Matrix([0] * system.n))
-    ver = verify_pieces(system, [record], constants=constants, eigenvalues=dec.column_eigenvalues)
     return _finish(
-        system, dec, x=piece.x, homogeneous=x_h, particular=x_p, constants=constants, steps=steps, ver=ver,
+        system, dec, x=piece.x, homogeneous=x_h, particular=x_p, constants=constants, steps=steps, records=[record],
         conditions=piece.conditions, notices=notices, case=case, check=check,
     )
 
@@ -1174,8 +1196,7 @@ def _solve_switched(system: System, dec: Decomposition, *, steps: list[Step], ca
                            since=records[-1].start if len(records) > 1 else None)
     )
     steps.append(ResultStep(t=t, states=system.states, x=x, homogeneous=free, particular=forced, constants=constants))
-    ver = verify_pieces(system, records, constants=constants, eigenvalues=dec.column_eigenvalues)
     return _finish(
-        system, dec, x=x, homogeneous=free, particular=forced, constants=constants, steps=steps, ver=ver,
+        system, dec, x=x, homogeneous=free, particular=forced, constants=constants, steps=steps, records=records,
         conditions=conditions, notices=notices, case=case, check=check,
     )

@@ -19,7 +19,7 @@ from .errors import InputError, VerificationError
 from .exact import is_zero_number
 from .expoly import NotExpPoly, to_expoly
 from .model import Case, Condition, Parameter, Solution, System
-from .recombine import conjugate_pairs, recombine, tidy
+from .recombine import conjugate_pairs, recombine, restore_roots
 from .relations import apply_relations, parse_relations, split_assumptions
 from .relations import regimes as regime_notes
 from .scalar import decouple, solve_blocks
@@ -237,7 +237,8 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
         # steps, impulses, piecewise and other inputs: per interval or in convolution form
         from .forcing import solve_general_forcing
 
-        return solve_general_forcing(system, dec, steps=steps, case=case, check=check)
+        sol = solve_general_forcing(system, dec, steps=steps, case=case, check=check)
+        return replace(sol, conditions=sol.conditions + _regime_conditions(regimes))
     g_ep = decouple(P_inv, f_ep)
     g_mat = sp.ImmutableMatrix([g.to_expr(t) for g in g_ep])
     steps.append(DecoupleStep(t=t, y=y_syms, D=J, P_inv=P_inv, f=system.f, g=g_mat))
@@ -293,27 +294,16 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
     aux = dict(dec.aux)
     x_res, hom_res, par_res = rec.x, rec.homogeneous, rec.particular
     if aux:
-        def back(m: sp.ImmutableMatrix, cs) -> sp.ImmutableMatrix:
-            # the square of a placeholder is its radicand: c^2 - 4km = -w^2 lets
-            # c w/(4km - c^2) cancel to c/w before w is replaced by the root
-            for w, root in aux.items():
-                radicand = sp.expand(root**2)
-                m = m.applyfunc(lambda e: e.subs(radicand, w**2).subs(-radicand, -(w**2)))
-            m = m.applyfunc(lambda e: tidy(e, cs, t))
-            return sp.ImmutableMatrix(m.xreplace(aux))
-
-        x_res = back(x_res, rec.constants)
-        hom_res = back(hom_res, rec.constants)
-        par_res = back(par_res, ())
+        x_res, hom_res, par_res = (
+            sp.ImmutableMatrix([restore_roots(e, aux, cs, t) for e in m])
+            for m, cs in ((x_res, rec.constants), (hom_res, rec.constants), (par_res, ()))
+        )
     # a regime (expr < 0) already implies expr != 0: state it once
     implied = {sp.expand(e) for e, _ in regimes} | {sp.expand(-e) for e, _ in regimes}
     kept = tuple(
         c for c in dec.conditions + scal.conditions if not (c.relation == "!= 0" and sp.expand(c.expr) in implied)
     )
-    conditions = kept + tuple(
-        Condition(expr=e, relation="< 0" if sign < 0 else "> 0", reason="the regime solved here")
-        for e, sign in regimes
-    )
+    conditions = kept + _regime_conditions(regimes)
     steps.extend(steady_state_steps(system, dec.column_eigenvalues, x_res))
     steps.append(
         ResultStep(
@@ -366,6 +356,13 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
         err.solution = sol  # type: ignore[attr-defined]
         raise err
     return sol
+
+
+def _regime_conditions(regimes) -> tuple[Condition, ...]:
+    """The chosen regimes (expr, sign) as stated conditions."""
+    return tuple(
+        Condition(expr=e, relation="< 0" if sign < 0 else "> 0", reason="the regime solved here") for e, sign in regimes
+    )
 
 
 def _failure_summary(ver) -> str:

@@ -17,7 +17,7 @@ from .expoly import ExpPoly, conjugate, split_complex
 from .spectral import EigenBlock
 from .steps import InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
-__all__ = ["Recombined", "recombine", "conjugate_pairs"]
+__all__ = ["Recombined", "recombine", "conjugate_pairs", "restore_roots", "tidy"]
 
 
 @dataclass(frozen=True)
@@ -295,6 +295,24 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
         out.append(sp.Mul(*cs) * sp.Add(*inner))
     # a placeholder can also sit inside a coefficient (an exponential in a denominator)
     return sp.Add(*out).xreplace(back)
+
+
+def restore_roots(e: sp.Expr, aux: dict, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
+    """Put the square roots of a chosen regime back for their positive placeholders.
+
+    The square of a placeholder is its radicand: c^2 - 4km = -w^2 lets
+    c w/(4km - c^2) cancel to c/w before w is replaced by the root.  A
+    Piecewise result (switched input) is restored piece by piece.
+    """
+    if isinstance(e, sp.Piecewise):
+        return sp.Piecewise(*[(restore_roots(v, aux, constants, t), cond.xreplace(aux)) for v, cond in e.args])
+    for w, root in aux.items():
+        radicand = sp.expand(root**2)
+        e = e.subs(radicand, w**2).subs(-radicand, -(w**2))
+    e = tidy(e, constants, t).xreplace(aux)
+    # an interval's constants can leave w^2 in an expanded denominator: grouped
+    # again with the root in place, (4km - c^2)/(k (c^2 - 4km)) cancels to -1/k
+    return tidy(e, constants, t)
 
 
 def _factor_by_trig(coeff: sp.Expr) -> sp.Expr:

@@ -255,6 +255,25 @@ def test_underdamped_regime_gives_sines_and_states_the_regime():
     assert over.verification.ok
 
 
+def test_regime_with_a_switched_input_puts_the_root_back():
+    # a step input goes the interval-by-interval route; the placeholder for the
+    # square root of the discriminant must not reach the result there either
+    k, c = sp.symbols("k c", positive=True)
+    A = sp.Matrix([[0, 1], [-k, -c]])  # unit mass
+    sol = derive.solve(A, [0, sp.Heaviside(t - 1)], x0=[0, 0], assume=["c^2 < 4*k"])
+    assert sol.verification.ok
+    assert sol.x.free_symbols <= {t, k, c}
+    assert all(e.free_symbols <= {k, c} for e in sol.eigenvalues)
+    assert any(cd.relation == "< 0" and sp.expand(cd.expr - (c**2 - 4 * k)) == 0 for cd in sol.conditions)
+    # after the step, the unit step response of x'' + c x' + k x = u(t - 1) from rest
+    # (common practice): 1/k - e^{-c s/2} (cos w s + c/(2w) sin w s)/k, s = t - 1
+    w = sp.sqrt(4 * k - c**2) / 2
+    s_ = t - 1
+    step = (1 - sp.exp(-c * s_ / 2) * (sp.cos(w * s_) + c / (2 * w) * sp.sin(w * s_))) / k
+    after = sol.x[0].args[-1][0]
+    assert sp.simplify(sp.expand_trig(after - step)) == 0
+
+
 @pytest.mark.parametrize(
     "A",
     [
