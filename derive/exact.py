@@ -121,7 +121,8 @@ def is_zero_number(expr: sp.Expr) -> bool:
         return bool(sp.cancel(e) == 0)
     if e.is_Rational or e.is_zero is False:
         return False
-    val = sp.N(e, DIGITS)
+    roots = e.atoms(sp.CRootOf)
+    val = sp.N(e.xreplace({r: root_value(r) for r in roots}) if roots else e, DIGITS)
     if abs(complex(val)) > 1e-30:
         return False
     # numerically tiny: settle it exactly

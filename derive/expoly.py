@@ -70,6 +70,17 @@ class ExpPoly:
             d[key] = d.get(key, sp.Integer(0)) + c
         return ExpPoly.from_dict(d)
 
+    @staticmethod
+    def combination(pairs: Iterable[tuple[sp.Expr, "ExpPoly"]]) -> "ExpPoly":
+        """sum c_j p_j, each coefficient normalised once at the end rather than at every addition."""
+        d: dict[tuple[int, sp.Expr], sp.Expr] = {}
+        for c, p in pairs:
+            if c == 0:
+                continue
+            for key, v in p.terms:
+                d[key] = d.get(key, sp.Integer(0)) + c * v
+        return ExpPoly.from_dict(d)
+
     def scale(self, c: sp.Expr) -> "ExpPoly":
         if c == 0:
             return ExpPoly()

@@ -20,6 +20,8 @@ __all__ = ["DEFAULT_TIMEOUT", "time_limit"]
 
 #: Seconds allowed for one case unless --timeout says otherwise.
 DEFAULT_TIMEOUT = 120.0
+#: Seconds between repeats of an expired alarm.
+REPEAT = 0.05
 
 
 @contextlib.contextmanager
@@ -33,7 +35,11 @@ def time_limit(seconds: float | None, *, what: str = "the case") -> Iterator[Non
         yield
         return
 
+    done = False
+
     def _alarm(signum, frame):  # noqa: ARG001 - signal handler signature
+        if done:  # the block is already leaving
+            return
         raise TimeLimitError(
             f"{what} did not finish within the time limit of {seconds:g} s; "
             "raise it with --timeout, or simplify the case (fewer symbolic parameters, "
@@ -47,12 +53,15 @@ def time_limit(seconds: float | None, *, what: str = "the case") -> Iterator[Non
         return
     started = time.monotonic()
     previous = signal.signal(signal.SIGALRM, _alarm)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
+    # the alarm repeats every REPEAT s: a TimeLimitError swallowed by a broad
+    # except (in sympy, say) is raised again instead of letting the case run on
+    signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
     try:
         yield
     finally:
+        done = True
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, previous)
         if outer_left:
             remaining = outer_left - (time.monotonic() - started)
-            signal.setitimer(signal.ITIMER_REAL, max(remaining, 1e-3))
+            signal.setitimer(signal.ITIMER_REAL, max(remaining, 1e-3), REPEAT)

@@ -11,6 +11,7 @@ concatenated here, in derivation order.
 from __future__ import annotations
 
 from dataclasses import replace
+from fractions import Fraction
 from typing import Any, Iterable, Mapping, Sequence
 
 import sympy as sp
@@ -54,13 +55,8 @@ def _exact(value: Any, *, symbols: Mapping[str, sp.Symbol], key: str, notices: l
         expr, notes = parse_expression(value, symbols=symbols, key=key)
         notices.extend(notes)
         return expr
-    try:
-        from fractions import Fraction
-
-        if isinstance(value, Fraction):
-            return sp.Rational(value.numerator, value.denominator)
-    except ImportError:  # pragma: no cover
-        pass
+    if isinstance(value, Fraction):
+        return sp.Rational(value.numerator, value.denominator)
     raise InputError(f"expected a number or an expression, found {type(value).__name__}", key=key)
 
 
@@ -121,7 +117,7 @@ def build_system(
     if f is None:
         fm = sp.ImmutableMatrix(sp.zeros(n, 1))
     else:
-        fl = list(f) if not isinstance(f, sp.MatrixBase) else list(f)
+        fl = list(f)
         if len(fl) != n:
             raise InputError(f"A is {n}x{n} but f has {len(fl)} entries", key="f")
         fm = sp.ImmutableMatrix([_exact(v, symbols=names, key=f"f[{i}]", notices=notices) for i, v in enumerate(fl)])

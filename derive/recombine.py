@@ -122,13 +122,7 @@ def recombine(
     n = P.rows
     ivp = x0 is not None
     shift = t0 if ivp else sp.Integer(0)
-    x_ep = []
-    for i in range(n):
-        acc = ExpPoly()
-        for j in range(n):
-            if P[i, j] != 0:
-                acc = acc + y[j].scale(P[i, j])
-        x_ep.append(acc)
+    x_ep = [ExpPoly.combination((P[i, j], y[j]) for j in range(n)) for i in range(n)]
     phis = [[x_ep[i].coeff_of(c) for i in range(n)] for c in constants]
     xp = [x_ep[i].drop(constants) for i in range(n)]
     terms = []
@@ -139,14 +133,15 @@ def recombine(
         else:
             terms.append((c * fs[0], fs[1]))
     hom_c = sp.ImmutableMatrix([sum((c * p.to_expr(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)])
+    xp_mat = _mat(xp, t, shift)
     steps: list[Step] = [
         RecombineStep(
             P=P,
             y=sp.ImmutableMatrix([yy.to_expr(t, t0=shift) for yy in y]),
             homogeneous_terms=tuple(terms),
             homogeneous=hom_c,
-            particular=_mat(xp, t, shift),
-            x=sp.ImmutableMatrix([a + b for a, b in zip(hom_c, _mat(xp, t, shift))]),
+            particular=xp_mat,
+            x=sp.ImmutableMatrix([a + b for a, b in zip(hom_c, xp_mat)]),
         )
     ]
     layout = _column_layout(blocks)
@@ -177,7 +172,7 @@ def recombine(
 
     cs = () if ivp else tuple(constants)  # the free constants of the result
     real_pairs: list[RealFormPair] = []
-    hom_vec: list[ExpPoly] = [ExpPoly() for _ in range(n)]
+    hom_terms: list[list[tuple[sp.Expr, ExpPoly]]] = [[] for _ in range(n)]  # an IVP's c_j phi_j, summed once
     hom_real_expr = [sp.Integer(0)] * n
     if do_real and pairs:
         paired_cols: dict[int, tuple[int, int]] = {}
@@ -192,7 +187,7 @@ def recombine(
                 cc = values.get(c, c)
                 for i in range(n):
                     hom_real_expr[i] += cc * phi[i].real_form(t, t0=shift) if not ivp else 0
-                    hom_vec[i] = hom_vec[i] + phi[i].scale(cc)
+                    hom_terms[i].append((cc, phi[i]))
                 continue
             ci, cj = paired_cols[idx]
             if idx != ci:
@@ -222,12 +217,12 @@ def recombine(
             )
             if ivp:
                 for i in range(n):
-                    hom_vec[i] = hom_vec[i] + phi[i].scale(values[a_sym]) + phis[cj][i].scale(values[b_sym])
+                    hom_terms[i] += [(values[a_sym], phi[i]), (values[b_sym], phis[cj][i])]
             else:
                 for i in range(n):
                     hom_real_expr[i] += a_sym * re_part[i].real_form(t, t0=shift) + b_sym * im_part[i].real_form(t, t0=shift)
         if ivp:
-            homogeneous = _real(hom_vec, t, shift)
+            homogeneous = _real([ExpPoly.combination(terms) for terms in hom_terms], t, shift)
         else:
             homogeneous = sp.ImmutableMatrix(hom_real_expr)
         particular = _real(xp, t, shift)
@@ -236,16 +231,13 @@ def recombine(
         steps.append(RealFormStep(t=t, pairs=tuple(real_pairs), homogeneous=homogeneous, particular=particular))
     else:
         if ivp:
-            hv = [ExpPoly() for _ in range(n)]
-            for c, phi in zip(constants, phis):
-                for i in range(n):
-                    hv[i] = hv[i] + phi[i].scale(values[c])
+            hv = [ExpPoly.combination((values[c], phi[i]) for c, phi in zip(constants, phis)) for i in range(n)]
             homogeneous = _real(hv, t, shift) if do_real else _mat(hv, t, shift)
         else:
             homogeneous = hom_c if not do_real else sp.ImmutableMatrix(
                 [sum((c * p.real_form(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)]
             )
-        particular = _real(xp, t, shift) if do_real else _mat(xp, t, shift)
+        particular = _real(xp, t, shift) if do_real else xp_mat
         homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
         particular = particular.applyfunc(lambda e: tidy(e, (), t))
     x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])

@@ -29,14 +29,7 @@ __all__ = ["ScalarResult", "solve_blocks", "decouple"]
 def decouple(P_inv: sp.MatrixBase, f: Sequence[ExpPoly]) -> list[ExpPoly]:
     """g = P^-1 f, row by row, for forcing given as exponential polynomials."""
     n = len(f)
-    g = []
-    for i in range(n):
-        acc = ExpPoly()
-        for j in range(n):
-            if P_inv[i, j] != 0 and not f[j].is_zero:
-                acc = acc + f[j].scale(P_inv[i, j])
-        g.append(acc)
-    return g
+    return [ExpPoly.combination((P_inv[i, j], f[j]) for j in range(n)) for i in range(n)]
 
 
 @dataclass(frozen=True)

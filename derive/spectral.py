@@ -438,10 +438,10 @@ def _numeric(value: sp.Expr, subs: dict) -> complex | None:
     return v
 
 
-def _decimal(value: sp.Expr, subs: dict) -> str:
+def _decimal(value: sp.Expr, v: complex | None) -> str:
+    """The eigenvalue's decimal for the sheet, from its value ``v`` (``_numeric``)."""
     if value.is_Rational:
         return str(value) if value.q == 1 else f"{float(value):.6g}"
-    v = _numeric(value, subs)
     if v is None:
         return ""
     if abs(v.imag) < 1e-14 * max(1.0, abs(v.real)):
@@ -603,7 +603,7 @@ def decompose(
                     factor=fexpr,
                     form=form,
                     rule=rule,
-                    decimal=_decimal(root, values),
+                    decimal=_decimal(root, num),
                     kind=_kind(root),
                     numeric=num,
                 )
@@ -710,13 +710,14 @@ def decompose(
         product = sp.ImmutableMatrix((P * J * P_inv).applyfunc(sp.cancel))
         sim_ok = field_ok and product == A.applyfunc(sp.cancel)
     else:
-        det = _det_display(P)
+        exact = small_field(P, J, P_inv, A)  # one field for det P and the similarity check
+        det = _det_display(P, exact)
         method = (
             "rows of P^-1 are the left eigenvectors (left Jordan chains) of A, each block "
             "normalised so that W V = I; computed once per irreducible factor of the "
             "characteristic polynomial, in terms of a generic root"
         )
-        product, sim_ok = A, field_ok and _similarity_check(A, P, J, P_inv, values)
+        product, sim_ok = A, field_ok and _similarity_check(A, P, J, P_inv, values, exact)
     steps.append(InverseStep(P=P, det=det, P_inv=P_inv, method=method))
     steps.append(SimilarityStep(P=P, D=J, P_inv=P_inv, product=product, A=A, ok=sim_ok))
     if not sim_ok:
@@ -756,12 +757,12 @@ def _order_blocks(blocks: list[EigenBlock], keep: bool) -> list[EigenBlock]:
     return sorted(blocks, key=key)
 
 
-def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
-    """det P exactly where that is cheap (radicals, n <= 4), else its decimal.
+def _det_display(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -> sp.Expr:
+    """det P exactly where that is cheap (a small field, radicals with n <= 4), else its decimal.
 
-    Only invertibility is at stake here; P^-1 itself is exact either way.
+    ``exact`` is ``small_field(P, ...)`` or None.  Only invertibility is at
+    stake here; P^-1 itself is exact either way.
     """
-    exact = small_field(P)
     if exact is not None:
         return exact[0].domain.to_sympy(exact[0].det())
     if P.rows <= 4 and not P.has(sp.CRootOf):
@@ -781,7 +782,7 @@ def _det_display(P: sp.ImmutableMatrix) -> sp.Expr:
     return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
 
 
-def _similarity_check(A, P, J, P_inv, values) -> bool:
+def _similarity_check(A, P, J, P_inv, values, exact: list[DomainMatrix] | None) -> bool:
     """P J P^-1 = A: exactly in a small field (``small_field``), else numerically.
 
     The exact check in F has already run; this one covers putting the actual
@@ -791,7 +792,6 @@ def _similarity_check(A, P, J, P_inv, values) -> bool:
     """
     import numpy as np
 
-    exact = small_field(P, J, P_inv, A)
     if exact is not None:
         Pd, Jd, Qd, Ad = exact
         return (Pd * Jd * Qd - Ad).is_zero_matrix

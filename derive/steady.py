@@ -164,7 +164,7 @@ def steady_state_steps(
     ok = residual_is_zero(list(x_ss), A, list(f), t) or all(
         decide_zero(x_ss[i].diff(t) - (A.row(i) * x_ss)[0] - f[i]).zero for i in range(n)
     )
-    transient = sp.ImmutableMatrix([tidy(sp.expand(a - b), (), t) for a, b in zip(x, x_ss)])
+    transient = sp.ImmutableMatrix([tidy(a - b, (), t) for a, b in zip(x, x_ss)])
     return (
         SteadyStateStep(
             t=t,

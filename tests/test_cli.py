@@ -115,6 +115,24 @@ def test_time_limit_exits_three(tmp_path: Path) -> None:
     assert not (tmp_path / "o").exists() or list((tmp_path / "o").iterdir()) == []
 
 
+def test_a_swallowed_time_limit_fires_again() -> None:
+    # a broad "except Exception" (sympy has some) must not turn the limit off
+    from derive.errors import TimeLimitError
+    from derive.limits import time_limit
+
+    swallowed = 0
+    with pytest.raises(TimeLimitError):
+        with time_limit(0.05):
+            try:
+                while True:
+                    pass
+            except Exception:  # noqa: BLE001 - the point of the test
+                swallowed += 1
+            while True:  # the work goes on after the swallowed error
+                pass
+    assert swallowed == 1
+
+
 def test_help_documents_exit_codes() -> None:
     res = run(["solve", "--help"])
     assert "Exit codes" in res.output and "3 time limit" in res.output

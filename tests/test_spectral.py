@@ -283,13 +283,13 @@ def test_regime_with_a_switched_input_puts_the_root_back():
     ],
 )
 def test_similarity_check_catches_a_wrong_instantiation(A):
-    from derive.spectral import _similarity_check
+    from derive.spectral import _similarity_check, small_field
 
     dec = decompose(A)
-    assert _similarity_check(dec.A, dec.P, dec.J, dec.P_inv, {})
+    assert _similarity_check(dec.A, dec.P, dec.J, dec.P_inv, {}, small_field(dec.P, dec.J, dec.P_inv, dec.A))
     # the eigenvalues of D swapped against the columns of P: a slip the check must see
     n = A.rows
     perm = list(range(n))
     perm[0], perm[1] = perm[1], perm[0]
     J_bad = sp.diag(*[dec.J[p, p] for p in perm])
-    assert not _similarity_check(dec.A, dec.P, J_bad, dec.P_inv, {})
+    assert not _similarity_check(dec.A, dec.P, J_bad, dec.P_inv, {}, small_field(dec.P, J_bad, dec.P_inv, dec.A))
