@@ -503,7 +503,7 @@ def _local(st: _Setting, f: Sequence[sp.Expr], *, start: sp.Expr, x_start: Matri
         dec.jordan_blocks, g_ep, t=tau, constants=st.consts, y_symbols=st.y_syms, ivp=ivp, t0=_ZERO, is_zero=is_zero_number
     )
     rec = recombine(
-        dec.P, dec.P_inv, scal.y, blocks=dec.blocks, constants=st.consts, y_symbols=st.y_syms,
+        dec.P, dec.P_inv, scal.y, blocks=dec.blocks, constants=st.consts,
         t=tau, t0=_ZERO, x0=x_start, real=st.real,
     )
     mapping = dict(shift)

@@ -272,7 +272,6 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
         scal.y,
         blocks=dec.blocks,
         constants=constants,
-        y_symbols=y_syms,
         t=t,
         t0=system.t0,
         x0=system.x0,

@@ -112,7 +112,6 @@ def recombine(
     *,
     blocks: Sequence[EigenBlock],
     constants: Sequence[sp.Symbol],
-    y_symbols: Sequence[sp.Symbol],
     t: sp.Symbol,
     t0: sp.Expr,
     x0: sp.ImmutableMatrix | None,

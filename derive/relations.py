@@ -125,11 +125,10 @@ def parse_relations(
                 choice = (s, sp.factor(sp.solve(eq, s)[0]))
                 break
         if choice is None:
-            sols = [v for s in params for v in sp.solve(eq, s) if _consistent(s, v)]
+            sols = [(s, v) for s in params for v in sp.solve(eq, s) if _consistent(s, v)]
             if not sols:
                 raise InputError(f"the relation {item!r} cannot be solved for a parameter", key=where)
-            s = next(s for s in params if sp.solve(eq, s))
-            choice = (s, sp.solve(eq, s)[0])
+            choice = sols[0]
         out.append(choice)
     return tuple(out)
 
