@@ -19,14 +19,28 @@ solution).
 
 from __future__ import annotations
 
+import functools
+
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Mapping
 
 import sympy as sp
+from sympy.polys.fields import sfield
 
 __all__ = ["ExpPoly", "to_expoly", "integrate_against", "ZeroTest"]
 
 ZeroTest = Callable[[sp.Expr], bool]
+
+
+@functools.lru_cache(maxsize=4096)
+def _exponent_key(gamma: sp.Expr) -> tuple:
+    """A sort key for an exponent.  sympy's key of a sum holding an indexed
+    root evaluates the root, refining its interval every time; a named stand-in
+    per root gives a key as deterministic at no cost."""
+    roots = gamma.atoms(sp.CRootOf)
+    if roots:
+        gamma = gamma.xreplace({r: sp.Symbol(f"root[{r.poly.as_expr()}, {r.index}]") for r in roots})
+    return sp.default_sort_key(gamma)
 
 _TRIG = (sp.sin, sp.cos, sp.tan, sp.sinh, sp.cosh, sp.tanh)
 
@@ -49,7 +63,7 @@ class ExpPoly:
             c = norm_coeff(c)
             if c != 0:
                 items.append((key, c))
-        items.sort(key=lambda kv: (sp.default_sort_key(kv[0][1]), kv[0][0]))
+        items.sort(key=lambda kv: (_exponent_key(kv[0][1]), kv[0][0]))
         return ExpPoly(tuple(items))
 
     @staticmethod
@@ -221,7 +235,11 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
 
 def reduce_roots(e: sp.Expr) -> sp.Expr:
     """Reduce powers of an indexed root r of q modulo q(r) = 0 (degree < deg q)."""
-    for r in sorted(e.atoms(sp.CRootOf), key=sp.default_sort_key):
+    roots = sorted(e.atoms(sp.CRootOf), key=sp.default_sort_key)
+    fast = _reduce_rational(e, roots) if roots else None
+    if fast is not None:
+        return fast
+    for r in roots:
         z = sp.Dummy("z")
         ez = e.xreplace({r: z})
         num, den = sp.fraction(sp.together(ez))
@@ -237,6 +255,39 @@ def reduce_roots(e: sp.Expr) -> sp.Expr:
         rem = pn.rem(q)
         e = sp.expand(rem.as_expr().subs(z, r) / pd.as_expr())
     return e
+
+
+def _reduce_rational(e: sp.Expr, roots: list) -> sp.Expr | None:
+    """reduce_roots for rational coefficients, all roots at once in Q[z_1..z_m].
+
+    The minimal polynomials q_i(z_i) are in distinct variables, so they are a
+    Groebner basis and one multivariate remainder is the normal form.  A
+    denominator in one root is inverted in Q[z]/(q).  None when the
+    coefficients are not rational or the denominator mixes roots (the caller
+    then reduces root by root).
+    """
+    zs = [sp.Dummy(f"z{i}") for i in range(len(roots))]
+    K, f = sfield(e.xreplace(dict(zip(roots, zs))), *zs)
+    if not (K.domain.is_ZZ or K.domain.is_QQ):
+        return None
+    R = K.ring.clone(domain=sp.QQ)
+    num, den = f.numer.set_ring(R), f.denom.set_ring(R)
+    m = len(roots)
+    mods = []
+    for i, r in enumerate(roots):
+        mods.append(R({tuple(k if j == i else 0 for j in range(m)): sp.QQ.convert(c) for (k,), c in r.poly.terms()}))
+    if not den.is_ground:
+        used = [i for i in range(m) if den.degree(i) > 0]
+        if len(used) != 1:
+            return None
+        i = used[0]
+        num = num * R(sp.invert(den.as_expr(), mods[i].as_expr(), zs[i]))
+        den = R.one
+    lead = den.LC
+    num = num.rem(mods)
+    return sp.Add(
+        *(sp.Mul(sp.QQ.to_sympy(c / lead), *(r**k for r, k in zip(roots, mono) if k)) for mono, c in num.terms())
+    )
 
 
 def symmetric_reduce(e: sp.Expr) -> sp.Expr:
