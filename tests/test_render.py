@@ -539,3 +539,26 @@ def test_pdf_true_without_latexmk_is_an_output_error(tmp_path: Path, monkeypatch
         write_outputs(make_solution(), tmp_path, stem="c", pdf=True)
     # the .tex was still written: the result is right, only the PDF is missing
     assert (tmp_path / "c.tex").is_file()
+
+
+def test_indexed_roots_print_as_polynomials_without_evaluating_the_root(monkeypatch):
+    """Sums and products holding an indexed root print in powers of its name, and
+    printing never evaluates the root (sympy's own term order would, refining the
+    root's interval each time: seconds on a quintic's sheet)."""
+    from derive.render.printing import PlainPrinter, SheetLatexPrinter
+
+    x, t = sp.symbols("x t")
+    r = sp.CRootOf(x**5 - x - 1, 1)
+    e = (r**4 - r**2 + r - 1) * sp.exp(r * t) + 3 * t / (r + 2)
+
+    def no_evaluation(self, prec):
+        raise AssertionError("the printer evaluated an indexed root")
+
+    monkeypatch.setattr(sp.CRootOf, "_eval_evalf", no_evaluation)
+    tex = SheetLatexPrinter({"root_names": {r: 2}}).doprint(e)
+    assert r"\left(\lambda_{2}^{4} - \lambda_{2}^{2} + \lambda_{2} - 1\right) e^{\lambda_{2} t}" in tex
+    assert r"\lambda_{2} + 2" in tex
+    text = PlainPrinter({"root_names": {r: 2}}).doprint(e)
+    assert "(lambda_2**4 - lambda_2**2 + lambda_2 - 1)*exp(lambda_2*t)" in text
+    # a root the sheet did not name is still said in full
+    assert r"\text{root } 1 \text{ of }" in SheetLatexPrinter().doprint(r + 1)

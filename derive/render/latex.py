@@ -280,7 +280,7 @@ def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> di
     versions = program_versions()
     # A label key unique to this sheet, so two sheets \input into one report
     # keep separate "Sheet X of Y" counts.
-    seed = "|".join((meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", fmt.plain(solution.x)))
+    seed = "|".join((meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", _structure(solution.x)))
     key = "derive-" + hashlib.sha256(seed.encode("utf-8")).hexdigest()[:10]
     notices = tuple(dict.fromkeys((*(case.notices if case else ()), *solution.notices)))
     kinds = {s.kind for s in solution.steps}
@@ -307,6 +307,17 @@ def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> di
         "imaginary_unit": style.imaginary_unit,
         **_functions(ctx, solution),
     }
+
+
+def _structure(obj: Any) -> str:
+    """A deterministic text of an expression's tree, for a key.  The printers
+    (srepr too) order the terms of a sum, which evaluates indexed roots again
+    and again; the tree's own argument order needs no ordering."""
+    if isinstance(obj, sp.MatrixBase):
+        return "[" + ",".join(_structure(e) for e in obj) + "]"
+    if not obj.args:
+        return sp.srepr(obj)
+    return type(obj).__name__ + "(" + ",".join(_structure(a) for a in obj.args) + ")"
 
 
 #: (solution, style, body) of the last sheet rendered.  The body holds all the

@@ -10,6 +10,8 @@ the notation of a sheet is decided in one place:
 * an eigenvalue with no radical form (``CRootOf``) is printed by name,
   ``lambda_k`` with k its position among the solution's eigenvalues, and the
   polynomial is stated once in a legend with the decimals beside the names;
+  sums and products holding such roots are ordered as polynomials in those
+  names, so a printout never evaluates a root;
 * the imaginary unit is ``i`` or ``j`` (electrical engineers read ``j``).
 
 It also decides how long expressions and big matrices are broken so that a
@@ -271,7 +273,54 @@ def format_decimal(
 # Printers
 
 
-class SheetLatexPrinter(LatexPrinter):
+class _RootStandIns:
+    """Prints indexed roots through named stand-in symbols.
+
+    sympy orders the terms and factors of an expression holding a ``CRootOf``
+    by evaluating the root, refining its isolating interval every time
+    (seconds on a quintic's sheet).  Each top-level print therefore swaps every
+    root for a symbol named by its number and prints that symbol as the root:
+    the order is then that of a polynomial in lambda_1, lambda_2, ... and
+    nothing is evaluated.
+    """
+
+    _settings: dict[str, Any]
+    _standing = False
+
+    def _print(self, expr: Any, **kwargs: Any) -> str:
+        if self._standing or not isinstance(expr, (sp.Basic, sp.MatrixBase)) or not expr.has(sp.CRootOf):
+            return super()._print(expr, **kwargs)  # type: ignore[misc]
+        stand = self._stand_ins(expr)
+        self._standing = True
+        try:
+            return super()._print(expr.xreplace(stand), **kwargs)  # type: ignore[misc]
+        finally:
+            self._standing = False
+
+    def _as_ordered_terms(self, expr: Any, order: Any = None) -> list:
+        # also called directly, to break a long sum at its terms
+        if self._standing or not isinstance(expr, sp.Basic) or not expr.has(sp.CRootOf):
+            return super()._as_ordered_terms(expr, order=order)  # type: ignore[misc]
+        stand = self._stand_ins(expr)
+        back = {v: k for k, v in stand.items()}
+        return [term.xreplace(back) for term in super()._as_ordered_terms(expr.xreplace(stand), order=order)]  # type: ignore[misc]
+
+    def _stand_ins(self, expr: Any) -> dict[sp.Expr, sp.Symbol]:
+        names = self._settings["root_names"]
+        stand: dict[sp.Expr, sp.Symbol] = {}
+        for r in expr.atoms(sp.CRootOf):
+            stand[r] = sp.Symbol("\x00root%04d:%s:%d" % (names.get(r, 0), r.poly.as_expr(), r.index))
+        self._roots_by_stand_in = {v: k for k, v in stand.items()}
+        return stand
+
+    def _print_Symbol(self, expr: sp.Symbol, *args: Any, **kwargs: Any) -> str:
+        root = getattr(self, "_roots_by_stand_in", {}).get(expr) if self._standing else None
+        if root is not None:
+            return self._print_ComplexRootOf(root)  # type: ignore[attr-defined]
+        return super()._print_Symbol(expr, *args, **kwargs)  # type: ignore[misc]
+
+
+class SheetLatexPrinter(_RootStandIns, LatexPrinter):
     """sympy's LaTeX printer with the sheet's notation (see the module docstring).
 
     >>> t = sp.Symbol("t")
@@ -327,7 +376,7 @@ class SheetLatexPrinter(LatexPrinter):
         )
 
 
-class PlainPrinter(StrPrinter):
+class PlainPrinter(_RootStandIns, StrPrinter):
     """sympy's str printer with the sheet's notation, for text and JSON-free output.
 
     >>> t = sp.Symbol("t")
