@@ -227,10 +227,11 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
         if any(p.exp.is_negative and not p.base.is_Rational for p in e.atoms(sp.Pow)):
             e = sp.expand(sp.radsimp(e))
         return e
-    e = sp.expand(c)
-    if any(p.exp.is_negative and p.base.free_symbols for p in e.atoms(sp.Pow)):
-        return sp.factor(sp.cancel(sp.together(e)))
-    return e
+    if any(p.exp.is_negative and p.base.free_symbols for p in c.atoms(sp.Pow)):
+        # factor puts the sum over one denominator and cancels by itself;
+        # expanding first only made it work on the bigger numerator
+        return sp.factor(c)
+    return sp.expand(c)
 
 
 def reduce_roots(e: sp.Expr) -> sp.Expr:
