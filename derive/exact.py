@@ -17,10 +17,16 @@ from dataclasses import dataclass
 
 import sympy as sp
 
-__all__ = ["ZeroVerdict", "decide_zero", "is_zero_number", "random_point"]
+__all__ = ["ZeroVerdict", "decide_zero", "is_zero_number", "random_point", "numeric_function"]
 
 DIGITS = 50
 POINTS = 4
+
+
+def numeric_function(args, expr, modules):
+    """sympy's lambdify without the docstring: the docstring prints the whole
+    expression once more, half the cost of a call."""
+    return sp.lambdify(args, expr, modules=modules, docstring_limit=0)
 
 
 @dataclass(frozen=True)
@@ -68,8 +74,8 @@ def _numeric_zero(expr: sp.Expr, *, seed: int = 12345, points: int = POINTS) -> 
     terms = list(sp.Add.make_args(e))[:200]
     with mpmath.workdps(DIGITS):
         try:
-            total_fn = sp.lambdify(syms, e, modules="mpmath")
-            terms_fn = sp.lambdify(syms, terms, modules="mpmath")
+            total_fn = numeric_function(syms, e, "mpmath")
+            terms_fn = numeric_function(syms, terms, "mpmath")
         except Exception:  # pragma: no cover - unusual functions: sympy's evaluator
             total_fn = terms_fn = None
         worst = 0.0

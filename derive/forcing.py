@@ -52,7 +52,7 @@ import sympy as sp
 from sympy.core.function import AppliedUndef
 
 from .errors import InputError, LimitError, UnsupportedError, VerificationError
-from .exact import decide_zero, is_zero_number
+from .exact import decide_zero, is_zero_number, numeric_function
 from .expoly import NotExpPoly, _is_negative, to_expoly
 from .model import Case, Condition, NumericCheck, Solution, System, Verification
 from .recombine import recombine, restore_roots
@@ -767,12 +767,12 @@ def _evaluator(X: Sequence[sp.Expr], t: sp.Symbol):
     dummies = [sp.Dummy(f"I{k}") for k in range(len(ints))]
     Xd = [sp.sympify(e, strict=True).xreplace(dict(zip(ints, dummies))) for e in X]
     # mpmath evaluates special functions of closed-form integrals (erf, Ei, ...) at complex arguments too
-    main = sp.lambdify([t, *dummies], Xd, modules=["mpmath"])
+    main = numeric_function([t, *dummies], Xd, ["mpmath"])
     parts = []
     for I in ints:
         (s, lo, hi), = I.limits
-        body = sp.lambdify(s, I.function, modules=["numpy"])
-        parts.append((body, sp.lambdify(t, lo, modules=["numpy"]), sp.lambdify(t, hi, modules=["numpy"])))
+        body = numeric_function(s, I.function, ["numpy"])
+        parts.append((body, numeric_function(t, lo, ["numpy"]), numeric_function(t, hi, ["numpy"])))
 
     complex_parts = [I.function.has(sp.I) for I in ints]
 
@@ -833,7 +833,7 @@ def _numeric_pieces(
         if b <= a:
             break
         state = state + np.array([float(sp.N(v.xreplace(subs))) for v in p.jump])
-        f_fn = sp.lambdify(t, list(p.f.xreplace(subs)), modules="numpy")
+        f_fn = numeric_function(t, list(p.f.xreplace(subs)), "numpy")
         exact = _evaluator([e.xreplace(subs) for e in p.x], t)
         count = max(4, int(points * (b - a) / max(t_end - t0, 1e-9)))
         grid = np.linspace(a, b, count)

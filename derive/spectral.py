@@ -30,6 +30,7 @@ from sympy.polys.constructor import construct_domain
 from sympy.polys.matrices import DomainMatrix
 
 from .errors import UnsupportedError
+from .exact import numeric_function
 from .model import Condition
 from .steps import (
     ChainLink,
@@ -804,7 +805,7 @@ def _similarity_check(A, P, J, P_inv, values, exact: list[DomainMatrix] | None) 
         import mpmath
 
         # mpmath at double precision: roots of negative numbers are complex, not nan
-        fn = sp.lambdify((), [list(M) for M in mats], modules="mpmath")
+        fn = numeric_function((), [list(M) for M in mats], "mpmath")
         with mpmath.workdps(16):
             vals = fn()
         Pn, Jn, Qn, An = (np.array([complex(x) for x in v], dtype=complex).reshape(n, n) for v in vals)

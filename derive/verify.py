@@ -24,7 +24,7 @@ import numpy as np
 import sympy as sp
 import sympy.codegen.ast  # noqa: F401 - lambdify's printers import it on first use: load it with the package
 
-from .exact import decide_zero, root_value
+from .exact import decide_zero, numeric_function, root_value
 from .model import NumericCheck, System, Verification
 from .ringcheck import initial_is_zero, residual_is_zero
 
@@ -186,7 +186,7 @@ def numeric_check(
     A = np.array(system.A.xreplace(subs).evalf(20).tolist(), dtype=float)
     f_expr = system.f.xreplace(subs)
     forced = any(e != 0 for e in f_expr)
-    x_fn = sp.lambdify(t, list(xs), modules=["numpy"])
+    x_fn = numeric_function(t, list(xs), ["numpy"])
     t0 = float(system.t0)
     T = time_span(eigenvalues, subs, decimals)
     t_eval = np.linspace(t0, t0 + T, points)
@@ -211,7 +211,7 @@ def numeric_check(
 
         try:
             if f_expr.has(t):
-                f_fn = sp.lambdify(t, list(f_expr), modules="numpy")
+                f_fn = numeric_function(t, list(f_expr), "numpy")
 
                 def rhs(tt: float, y: np.ndarray) -> np.ndarray:
                     return A @ y + np.array(f_fn(tt), dtype=float).reshape(-1)
