@@ -130,7 +130,9 @@ class NumericCheck:
     """A numeric solution of the system compared with the exact one.
 
     ``rtol`` and ``atol`` are the integrator's tolerances; None for a route
-    without them (the stepped matrix exponential of an unforced system).
+    without them (the stepped matrix exponential).  ``modes`` counts the
+    forcing modes t^k e^{gamma t} appended to the state on that route (0 when
+    unforced or integrated).
     """
 
     method: str
@@ -142,6 +144,7 @@ class NumericCheck:
     max_abs_gap: float
     max_rel_gap: float
     ok: bool
+    modes: int = 0
 
 
 @dataclass(frozen=True)

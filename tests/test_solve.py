@@ -221,6 +221,46 @@ def test_forced_ivp_against_scipy():
     assert np.max(np.abs(exact - num.y)) < 1e-8
 
 
+def test_numeric_check_steps_the_forcing_modes_and_catches_a_wrong_answer():
+    """A forcing of modes t^k e^{gamma t} (a resonant exponential and a sinusoid) is
+    checked by stepping the state extended by those modes; the route reproduces
+    scipy's solve_ivp (the reference here) and a wrong x(t) fails it."""
+    from derive.verify import numeric_check
+
+    A = sp.Matrix([[0, 1], [-2, -3]])
+    f = [sp.exp(-t), t * sp.cos(2 * t)]  # e^{-t} resonates with the eigenvalue -1
+    x0 = [1, -1]
+    sol = derive.solve(A, f, x0=x0)
+    num = sol.verification.numeric
+    assert num.ok and num.modes == 5 and num.rtol is None and num.max_rel_gap < 1e-10
+    ts = np.linspace(num.t_start, num.t_end, 9)
+    ref = solve_ivp(lambda tt, y: np.array([[0, 1], [-2, -3]]) @ y + np.array([np.exp(-tt), tt * np.cos(2 * tt)]),
+                    (ts[0], ts[-1]), np.array(x0, float), method="DOP853", rtol=1e-12, atol=1e-12, t_eval=ts)
+    fx = sp.lambdify(t, list(sol.x), "numpy")
+    assert np.max(np.abs(np.array([fx(tt) for tt in ts], dtype=float).T - ref.y)) < 1e-8
+    wrong = sol.x + sp.Matrix([sp.Rational(1, 1000) * t * sp.exp(-2 * t), 0])
+    bad = numeric_check(sol.system, wrong)
+    assert not bad.ok and bad.max_rel_gap > 1e-5
+
+
+def test_numeric_check_integrates_when_the_modes_do_not_reproduce_the_forcing(monkeypatch):
+    """The modes are the solver's own reading of f; they are compared with f evaluated
+    directly, and a misreading sends the check to solve_ivp instead of passing it on."""
+    import derive.expoly as expoly
+    from derive.verify import numeric_check
+
+    sol = derive.solve([[0, 1], [-2, -3]], [0, sp.sin(t)], x0=[0, 1])
+    right = expoly.to_expoly
+
+    def misread(expr, var):  # drops every term but the first
+        p = right(expr, var)
+        return expoly.ExpPoly(p.terms[:1])
+
+    monkeypatch.setattr(expoly, "to_expoly", misread)
+    num = numeric_check(sol.system, sol.x)
+    assert num.modes == 0 and num.rtol is not None and "DOP853" in num.method and num.ok
+
+
 # ---------------------------------------------------------------------------
 # behaviour a user relies on
 
