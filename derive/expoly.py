@@ -22,7 +22,7 @@ from __future__ import annotations
 import functools
 
 from dataclasses import dataclass, field
-from typing import Callable, Iterable, Mapping
+from typing import Callable, Iterable, Mapping, Sequence
 
 import sympy as sp
 from sympy.polys.fields import sfield
@@ -120,6 +120,28 @@ class ExpPoly:
     def coeff_of(self, sym: sp.Symbol) -> "ExpPoly":
         """The part linear in ``sym`` (coefficients are linear in the constants)."""
         return ExpPoly.from_dict({key: sp.expand(c).coeff(sym) for key, c in self.terms})
+
+    def split_linear(self, syms: Sequence[sp.Symbol]) -> tuple[list["ExpPoly"], "ExpPoly"]:
+        """(coeff_of(s) for each s, drop(syms)) in one expansion of each coefficient.
+
+        For coefficients linear in ``syms`` (the constants of a solution); a
+        coefficient that is not falls back to coeff_of and drop.
+        """
+        where = {s: i for i, s in enumerate(syms)}
+        parts: list[dict] = [{} for _ in syms]
+        rest: dict = {}
+        for key, c in self.terms:
+            for term in sp.Add.make_args(sp.expand(c)):
+                hit = [s for s in term.free_symbols if s in where]
+                if not hit:
+                    rest[key] = rest.get(key, sp.Integer(0)) + term
+                    continue
+                rate = term.coeff(hit[0]) if len(hit) == 1 else None
+                if rate is None or rate == 0 or rate.has(hit[0]):
+                    return [self.coeff_of(s) for s in syms], self.drop(syms)
+                d = parts[where[hit[0]]]
+                d[key] = d.get(key, sp.Integer(0)) + rate
+        return [ExpPoly.from_dict(d) for d in parts], ExpPoly.from_dict(rest)
 
     def drop(self, syms: Iterable[sp.Symbol]) -> "ExpPoly":
         """Set the given symbols to zero (the constant-free part)."""

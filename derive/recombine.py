@@ -122,8 +122,9 @@ def recombine(
     ivp = x0 is not None
     shift = t0 if ivp else sp.Integer(0)
     x_ep = [ExpPoly.combination((P[i, j], y[j]) for j in range(n)) for i in range(n)]
-    phis = [[x_ep[i].coeff_of(c) for i in range(n)] for c in constants]
-    xp = [x_ep[i].drop(constants) for i in range(n)]
+    split = [x_ep[i].split_linear(constants) for i in range(n)]
+    phis = [[split[i][0][k] for i in range(n)] for k in range(len(constants))]
+    xp = [split[i][1] for i in range(n)]
     terms = []
     for c, phi in zip(constants, phis):
         fs = _factor_scalar(phi, t, shift)
@@ -239,7 +240,12 @@ def recombine(
         particular = _real(xp, t, shift) if do_real else xp_mat
         homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
         particular = particular.applyfunc(lambda e: tidy(e, (), t))
-    x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])
+    if cs:
+        # a general solution: the homogeneous part is grouped by constant and the
+        # particular part holds none, so the two groupings are already disjoint
+        x = sp.ImmutableMatrix([a + b for a, b in zip(homogeneous, particular)])
+    else:
+        x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])
     return Recombined(
         x=x,
         homogeneous=homogeneous,
