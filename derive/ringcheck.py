@@ -29,6 +29,7 @@ from typing import Sequence
 import sympy as sp
 import sympy.polys.domains.old_polynomialring  # noqa: F401 - domain unification imports it on first use
 from sympy.polys.polyerrors import PolynomialError
+from sympy.polys.rings import PolyRing
 
 __all__ = ["residual_is_zero", "initial_is_zero"]
 
@@ -93,7 +94,6 @@ class _Ring:
         # parameters in a denominator need the fraction field instead
         extra = sorted(others, key=sp.default_sort_key) if symbols_as_gens else []
         self.gens = (t, *self.hold.values(), *alg.values(), *extra)
-        self._relation_polys: list[tuple[sp.Dummy, sp.Poly]] | None = None
 
     def _alg_expr(self, e: sp.Expr) -> sp.Expr:
         # a^(p/q) as (a^(1/q))^p, so every algebraic number is a power of a generator
@@ -108,38 +108,51 @@ class _Ring:
         rest = {k: v for k, v in self.alg.items() if not isinstance(k, tuple)}
         return e.xreplace(rest) if rest else e
 
-    def poly(self, e: sp.Expr) -> sp.Poly:
-        """An expression of the caller's (functions not yet held) as an element of the ring."""
-        p = self.poly_held(sp.sympify(e, strict=True).xreplace(self.hold))
-        if p.domain.is_EX or p.domain.is_EXRAW:
-            raise _NotInRing("coefficients outside a polynomial domain")
-        if any(c.has(self.t) for c in p.coeffs()):
-            raise _NotInRing("t in a coefficient")
-        return p
+    def elements(self, exprs: Sequence[sp.Expr]) -> list:
+        """The caller's expressions (functions not yet held) as elements of one sparse ring.
 
-    def derivative(self, p: sp.Poly) -> sp.Poly:
-        out = p.diff(self.t)
+        They are read together with the rates of the generators and the
+        algebraic relations, so all share one coefficient domain (a field).
+        """
+        held = [sp.sympify(e, strict=True).xreplace(self.hold) for e in exprs]
+        rate_exprs = []
         for g, (kind, du, _) in self.rates.items():
-            dg = p.diff(g)
-            if dg.is_zero:
-                continue
             if kind == "exp":
-                rate = du * g
+                rate_exprs.append(du * g)
             elif kind == "cos":
-                rate = -du * self._trig_partner(g, "sin")
+                rate_exprs.append(-du * self._trig_partner(g, "sin"))
             else:
-                rate = du * self._trig_partner(g, "cos")
-            out = out + dg * self.poly_held(rate)
-        return out
-
-    def poly_held(self, e: sp.Expr) -> sp.Poly:
-        """An expression whose functions are already generators, as a polynomial."""
-        e = self._alg_expr(e)
+                rate_exprs.append(du * self._trig_partner(g, "cos"))
+        rels = [rel for _, rel in self.relations]
+        every = [self._alg_expr(e) for e in held + rate_exprs + rels]
         try:
-            p = sp.Poly(e, *self.gens)
+            polys, opt = sp.parallel_poly_from_expr(every, *self.gens)
         except (PolynomialError, sp.CoercionFailed, ValueError, TypeError) as exc:
             raise _NotInRing(str(exc)) from None
-        return p
+        dom = opt.domain
+        if dom.is_EX or dom.is_EXRAW:
+            raise _NotInRing("coefficients outside a polynomial domain")
+        if not (dom.is_Numerical or dom.is_Algebraic) and any(
+            c.has(self.t) for p in polys[: len(held)] for c in p.coeffs()
+        ):
+            raise _NotInRing("t in a coefficient")
+        field = dom if dom.is_Field else dom.get_field()
+        R = PolyRing([str(g) for g in range(len(self.gens))], field)
+        self.R = R
+        out = [R.from_dict({m: field.convert(c, dom) for m, c in p.rep.to_dict().items()}) for p in polys]
+        k = len(held)
+        self._rate_elems = dict(zip(self.rates, out[k : k + len(rate_exprs)]))
+        self._rel_elems = [r.monic() for r in out[k + len(rate_exprs) :]]
+        return out[:k]
+
+    def derivative(self, p):
+        R = self.R
+        out = p.diff(R.gens[0])
+        for g, rate in self._rate_elems.items():
+            dg = p.diff(R.gens[self.gens.index(g)])
+            if dg:
+                out = out + dg * rate
+        return out
 
     def _trig_partner(self, g: sp.Dummy, kind: str) -> sp.Dummy:
         u = self.rates[g][2]
@@ -148,15 +161,14 @@ class _Ring:
             raise _NotInRing(f"{kind}({u}) is not among the generators")
         return self.hold[partner]
 
-    def reduce(self, p: sp.Poly) -> sp.Poly:
-        if self._relation_polys is None:  # once per ring, on first use
-            self._relation_polys = [(g, self.poly_held(rel)) for g, rel in self.relations]
-        for g, rel in self._relation_polys:
-            try:
-                p = _reduce_by(p, g, rel)
-            except (PolynomialError, sp.CoercionFailed, ValueError, TypeError, ZeroDivisionError) as exc:
-                raise _NotInRing(str(exc)) from None
-        return p
+    def reduce(self, p):
+        """p modulo the algebraic relations (each monic in its own generator)."""
+        if not self._rel_elems:
+            return p
+        try:
+            return p.rem(self._rel_elems)
+        except (PolynomialError, sp.CoercionFailed, ValueError, TypeError, ZeroDivisionError) as exc:
+            raise _NotInRing(str(exc)) from None
 
 
 def _radical_parts(p: sp.Expr) -> list[tuple[sp.Expr, int, int]]:
@@ -171,32 +183,6 @@ def _radical_parts(p: sp.Expr) -> list[tuple[sp.Expr, int, int]]:
     if p.base.is_Integer and 0 < p.base < 10**12:  # factorint stays cheap
         return [(sp.Integer(prime), q, k * m) for prime, m in sorted(sp.factorint(int(p.base)).items())]
     return [(p.base, q, k)]
-
-
-def _reduce_by(p: sp.Poly, g: sp.Dummy, rel: sp.Poly) -> sp.Poly:
-    """p modulo rel, rel monic in g (g^q - b, or an indexed root's integer polynomial made monic)."""
-    gi = p.gens.index(g)
-    deg = rel.degree(g)
-    lead = rel.coeff_monomial(g**deg)
-    if lead != 1:
-        rel = rel.quo_ground(lead) if rel.domain.is_Field else rel.to_field().quo_ground(lead)
-        p = p.to_field() if not p.domain.is_Field else p
-    tail = (sp.Poly(g**deg, *p.gens, domain=rel.domain) - rel)  # g^deg = tail
-    for _ in range(64):
-        if p.degree(g) < deg:
-            return p
-        hi = p.as_dict()
-        low = {}
-        high = {}
-        for mon, c in hi.items():
-            if mon[gi] >= deg:
-                m = list(mon)
-                m[gi] -= deg
-                high[tuple(m)] = c
-            else:
-                low[mon] = c
-        p = sp.Poly.from_dict(low, *p.gens, domain=p.domain) + sp.Poly.from_dict(high, *p.gens, domain=p.domain) * tail
-    raise _NotInRing("reduction did not terminate")
 
 
 def _in_ring(check, exprs: Sequence[sp.Expr], t: sp.Symbol) -> bool:
@@ -219,19 +205,19 @@ def residual_is_zero(
     n = len(x)
 
     def check(ring: _Ring) -> bool:
-        px = [ring.poly(e) for e in x]
-        pf = [ring.poly(e) for e in f]
+        others = [A[i, j] for i in range(n) for j in range(n) if A[i, j] != 0 and not A[i, j].is_Rational]
+        elems = ring.elements(list(x) + list(f) + others)
+        px, pf = elems[:n], elems[n : 2 * n]
+        pa = dict(zip(others, elems[2 * n :]))
+        dom = ring.R.domain
         for i in range(n):
             r = ring.derivative(px[i]) - pf[i]
             for j in range(n):
                 a = A[i, j]
                 if a == 0:
                     continue
-                if a.is_Rational and px[j].domain.is_Field or a.is_Integer:
-                    r = r - px[j].mul_ground(a)
-                else:
-                    r = r - px[j] * ring.poly_held(a)
-            if not ring.reduce(r).is_zero:
+                r = r - (px[j] * dom.convert(a) if a.is_Rational else px[j] * pa[a])
+            if ring.reduce(r):
                 return False
         return True
 
@@ -247,10 +233,24 @@ def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -
             if a.args[0].subs(t, 0) != 0:
                 return False
             at0[g] = 0 if isinstance(a, sp.sin) else 1
-        for e, v in zip(x, x0):
+        elems = ring.elements(list(x) + list(x0))
+        # t = 0 and every function at 0: a monomial with t or a sine vanishes,
+        # an exponential or cosine factor becomes 1
+        vanish = [0] + [ring.gens.index(g) for g, v in at0.items() if v == 0]
+        ones = [ring.gens.index(g) for g, v in at0.items() if v == 1]
+        n = len(x)
+        for px, pv in zip(elems[:n], elems[n:]):
             # reduced first: evaluating t and the functions keeps it reduced
-            p = ring.reduce(ring.poly(e) - ring.poly(v)).eval({t: 0, **at0})
-            if not (p.is_zero if isinstance(p, sp.Poly) else p == 0):
+            left: dict = {}
+            for mono, c in ring.reduce(px - pv).items():
+                if any(mono[i] for i in vanish):
+                    continue
+                m = list(mono)
+                for i in ones:
+                    m[i] = 0
+                key = tuple(m)
+                left[key] = left.get(key, ring.R.domain.zero) + c
+            if any(c for c in left.values()):
                 return False
         return True
 
