@@ -116,7 +116,7 @@ class _Field:
     def to_expr(self, e, lam: sp.Symbol | None = None) -> sp.Expr:
         x = self.dom.to_sympy(e)
         if self.q is not None and lam is not None:
-            x = x.subs(_TH, lam)
+            x = x.xreplace({_TH: lam})
         return x
 
     def from_expr(self, x: sp.Expr):
@@ -419,7 +419,7 @@ def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None) -> sp.Expr
     """A polynomial in the generic root, evaluated at one concrete root."""
     if gen is None:
         return expr
-    return sp.expand(expr.subs(gen, root))
+    return sp.expand(expr.xreplace({gen: root}))
 
 
 def _with_root_values(e):
@@ -433,7 +433,7 @@ def _with_root_values(e):
 
 def _numeric(value: sp.Expr, subs: dict) -> complex | None:
     try:
-        v = complex(sp.N(_with_root_values(value).subs(subs), 30))
+        v = complex(sp.N(_with_root_values(value).xreplace(subs), 30))
     except (TypeError, ValueError):
         return None
     return v
