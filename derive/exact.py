@@ -24,9 +24,91 @@ POINTS = 4
 
 
 def numeric_function(args, expr, modules):
-    """sympy's lambdify without the docstring: the docstring prints the whole
-    expression once more, half the cost of a call."""
+    """A numeric function of an expression (or a list of them).
+
+    For numpy and one variable, sums, products, powers, exp, sin and cos of
+    it are evaluated by walking the tree (``_TreeFunction``): lambdify prints
+    the expression as source and compiles it, which costs more than the
+    evaluation on a grid.  Anything else goes to sympy's lambdify, without its
+    docstring (which prints the expression once more).
+    """
+    if modules in ("numpy", ["numpy"]) and isinstance(args, sp.Symbol):
+        exprs = list(expr) if isinstance(expr, (list, tuple)) else None
+        if all(_walkable(e, args) for e in (exprs if exprs is not None else [expr])):
+            return _TreeFunction(args, exprs if exprs is not None else expr)
     return sp.lambdify(args, expr, modules=modules, docstring_limit=0)
+
+
+_UNARY = {sp.exp: "exp", sp.sin: "sin", sp.cos: "cos"}
+
+
+def _walkable(e, x: sp.Symbol) -> bool:
+    if not isinstance(e, sp.Basic):
+        return False
+    for node in sp.preorder_traversal(e):
+        if node.is_Atom:
+            if node.is_Symbol and node != x:
+                return False
+            if not (node.is_Symbol or node.is_number):
+                return False
+        elif not (node.is_Add or node.is_Mul or node.is_Pow or type(node) in _UNARY or node.is_number):
+            return False
+    return True
+
+
+class _TreeFunction:
+    """Evaluate expressions in one variable on numpy arrays, node by node (complex128)."""
+
+    def __init__(self, x: sp.Symbol, expr) -> None:
+        self.x = x
+        self.expr = expr
+
+    def __call__(self, value):
+        import numpy as np
+
+        v = np.asarray(value)
+        if isinstance(self.expr, list):
+            memo: dict = {}
+            return [self._real(self._eval(e, v, memo)) for e in self.expr]
+        return self._real(self._eval(self.expr, v, {}))
+
+    @staticmethod
+    def _real(out):
+        # real where the imaginary part is exactly zero, as lambdify gives for a real expression
+        import numpy as np
+
+        if np.iscomplexobj(out) and not np.any(np.imag(out)):
+            return np.real(out) if isinstance(out, np.ndarray) else float(np.real(out))
+        return out
+
+    def _eval(self, e, v, memo):
+        import numpy as np
+
+        got = memo.get(e)
+        if got is not None:
+            return got
+        if e == self.x:
+            out = v.astype(complex)
+        elif e.is_number:
+            out = complex(e)
+        elif e.is_Add:
+            out = 0
+            for a in e.args:
+                out = out + self._eval(a, v, memo)
+        elif e.is_Mul:
+            out = 1
+            for a in e.args:
+                out = out * self._eval(a, v, memo)
+        elif e.is_Pow:
+            base = self._eval(e.base, v, memo)
+            if e.exp.is_Integer:
+                out = base ** int(e.exp)
+            else:
+                out = np.power(base, self._eval(e.exp, v, memo))
+        else:
+            out = getattr(np, _UNARY[type(e)])(self._eval(e.args[0], v, memo))
+        memo[e] = out
+        return out
 
 
 @dataclass(frozen=True)

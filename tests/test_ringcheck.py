@@ -136,3 +136,42 @@ def test_solutions_of_the_solver_are_settled_exactly():
     A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])  # lambda^3 - 3 lambda - 1
     sol = derive.solve(A)
     assert residual_is_zero(list(sol.x), A, [0, 0, 0], t)
+
+
+# ---------------------------------------------------------------------------
+# the numeric functions of the numeric check (derive.exact.numeric_function)
+
+
+@pytest.mark.parametrize(
+    "expr",
+    [
+        sp.exp(-t / 2) * (3 * sp.cos(sp.sqrt(3) * t / 2) - sp.sqrt(3) * sp.sin(sp.sqrt(3) * t / 2)),
+        (1 + sp.sqrt(2)) * sp.exp(sp.sqrt(2) * t) + t**3 * sp.exp(-t) / 6,
+        sp.I * sp.exp((-1 + 2 * sp.I) * t) - sp.I * sp.exp((-1 - 2 * sp.I) * t),
+        1 / (1 + t**2) + sp.Rational(5, 7),
+        sp.Integer(4),
+    ],
+)
+def test_tree_evaluation_matches_lambdify(expr):
+    """The tree walk that replaces lambdify for numpy must give lambdify's values
+    (sympy's lambdify is the reference), real where lambdify's are real."""
+    import numpy as np
+
+    from derive.exact import _TreeFunction, numeric_function
+
+    grid = np.linspace(-1.0, 3.0, 25)
+    ours = numeric_function(t, [expr, t], "numpy")
+    assert isinstance(ours, _TreeFunction)
+    got = np.broadcast_to(np.asarray(ours(grid)[0]), grid.shape)
+    ref = np.broadcast_to(np.asarray(sp.lambdify(t, expr, "numpy")(grid)), grid.shape)
+    assert np.max(np.abs(got - ref)) <= 1e-13 * max(1.0, float(np.max(np.abs(ref))))
+    assert np.iscomplexobj(got) == np.iscomplexobj(ref) or not np.any(np.imag(ref))
+
+
+def test_numeric_function_falls_back_to_lambdify_outside_the_tree():
+    from derive.exact import _TreeFunction, numeric_function
+
+    k = sp.Symbol("k")
+    assert not isinstance(numeric_function(t, [sp.Heaviside(t - 1)], "numpy"), _TreeFunction)
+    assert not isinstance(numeric_function(t, [k * t], "numpy"), _TreeFunction)  # a second symbol
+    assert numeric_function(t, [sp.Heaviside(t - 1) * t], "numpy")(2.0)[0] == 2.0
