@@ -652,7 +652,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
         checks.append((
             f"Numeric integration ({n.method}) on [{_fmt_float(n.t_start)}, {_fmt_float(n.t_end)}], {n.points} points, "
             + (f"rtol {_fmt_float(n.rtol)}, atol {_fmt_float(n.atol)}" if n.rtol is not None else "no tolerances (direct)")
-            + (f", the state extended by the {n.modes} modes t^k e^(gamma t) of f" if n.modes else "")
+            + (f", the state extended by the {n.modes} mode{'' if n.modes == 1 else 's'} t^k e^(gamma t) of f" if n.modes else "")
             + f": largest absolute gap {_fmt_float(n.max_abs_gap)}, "
             f"largest relative gap {_fmt_float(n.max_rel_gap)}: " + ("agrees" if n.ok else "DISAGREES"),
         ))
