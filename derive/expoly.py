@@ -26,6 +26,7 @@ from typing import Callable, Iterable, Mapping, Sequence
 
 import sympy as sp
 from sympy.polys.fields import sfield
+from sympy.polys.polyerrors import BasePolynomialError
 
 __all__ = ["ExpPoly", "to_expoly", "integrate_against", "ZeroTest"]
 
@@ -290,7 +291,10 @@ def _reduce_rational(e: sp.Expr, roots: list) -> sp.Expr | None:
     then reduces root by root).
     """
     zs = [sp.Dummy(f"z{i}") for i in range(len(roots))]
-    K, f = sfield(e.xreplace(dict(zip(roots, zs))), *zs)
+    try:
+        K, f = sfield(e.xreplace(dict(zip(roots, zs))), *zs)
+    except (BasePolynomialError, ValueError, TypeError):
+        return None
     if not (K.domain.is_ZZ or K.domain.is_QQ):
         return None
     R = K.ring.clone(domain=sp.QQ)

@@ -168,6 +168,16 @@ def test_run_child_records_every_stage():
     assert rec["ops"] > 0
 
 
+def test_repeat_keeps_the_fastest_run_and_every_time():
+    from bench.run_bench import run_all
+
+    seen = []
+    (rec,) = run_all(["d2_none_gen"], solvers=("derive",), repeat=3, progress=seen.append)
+    assert rec["verified"] and len(rec["solve_times"]) == 3
+    assert rec["solve_s"] == min(rec["solve_times"])
+    assert len(seen) == 1  # one progress line for the pair, after its last run
+
+
 def test_select_rejects_unknown_names():
     with pytest.raises(InputError, match="no_such_case"):
         select(only=["d2_none_gen", "no_such_case"], quick=False)
