@@ -650,7 +650,8 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
     n = ver.numeric
     if n is not None:
         checks.append((
-            f"Numeric integration ({n.method}) on [{_fmt_float(n.t_start)}, {_fmt_float(n.t_end)}], {n.points} points, "
+            f"Numeric {'integration' if n.rtol is not None else 'solution'} ({n.method}) on "
+            f"[{_fmt_float(n.t_start)}, {_fmt_float(n.t_end)}], {n.points} points, "
             + (f"rtol {_fmt_float(n.rtol)}, atol {_fmt_float(n.atol)}" if n.rtol is not None else "no tolerances (direct)")
             + (f", the state extended by the {n.modes} mode{'' if n.modes == 1 else 's'} t^k e^(gamma t) of f" if n.modes else "")
             + f": largest absolute gap {_fmt_float(n.max_abs_gap)}, "
