@@ -210,13 +210,16 @@ def _inv(M: DomainMatrix) -> DomainMatrix:
 def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
     n = A.rows
     coeffs = _dm(A, dom).charpoly()  # det(lam I - A), monic
-    mono = sp.Add(*[dom.to_sympy(c) * lam ** (n - i) for i, c in enumerate(coeffs)])
-    expanded = sp.expand((-1) ** n * mono)  # det(A - lam I), as on the sheet
     if dom.is_QQ or dom.is_ZZ:
-        # rational coefficients: factor the integer polynomial directly, no expression round trip
+        # rational coefficients: det(A - lam I) written term by term is already expanded,
+        # and the integer polynomial is factored directly, no expression round trip
+        sign = -1 if n % 2 else 1
+        expanded = sp.Add(*[dom.to_sympy(sign * c) * lam ** (n - i) for i, c in enumerate(coeffs)])
         den, prim = sp.Poly(list(coeffs), lam, domain=dom).clear_denoms(convert=True)
         lc, fl = prim.factor_list()
         return expanded, *_collect_factors(n, lam, sp.Integer(lc) / den, [(f.as_expr(), m) for f, m in fl])
+    mono = sp.Add(*[dom.to_sympy(c) * lam ** (n - i) for i, c in enumerate(coeffs)])
+    expanded = sp.expand((-1) ** n * mono)  # det(A - lam I), as on the sheet
     num, den = sp.fraction(sp.together(mono))
     gens = [lam] + sorted((num.free_symbols | den.free_symbols) - {lam}, key=sp.default_sort_key)
     if dom.is_Algebraic:
