@@ -15,6 +15,7 @@ import functools
 import random
 from dataclasses import dataclass
 
+import numpy as np
 import sympy as sp
 
 __all__ = ["ZeroVerdict", "decide_zero", "is_zero_number", "random_point", "numeric_function"]
@@ -64,8 +65,6 @@ class _TreeFunction:
         self.expr = expr
 
     def __call__(self, value):
-        import numpy as np
-
         v = np.asarray(value)
         if isinstance(self.expr, list):
             memo: dict = {}
@@ -75,15 +74,11 @@ class _TreeFunction:
     @staticmethod
     def _real(out):
         # real where the imaginary part is exactly zero, as lambdify gives for a real expression
-        import numpy as np
-
         if np.iscomplexobj(out) and not np.any(np.imag(out)):
             return np.real(out) if isinstance(out, np.ndarray) else float(np.real(out))
         return out
 
     def _eval(self, e, v, memo):
-        import numpy as np
-
         got = memo.get(e)
         if got is not None:
             return got

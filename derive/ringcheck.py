@@ -141,15 +141,15 @@ class _Ring:
         self.R = R
         out = [R.from_dict({m: field.convert(c, dom) for m, c in p.rep.to_dict().items()}) for p in polys]
         k = len(held)
-        self._rate_elems = dict(zip(self.rates, out[k : k + len(rate_exprs)]))
+        # D p = dp/dt + sum over generators g of (dp/dg) g', with g' in the ring
+        self._rate_elems = [(R.gens[self.gens.index(g)], e) for g, e in zip(self.rates, out[k : k + len(rate_exprs)])]
         self._rel_elems = [r.monic() for r in out[k + len(rate_exprs) :]]
         return out[:k]
 
     def derivative(self, p):
-        R = self.R
-        out = p.diff(R.gens[0])
-        for g, rate in self._rate_elems.items():
-            dg = p.diff(R.gens[self.gens.index(g)])
+        out = p.diff(self.R.gens[0])
+        for g, rate in self._rate_elems:
+            dg = p.diff(g)
             if dg:
                 out = out + dg * rate
         return out

@@ -184,7 +184,6 @@ def numeric_check(
     leftover = xs.free_symbols - {t}
     if leftover:
         raise _Skip("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))
-    n = system.n
     A = np.array(system.A.xreplace(subs).evalf(20).tolist(), dtype=float)
     f_expr = system.f.xreplace(subs)
     forced = any(e != 0 for e in f_expr)
@@ -208,12 +207,12 @@ def numeric_check(
         )
     if not np.all(np.isfinite(y0)):
         raise _Skip("the exact solution is not finite at t0 for the given parameter values; a stated condition may be violated by them")
-    by_modes = _stepped_with_modes(f_expr, t, A, y0, t_eval) if forced else None
+    by_modes = _stepped_with_modes(f_expr, t, A, y0, t_eval) if forced else (_stepped(A, y0, t_eval), 0)
     if by_modes is not None:
+        # unforced, or forced by modes carried in the state (``modes`` says how many)
         numeric, modes = by_modes
-        method = "scipy.linalg.expm (Pade, scaling and squaring), stepped"  # modes > 0 tells the extended state
-        rtol = atol = None
-    elif forced:
+        method, rtol, atol = "scipy.linalg.expm (Pade, scaling and squaring), stepped", None, None
+    else:
         from scipy.integrate import solve_ivp
 
         try:
@@ -235,15 +234,6 @@ def numeric_check(
         if not sol.success:
             raise _Skip(f"the integrator stopped: {sol.message}")
         numeric, method, rtol, atol, modes = sol.y, "scipy solve_ivp DOP853", RTOL, ATOL, 0
-    else:
-        from scipy.linalg import expm
-
-        step = expm(A * (t_eval[1] - t_eval[0]))
-        numeric = np.empty((n, points))
-        numeric[:, 0] = y0
-        for k in range(1, points):
-            numeric[:, k] = step @ numeric[:, k - 1]
-        method, rtol, atol, modes = "scipy.linalg.expm (Pade, scaling and squaring), stepped", None, None, 0
     try:
         ref = exact(t_eval)
     except bad as exc:
@@ -280,8 +270,6 @@ def _stepped_with_modes(
     evaluated directly on the grid; None (integrate instead) when f is not such
     a sum or the two differ.
     """
-    from scipy.linalg import expm
-
     from .expoly import NotExpPoly, to_expoly
 
     try:
@@ -320,10 +308,16 @@ def _stepped_with_modes(
         M[n + j, n + j] = gamma[j]
         if k:
             M[n + j, n + where[(g, k - 1)]] = k
+    return _stepped(M, np.concatenate([y0, z_grid[:, 0]]), t_eval)[:n].real, m
+
+
+def _stepped(M: np.ndarray, X0: np.ndarray, t_eval: np.ndarray) -> np.ndarray:
+    """X(t_k) = e^{M h} X(t_{k-1}) on an even grid: one matrix exponential for all points."""
+    from scipy.linalg import expm
+
     step = expm(M * (t_eval[1] - t_eval[0]))
-    X = np.empty((n + m, len(t_eval)), dtype=complex)
-    X[:n, 0] = y0
-    X[n:, 0] = z_grid[:, 0]
+    X = np.empty((len(X0), len(t_eval)), dtype=np.result_type(M, X0))
+    X[:, 0] = X0
     for k in range(1, len(t_eval)):
         X[:, k] = step @ X[:, k - 1]
-    return X[:n].real, m
+    return X

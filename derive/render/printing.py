@@ -285,17 +285,18 @@ class _RootStandIns:
     """
 
     _settings: dict[str, Any]
-    _standing = False
+    #: stand-in symbol -> root, while a top-level print is under way (else empty)
+    _standing: dict = {}
 
     def _print(self, expr: Any, **kwargs: Any) -> str:
         if self._standing or not isinstance(expr, (sp.Basic, sp.MatrixBase)) or not expr.has(sp.CRootOf):
             return super()._print(expr, **kwargs)  # type: ignore[misc]
         stand = self._stand_ins(expr)
-        self._standing = True
+        self._standing = {v: k for k, v in stand.items()}
         try:
             return super()._print(expr.xreplace(stand), **kwargs)  # type: ignore[misc]
         finally:
-            self._standing = False
+            self._standing = {}
 
     def _as_ordered_terms(self, expr: Any, order: Any = None) -> list:
         # also called directly, to break a long sum at its terms
@@ -310,11 +311,10 @@ class _RootStandIns:
         stand: dict[sp.Expr, sp.Symbol] = {}
         for r in expr.atoms(sp.CRootOf):
             stand[r] = sp.Symbol("\x00root%04d:%s:%d" % (names.get(r, 0), r.poly.as_expr(), r.index))
-        self._roots_by_stand_in = {v: k for k, v in stand.items()}
         return stand
 
     def _print_Symbol(self, expr: sp.Symbol, *args: Any, **kwargs: Any) -> str:
-        root = getattr(self, "_roots_by_stand_in", {}).get(expr) if self._standing else None
+        root = self._standing.get(expr)
         if root is not None:
             return self._print_ComplexRootOf(root)  # type: ignore[attr-defined]
         return super()._print_Symbol(expr, *args, **kwargs)  # type: ignore[misc]
