@@ -26,7 +26,7 @@ from .relations import regimes as regime_notes
 from .scalar import decouple, solve_blocks
 from .spectral import decompose
 from .steady import steady_state_steps
-from .steps import DecoupleStep, EquationsStep, ResultStep, Step
+from .steps import DecoupleStep, Deferred, EquationsStep, ResultStep, Step
 from .verify import verify
 
 __all__ = ["solve", "solve_system", "solve_case", "build_system"]
@@ -197,6 +197,10 @@ def _constant_names(system: System) -> str:
     return "c_const"
 
 
+def _column(polys, t: sp.Symbol) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix([p.to_expr(t) for p in polys])
+
+
 def _is_real_data(system: System) -> bool:
     items = list(system.A) + list(system.f) + (list(system.x0) if system.x0 is not None else []) + [system.t0]
     if system.t.is_real is False:
@@ -236,8 +240,7 @@ def solve_system(system: System, *, case: Case | None = None, check: bool = True
         sol = solve_general_forcing(system, dec, steps=steps, case=case, check=check)
         return replace(sol, conditions=sol.conditions + _regime_conditions(regimes))
     g_ep = decouple(P_inv, f_ep)
-    g_mat = sp.ImmutableMatrix([g.to_expr(t) for g in g_ep])
-    steps.append(DecoupleStep(t=t, y=y_syms, D=J, P_inv=P_inv, f=system.f, g=g_mat))
+    steps.append(DecoupleStep(t=t, y=y_syms, D=J, P_inv=P_inv, f=system.f, g=Deferred(_column, g_ep, t)))
 
     base = _constant_names(system)
     constants = tuple(sp.Symbol(f"{base}_{i + 1}") for i in range(n))

@@ -8,6 +8,7 @@ from y(t0) = c, that is P c = x0.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from typing import Sequence
 
@@ -15,7 +16,7 @@ import sympy as sp
 
 from .expoly import ExpPoly, conjugate, split_complex
 from .spectral import EigenBlock
-from .steps import InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
+from .steps import Deferred, InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
 __all__ = ["Recombined", "recombine", "conjugate_pairs", "restore_roots", "tidy"]
 
@@ -36,6 +37,24 @@ def _mat(polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr = 0) -> sp.Immutabl
 
 def _real(polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr = 0) -> sp.ImmutableMatrix:
     return sp.ImmutableMatrix([p.real_form(t, t0=t0) for p in polys])
+
+
+def _combined(constants: Sequence[sp.Symbol], phis, t: sp.Symbol, t0: sp.Expr) -> sp.ImmutableMatrix:
+    """sum_j c_j phi_j(t), component by component."""
+    return sp.ImmutableMatrix([sum((c * p.to_expr(t, t0=t0) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)])
+
+
+def _homogeneous_terms(constants: Sequence[sp.Symbol], phis, t: sp.Symbol, t0: sp.Expr) -> tuple:
+    """(scalar function, vector) for each c_j phi_j: c_j e^{lam t} v where phi_j has that shape."""
+    terms = []
+    for c, phi in zip(constants, phis):
+        fs = _factor_scalar(phi, t, t0)
+        terms.append((c, _mat(phi, t, t0)) if fs is None else (c * fs[0], fs[1]))
+    return tuple(terms)
+
+
+def _summed(a, b) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix([u + v for u, v in zip(a(), b())])
 
 
 def _column_layout(blocks: Sequence[EigenBlock]) -> list[list[list[int]]]:
@@ -125,23 +144,17 @@ def recombine(
     split = [x_ep[i].split_linear(constants) for i in range(n)]
     phis = [[split[i][0][k] for i in range(n)] for k in range(len(constants))]
     xp = [split[i][1] for i in range(n)]
-    terms = []
-    for c, phi in zip(constants, phis):
-        fs = _factor_scalar(phi, t, shift)
-        if fs is None:
-            terms.append((c, _mat(phi, t, shift)))
-        else:
-            terms.append((c * fs[0], fs[1]))
-    hom_c = sp.ImmutableMatrix([sum((c * p.to_expr(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)])
-    xp_mat = _mat(xp, t, shift)
+    # the complex-form x = P y is shown on the sheet; it is the result only when no real form is taken
+    hom_c = functools.cache(functools.partial(_combined, constants, phis, t, shift))
+    xp_mat = functools.cache(functools.partial(_mat, xp, t, shift))
     steps: list[Step] = [
         RecombineStep(
             P=P,
-            y=sp.ImmutableMatrix([yy.to_expr(t, t0=shift) for yy in y]),
-            homogeneous_terms=tuple(terms),
-            homogeneous=hom_c,
-            particular=xp_mat,
-            x=sp.ImmutableMatrix([a + b for a, b in zip(hom_c, xp_mat)]),
+            y=Deferred(_mat, y, t, shift),
+            homogeneous_terms=Deferred(_homogeneous_terms, constants, phis, t, shift),
+            homogeneous=Deferred(hom_c),
+            particular=Deferred(xp_mat),
+            x=Deferred(_summed, hom_c, xp_mat),
         )
     ]
     layout = _column_layout(blocks)
@@ -211,8 +224,8 @@ def recombine(
                     vector_im=vi,
                     complex_constants=(values.get(a_sym, a_sym), values.get(b_sym, b_sym)),
                     real_constants=(a_sym, b_sym),
-                    real_part=_real(re_part, t, shift),
-                    imag_part=_real(im_part, t, shift),
+                    real_part=Deferred(_real, re_part, t, shift),
+                    imag_part=Deferred(_real, im_part, t, shift),
                 )
             )
             if ivp:
@@ -234,10 +247,10 @@ def recombine(
             hv = [ExpPoly.combination((values[c], phi[i]) for c, phi in zip(constants, phis)) for i in range(n)]
             homogeneous = _real(hv, t, shift) if do_real else _mat(hv, t, shift)
         else:
-            homogeneous = hom_c if not do_real else sp.ImmutableMatrix(
+            homogeneous = hom_c() if not do_real else sp.ImmutableMatrix(
                 [sum((c * p.real_form(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)]
             )
-        particular = _real(xp, t, shift) if do_real else xp_mat
+        particular = _real(xp, t, shift) if do_real else xp_mat()
         homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
         particular = particular.applyfunc(lambda e: tidy(e, (), t))
     if cs:

@@ -21,7 +21,7 @@ import sympy as sp
 
 from .expoly import ExpPoly, integrate_against, shift_exponents
 from .model import Condition
-from .steps import ScalarStep
+from .steps import Deferred, ScalarStep
 
 __all__ = ["ScalarResult", "solve_blocks", "decouple"]
 
@@ -96,26 +96,21 @@ def solve_blocks(
                     )
                 )
             shift = t - t0 if ivp else t
-            factor = sp.exp(-lam * shift)
-            integrand = (shift_exponents(h, -lam)).to_expr(t)
-            if ivp:
-                integral = (F - ExpPoly.constant(F.at(t0))).to_expr(t)
-            else:
-                integral = F.to_expr(t)
+            # the equation written out is for the sheet: built when it is read
             steps_by_index[i] = ScalarStep(
                 index=i + 1,
                 t=t,
                 y=y_symbols[i],
                 eigenvalue=lam,
-                g=g[i].to_expr(t),
+                g=Deferred(g[i].to_expr, t),
                 coupling=None if last else y_symbols[i + 1],
-                coupling_value=None if last else y[i + 1].to_expr(t, t0=t0 if ivp else 0),
-                rhs=h.to_expr(t),
-                factor=factor,
-                integrand=integrand,
-                integral=integral,
+                coupling_value=None if last else Deferred(_expr, y[i + 1], t, t0 if ivp else 0),
+                rhs=Deferred(h.to_expr, t),
+                factor=Deferred(_factor, lam, shift),
+                integrand=Deferred(_integrand, h, lam, t),
+                integral=Deferred(_integral, F, t, t0 if ivp else None),
                 constant=c,
-                solution=yi.to_expr(t, t0=t0 if ivp else 0),
+                solution=Deferred(_expr, yi, t, t0 if ivp else 0),
                 resonant=res.resonant,
                 t0=t0 if ivp else sp.Integer(0),
                 conjugate_of=conjugates.get(i),
@@ -128,3 +123,20 @@ def solve_blocks(
         conditions=tuple(conditions),
         resonant=tuple(resonant),
     )
+
+
+def _expr(p: ExpPoly, t: sp.Symbol, t0: sp.Expr) -> sp.Expr:
+    return p.to_expr(t, t0=t0)
+
+
+def _factor(lam: sp.Expr, shift: sp.Expr) -> sp.Expr:
+    return sp.exp(-lam * shift)
+
+
+def _integrand(h: ExpPoly, lam: sp.Expr, t: sp.Symbol) -> sp.Expr:
+    return shift_exponents(h, -lam).to_expr(t)
+
+
+def _integral(F: ExpPoly, t: sp.Symbol, t0: sp.Expr | None) -> sp.Expr:
+    """The antiderivative, or the integral from t0 to t for an initial value problem."""
+    return (F if t0 is None else F - ExpPoly.constant(F.at(t0))).to_expr(t)

@@ -20,6 +20,7 @@ F; with disjoint spectra they imply P J P^-1 = A exactly.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Sequence
@@ -35,6 +36,7 @@ from .model import Condition
 from .steps import (
     ChainLink,
     CharPolyStep,
+    Deferred,
     EigenvalueEntry,
     EigenvaluesStep,
     EigenvectorStep,
@@ -465,6 +467,52 @@ def _kind(value: sp.Expr) -> str:
 
 
 # ---------------------------------------------------------------------------
+# display pieces of the steps, built when a sheet reads them (steps.Deferred)
+
+
+def _shifted(A: sp.ImmutableMatrix, lam: sp.Symbol) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix(A - lam * sp.eye(A.rows))
+
+
+def _shown_rref(reduced, fld: _Field, lam: sp.Symbol | None) -> sp.ImmutableMatrix:
+    return _to_matrix(reduced()[0], fld, lam)
+
+
+def _pivots(reduced) -> tuple[int, ...]:
+    return tuple(reduced()[1])
+
+
+def _free(reduced, n: int) -> tuple[int, ...]:
+    return tuple(j for j in range(n) if j not in reduced()[1])
+
+
+def _shown_vectors(chain: Sequence[DomainMatrix], fld: _Field, lam: sp.Symbol | None) -> tuple[sp.ImmutableMatrix, ...]:
+    return tuple(_to_matrix(v, fld, lam) for v in chain)
+
+
+def _chain_links(N: DomainMatrix, chain: Sequence[DomainMatrix], fld: _Field, lam: sp.Symbol | None) -> tuple[ChainLink, ...]:
+    """(A - lam I) v_{k+1} = v_k for each link: the augmented system reduced, and v_{k+1}."""
+    links = []
+    for k in range(len(chain) - 1):
+        aug_rref, _ = _rref(N.hstack(chain[k]))
+        links.append(
+            ChainLink(
+                rhs=_to_matrix(chain[k], fld, lam),
+                augmented_rref=_to_matrix(aug_rref, fld, lam),
+                solution=_to_matrix(chain[k + 1], fld, lam),
+            )
+        )
+    return tuple(links)
+
+
+def _chain_instances(chain: Sequence[sp.ImmutableMatrix], roots: Sequence[sp.Expr], gen: sp.Symbol | None):
+    return tuple(
+        (root, tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen))) for v in chain))
+        for root in roots
+    )
+
+
+# ---------------------------------------------------------------------------
 # the decomposition
 
 
@@ -497,7 +545,7 @@ def decompose(
     steps: list[Step] = [
         CharPolyStep(
             lam=lam,
-            shifted=sp.ImmutableMatrix(A - lam * sp.eye(n)),
+            shifted=Deferred(_shifted, A, lam),
             expanded=expanded,
             factored=factored,
             factors=tuple((f, m) for f, m in factors),
@@ -578,7 +626,7 @@ def decompose(
 
         # the eigenvector step, for the generic root (or the single root)
         show_lam = lam if gen is not None else None
-        rref, pivots = _rref(N)
+        reduced = functools.cache(functools.partial(_rref, N))  # for the sheet only: on first read
         basis_expr = tuple(
             sp.ImmutableMatrix(v.subs(_TH, lam)) if gen is not None else v
             for v in (_scale_chain([_to_matrix(b, fld)], gen)[0] for b in kernels[0])
@@ -622,10 +670,10 @@ def decompose(
                 lam=lam,
                 eigenvalue=roots[0] if gen is None else lam,
                 root_of=None if gen is None else fexpr,
-                shifted=_to_matrix(N, fld, show_lam),
-                rref=_to_matrix(rref, fld, show_lam),
-                pivots=tuple(pivots),
-                free=tuple(j for j in range(n) if j not in pivots),
+                shifted=Deferred(_to_matrix, N, fld, show_lam),
+                rref=Deferred(_shown_rref, reduced, fld, show_lam),
+                pivots=Deferred(_pivots, reduced),
+                free=Deferred(_free, reduced, n),
                 basis=basis_expr,
                 algebraic=mult,
                 instances=tuple(instances),
@@ -634,17 +682,6 @@ def decompose(
         for ch_F, ch_expr in zip(chains_F, chains_expr):
             if len(ch_F) < 2:
                 continue
-            links = []
-            for k in range(len(ch_F) - 1):
-                aug = N.hstack(ch_F[k])
-                aug_rref, _ = _rref(aug)
-                links.append(
-                    ChainLink(
-                        rhs=_to_matrix(ch_F[k], fld, show_lam),
-                        augmented_rref=_to_matrix(aug_rref, fld, show_lam),
-                        solution=_to_matrix(ch_F[k + 1], fld, show_lam),
-                    )
-                )
             chain_steps.append(
                 JordanChainStep(
                     lam=lam,
@@ -652,13 +689,10 @@ def decompose(
                     root_of=None if gen is None else fexpr,
                     algebraic=mult,
                     geometric=geometric,
-                    shifted=_to_matrix(N, fld, show_lam),
-                    vectors=tuple(_to_matrix(v, fld, show_lam) for v in ch_F),
-                    links=tuple(links),
-                    instances=tuple(
-                        (root, tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen))) for v in ch_expr))
-                        for root in roots
-                    ),
+                    shifted=Deferred(_to_matrix, N, fld, show_lam),
+                    vectors=Deferred(_shown_vectors, ch_F, fld, show_lam),
+                    links=Deferred(_chain_links, N, ch_F, fld, show_lam),
+                    instances=Deferred(_chain_instances, ch_expr, tuple(roots), gen),
                 )
             )
 

@@ -16,12 +16,13 @@ concrete values.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import ClassVar
+from dataclasses import dataclass, fields
+from typing import Any, Callable, ClassVar
 
 import sympy as sp
 
 __all__ = [
+    "Deferred",
     "Step",
     "EquationsStep",
     "CharPolyStep",
@@ -50,8 +51,41 @@ __all__ = [
 Matrix = sp.ImmutableMatrix
 
 
+class Deferred:
+    """A field value computed on first read: ``Deferred(fn, *args)`` stands for ``fn(*args)``.
+
+    A stage hands a step the display-only pieces of its derivation this way
+    (the reduced row echelon form shown beside an eigenvector, the scalar
+    equations written out), so a solve that is never rendered does not build
+    them.  The arguments are bound when the step is made, never late.  Reading
+    the field, comparing, printing or pickling the step computes the value once
+    and keeps it; renderers and callers see an ordinary field.
+    """
+
+    __slots__ = ("fn", "args")
+
+    def __init__(self, fn: Callable[..., Any], *args: Any) -> None:
+        self.fn = fn
+        self.args = args
+
+
+class _Resolving:
+    """Mixin of the records that may hold Deferred fields."""
+
+    def __getattribute__(self, name: str) -> Any:
+        value = object.__getattribute__(self, name)
+        if type(value) is Deferred:
+            value = value.fn(*value.args)
+            object.__setattr__(self, name, value)
+        return value
+
+    def __getstate__(self) -> dict[str, Any]:
+        # pickling (batch workers, the cache) sends values, never the closures
+        return {f.name: getattr(self, f.name) for f in fields(self)}  # type: ignore[arg-type]
+
+
 @dataclass(frozen=True)
-class Step:
+class Step(_Resolving):
     """Base of all step records.  ``kind`` names the renderer partial."""
 
     kind: ClassVar[str] = "step"
@@ -129,7 +163,7 @@ class EigenvectorStep(Step):
 
 
 @dataclass(frozen=True)
-class ChainLink:
+class ChainLink(_Resolving):
     """(A - lam I) v_next = v_prev: the augmented system, reduced, and v_next."""
 
     rhs: Matrix
@@ -246,7 +280,7 @@ class RecombineStep(Step):
 
 
 @dataclass(frozen=True)
-class RealFormPair:
+class RealFormPair(_Resolving):
     """A complex pair lam, conj(lam) = a +- i b rewritten in real form."""
 
     eigenvalue: sp.Expr

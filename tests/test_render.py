@@ -562,3 +562,48 @@ def test_indexed_roots_print_as_polynomials_without_evaluating_the_root(monkeypa
     assert "(lambda_2**4 - lambda_2**2 + lambda_2 - 1)*exp(lambda_2*t)" in text
     # a root the sheet did not name is still said in full
     assert r"\text{root } 1 \text{ of }" in SheetLatexPrinter().doprint(r + 1)
+
+
+# ---------------------------------------------------------------------------
+# deferred step fields (display-only pieces built on first read)
+
+
+def test_a_deferred_field_is_computed_once_and_reads_as_a_value():
+    import pickle
+
+    from derive.steps import CharPolyStep, Deferred
+
+    calls = []
+
+    def shifted(k):
+        calls.append(k)
+        return sp.ImmutableMatrix([[k]])
+
+    lam = sp.Symbol("lambda")
+    step = CharPolyStep(lam=lam, shifted=Deferred(shifted, 3), expanded=lam, factored=lam, factors=((lam, 1),), domain="QQ")
+    assert calls == []
+    assert step.shifted == sp.ImmutableMatrix([[3]])
+    assert step.shifted == sp.ImmutableMatrix([[3]])
+    assert calls == [3]
+    # a lambda cannot be pickled: pickling must send the value, not the recipe
+    other = CharPolyStep(lam=lam, shifted=Deferred(lambda: sp.ImmutableMatrix([[5]])), expanded=lam, factored=lam, factors=((lam, 1),), domain="QQ")
+    back = pickle.loads(pickle.dumps(other))
+    assert back.shifted == sp.ImmutableMatrix([[5]])
+    assert back == other
+    assert dataclasses.replace(step, domain="ZZ").shifted == sp.ImmutableMatrix([[3]])
+
+
+def test_a_pickled_solution_renders_the_same_sheet():
+    """The batch workers pickle solutions before any sheet is made: the deferred
+    pieces travel as values and the sheet is the same as one made in place."""
+    import pickle
+
+    import derive
+
+    t = sp.Symbol("t")
+    # a defective block (Jordan chain), a complex pair (real form) and a forcing
+    A = [[-1, 1, 0, 0], [0, -1, 0, 0], [0, 0, -1, 2], [0, 0, -2, -1]]
+    sol = derive.solve(A, [0, sp.exp(-2 * t), 0, 1], t=t, x0=[1, 0, 0, 1])
+    copy = pickle.loads(pickle.dumps(sol))
+    for fmt in ("latex", "json", "markdown"):
+        assert render(copy, fmt) == render(sol, fmt)
