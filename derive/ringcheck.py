@@ -29,6 +29,7 @@ from typing import Sequence
 import sympy as sp
 import sympy.polys.domains.old_polynomialring  # noqa: F401 - domain unification imports it on first use
 from sympy.polys.polyerrors import PolynomialError
+from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyRing
 
 __all__ = ["residual_is_zero", "initial_is_zero"]
@@ -36,6 +37,10 @@ __all__ = ["residual_is_zero", "initial_is_zero"]
 
 class _NotInRing(Exception):
     pass
+
+
+class _NotRational(Exception):
+    """An expression the walk into Q[gens] does not read; the general reading does."""
 
 
 class _Ring:
@@ -126,6 +131,60 @@ class _Ring:
         rels = [rel for _, rel in self.relations]
         every = [self._alg_expr(e) for e in held + rate_exprs + rels]
         try:
+            out = self._rational_elements(every)
+        except _NotRational:
+            out = self._general_elements(every, len(held))
+        R = self.R
+        k = len(held)
+        # D p = dp/dt + sum over generators g of (dp/dg) g', with g' in the ring
+        self._rate_elems = [(R.gens[self.gens.index(g)], e) for g, e in zip(self.rates, out[k : k + len(rate_exprs)])]
+        self._rel_elems = [r.monic() for r in out[k + len(rate_exprs) :]]
+        return out[:k]
+
+    def _rational_elements(self, every: Sequence[sp.Expr]) -> list:
+        """Every expression read straight into Q[gens] by one walk of its tree.
+
+        With the functions held and the algebraic numbers and symbols as
+        generators, the coefficients of a solution over Q are rational, and
+        sums, products and powers of ring elements are the ring's own
+        arithmetic: nothing is expanded as an expression first.  Anything else
+        (a float, a symbol in a denominator, a constant like pi) is left to
+        the general reading.
+        """
+        R = PolyRing([str(g) for g in range(len(self.gens))], QQ)
+        index = dict(zip(self.gens, R.gens))
+        memo: dict[sp.Expr, object] = {}
+
+        def walk(e: sp.Expr):
+            got = memo.get(e)
+            if got is not None:
+                return got
+            if e.is_Rational:
+                got = R.ground_new(QQ(int(e.p), int(e.q)))
+            elif e in index:
+                got = index[e]
+            elif e.is_Add:
+                got = R.zero
+                for a in e.args:
+                    got = got + walk(a)
+            elif e.is_Mul:
+                got = R.one
+                for a in e.args:
+                    got = got * walk(a)
+            elif e.is_Pow and e.exp.is_Integer and e.exp >= 0:
+                got = walk(e.base) ** int(e.exp)
+            else:
+                raise _NotRational
+            memo[e] = got
+            return got
+
+        out = [walk(e) for e in every]
+        self.R = R
+        return out
+
+    def _general_elements(self, every: Sequence[sp.Expr], k: int) -> list:
+        """The expressions read by sympy's polynomial constructor, over the field it finds."""
+        try:
             polys, opt = sp.parallel_poly_from_expr(every, *self.gens)
         except (PolynomialError, sp.CoercionFailed, ValueError, TypeError) as exc:
             raise _NotInRing(str(exc)) from None
@@ -133,18 +192,13 @@ class _Ring:
         if dom.is_EX or dom.is_EXRAW:
             raise _NotInRing("coefficients outside a polynomial domain")
         if not (dom.is_Numerical or dom.is_Algebraic) and any(
-            c.has(self.t) for p in polys[: len(held)] for c in p.coeffs()
+            c.has(self.t) for p in polys[:k] for c in p.coeffs()
         ):
             raise _NotInRing("t in a coefficient")
         field = dom if dom.is_Field else dom.get_field()
         R = PolyRing([str(g) for g in range(len(self.gens))], field)
         self.R = R
-        out = [R.from_dict({m: field.convert(c, dom) for m, c in p.rep.to_dict().items()}) for p in polys]
-        k = len(held)
-        # D p = dp/dt + sum over generators g of (dp/dg) g', with g' in the ring
-        self._rate_elems = [(R.gens[self.gens.index(g)], e) for g, e in zip(self.rates, out[k : k + len(rate_exprs)])]
-        self._rel_elems = [r.monic() for r in out[k + len(rate_exprs) :]]
-        return out[:k]
+        return [R.from_dict({m: field.convert(c, dom) for m, c in p.rep.to_dict().items()}) for p in polys]
 
     def derivative(self, p):
         out = p.diff(self.R.gens[0])

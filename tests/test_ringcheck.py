@@ -131,6 +131,30 @@ def test_initial_values_agree_with_substitution(x1):
     assert not initial_is_zero([x1], [v + 1], t)
 
 
+_params = st.sampled_from([sp.Integer(1), sp.Symbol("k"), sp.Symbol("c_1"), 1 / sp.Symbol("m"), sp.pi])
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(exp_poly(), _params)
+def test_the_walk_into_q_reads_as_sympys_polynomial_constructor(x1, p):
+    """The one-walk reading of an expression into Q[gens] gives the same element as
+    sympy's parallel_poly_from_expr (the independent reference), and declines
+    what is not rational (1/m, pi) instead of reading it wrongly."""
+    from derive.ringcheck import _NotRational, _Ring
+
+    e = sp.expand(x1 * p) + x1**2
+    ring = _Ring([e], t)
+    held = [ring._alg_expr(e.xreplace(ring.hold))]
+    try:
+        fast = ring._rational_elements(held)[0]
+    except _NotRational:
+        assert p.has(sp.pi) or any(b.is_Pow and b.exp.is_negative for b in sp.preorder_traversal(p))
+        return
+    slow = ring._general_elements(held, 1)[0]
+    assert fast.ring.domain == slow.ring.domain == sp.QQ
+    assert dict(fast) == dict(slow)
+
+
 def test_solutions_of_the_solver_are_settled_exactly():
     # the casus irreducibilis cubic: three indexed roots of one polynomial
     A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])  # lambda^3 - 3 lambda - 1
