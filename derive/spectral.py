@@ -470,6 +470,10 @@ def _kind(value: sp.Expr) -> str:
 # display pieces of the steps, built when a sheet reads them (steps.Deferred)
 
 
+def _product(P: sp.ImmutableMatrix, J: sp.ImmutableMatrix, P_inv: sp.ImmutableMatrix) -> sp.ImmutableMatrix:
+    return sp.ImmutableMatrix((P * J * P_inv).applyfunc(sp.cancel))
+
+
 def _shifted(A: sp.ImmutableMatrix, lam: sp.Symbol) -> sp.ImmutableMatrix:
     return sp.ImmutableMatrix(A - lam * sp.eye(A.rows))
 
@@ -739,14 +743,17 @@ def decompose(
 
     all_in_K = all(b.form in ("rational", "exact") for b in blocks)
     if all_in_K:
+        # every number lies in K: P^-1 again by elimination on [P | I], and both
+        # checks (the same inverse, P J P^-1 = A) as exact arithmetic in K
         PK = _dm(P, K)
         det = sp.factor(K.to_sympy(PK.det()))
-        inv_direct = _to_matrix(_inv(PK), _Field(K, K, None, None))
-        field_ok = field_ok and all(sp.cancel(a - b) == 0 for a, b in zip(inv_direct, P_inv))
+        inv_K = _inv(PK)
+        inv_direct = _to_matrix(inv_K, _Field(K, K, None, None))
+        field_ok = field_ok and inv_K.to_dense() == _dm(P_inv, K).to_dense()
         P_inv = sp.ImmutableMatrix(inv_direct.applyfunc(sp.factor if has_params else (lambda e: e)))
         method = "Gauss-Jordan elimination on [P | I]"
-        product = sp.ImmutableMatrix((P * J * P_inv).applyfunc(sp.cancel))
-        sim_ok = field_ok and product == A.applyfunc(sp.cancel)
+        sim_ok = field_ok and (PK * _dm(J, K) * inv_K).to_dense() == A_K.to_dense()
+        product = Deferred(_product, P, J, P_inv)
     else:
         exact = small_field(P, J, P_inv, A)  # one field for det P and the similarity check
         det = _det_display(P, exact)

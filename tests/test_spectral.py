@@ -334,3 +334,33 @@ def test_reduce_roots_keeps_the_value_and_cuts_the_degree(build):
         syms = sp.symbols("u v")
         num = sp.lambdify(syms, (e - out).xreplace(dict(zip((r, s), syms))), "mpmath")
         assert abs(num(value[r], value[s])) < mpmath.mpf("1e-40")
+
+
+@pytest.mark.parametrize(
+    "A",
+    [
+        sp.Matrix([[2, 1], [1, 2]]),  # distinct rational
+        sp.Matrix([[3, 1, 0], [0, 3, 0], [0, 0, -1]]),  # a Jordan block
+        sp.Matrix([[0, 1], [-sp.Symbol("k"), -1 - sp.Symbol("k")]]),  # roots -1 and -k, in QQ(k)
+    ],
+)
+def test_a_wrong_inverse_fails_the_exact_check_over_k(A, monkeypatch):
+    """All eigenvalues in K: P^-1 from the left vectors is compared with elimination on
+    [P | I] and P J P^-1 with A, in K.  A slip in the left vectors must stop the solve."""
+    import derive.spectral as spectral
+    from derive.errors import VerificationError
+
+    dec = spectral.decompose(A)
+    assert dec.steps[-1].ok
+    assert sp.simplify(dec.P * dec.J * dec.P_inv - A) == sp.zeros(*A.shape)
+    real_to_matrix = spectral._to_matrix
+
+    def slipped(M, fld, lam=None):
+        out = real_to_matrix(M, fld, lam)
+        if M.shape == (1, A.rows) or (M.shape[0] < A.rows and M.shape[1] == A.rows):  # the left rows W
+            out = out + sp.ImmutableMatrix(M.shape[0], M.shape[1], lambda i, j: 1 if (i, j) == (0, 0) else 0)
+        return out
+
+    monkeypatch.setattr(spectral, "_to_matrix", slipped)
+    with pytest.raises(VerificationError, match="P D P\\^-1 = A"):
+        spectral.decompose(A)
