@@ -376,6 +376,22 @@ def _normalise_chain(chain: list[DomainMatrix], fld: _Field) -> list[DomainMatri
     return best
 
 
+def _scale_rational_chain(chain: list[DomainMatrix]) -> list[DomainMatrix]:
+    """``_scale_chain`` for vectors over QQ, in QQ: the smallest integer multiple,
+    first nonzero entry of v_1 positive."""
+    entries = [e for v in chain for row in v.to_dense().rep.to_ddm() for e in row if e]
+    if not entries:
+        return chain
+    L = math.lcm(*[int(e.denominator) for e in entries])
+    G = math.gcd(*[int(e.numerator) * (L // int(e.denominator)) for e in entries])
+    dom = chain[0].domain
+    factor = dom(L) / dom(G)
+    first = next((row[0] for row in chain[0].to_dense().rep.to_ddm() if row[0]), None)
+    if first is not None and first < 0:
+        factor = -factor
+    return [v * factor for v in chain]
+
+
 def _scale_chain(chain: list[sp.ImmutableMatrix], gen: sp.Symbol | None) -> list[sp.ImmutableMatrix]:
     """Scale a whole chain by one factor so its entries are small and integral.
 
@@ -594,12 +610,19 @@ def decompose(
             )
         # chains as expressions in the generic root, scaled to small integers
         chains_expr = []
+        scaled_F = []
         for ch in chains_F:
+            if Fdom.is_QQ:
+                ch = _scale_rational_chain(ch)
+                scaled_F.append(ch)
+                chains_expr.append([_to_matrix(v, fld) for v in ch])
+                continue
             if gen is not None:
                 ch = _normalise_chain(ch, fld)
-            vecs = [_to_matrix(v, fld) for v in ch]
-            chains_expr.append(_scale_chain(vecs, gen))
-        chains_F = [[_column([fld.from_expr(e) for e in v], Fdom) for v in ch] for ch in chains_expr]
+            scaled = _scale_chain([_to_matrix(v, fld) for v in ch], gen)
+            chains_expr.append(scaled)
+            scaled_F.append([_column([fld.from_expr(e) for e in v], Fdom) for v in scaled])
+        chains_F = scaled_F
         V = _cols_to_dm([v for ch in chains_F for v in ch], Fdom, n)
         # left generalised eigenspace and the dual rows
         s = max(len(ch) for ch in chains_F)
@@ -752,7 +775,8 @@ def decompose(
         field_ok = field_ok and inv_K.to_dense() == _dm(P_inv, K).to_dense()
         P_inv = sp.ImmutableMatrix(inv_direct.applyfunc(sp.factor if has_params else (lambda e: e)))
         method = "Gauss-Jordan elimination on [P | I]"
-        sim_ok = field_ok and (PK * _dm(J, K) * inv_K).to_dense() == A_K.to_dense()
+        # with P invertible (its inverse was just found), A P = P J is P J P^-1 = A
+        sim_ok = field_ok and (A_K * PK).to_dense() == (PK * _dm(J, K).to_sparse()).to_dense()
         product = Deferred(_product, P, J, P_inv)
     else:
         exact = small_field(P, J, P_inv, A)  # one field for det P and the similarity check
