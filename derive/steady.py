@@ -16,6 +16,7 @@ which the integrating-factor form of the particular part does not show.
 
 from __future__ import annotations
 
+import functools
 from typing import Mapping, Sequence
 
 import sympy as sp
@@ -26,7 +27,7 @@ from .model import System
 from .recombine import tidy
 from .ringcheck import residual_is_zero
 from .spectral import small_field
-from .steps import SteadyStateStep
+from .steps import Deferred, SteadyStateStep
 
 __all__ = ["steady_state_steps", "stability"]
 
@@ -134,6 +135,38 @@ def steady_state_steps(
             return ()
     f0 = sp.ImmutableMatrix([ep.as_dict().get((0, zero), zero) for ep in eps])
     has_const = any(e != 0 for e in f0)
+    # the step applies: what it shows is worked out when the sheet reads it
+    content = functools.cache(functools.partial(_content, A, f, f0, has_const, eps, omega, x, t))
+    return (
+        SteadyStateStep(
+            t=t,
+            eigenvalues=tuple(dict.fromkeys(eigenvalues)),
+            stability=basis,
+            forcing=f,
+            constant=f0 if has_const else None,
+            x_constant=Deferred(_part, content, "x_constant"),
+            omega=omega,
+            phasor_in=Deferred(_part, content, "phasor_in"),
+            phasor=Deferred(_part, content, "phasor"),
+            amplitude=Deferred(_part, content, "amplitude"),
+            phase=Deferred(_part, content, "phase"),
+            x_ss=Deferred(_part, content, "x_ss"),
+            transient=Deferred(_part, content, "transient"),
+            since=since,
+            residual_zero=Deferred(_part, content, "residual_zero"),
+        ),
+    )
+
+
+def _part(content, name: str):
+    return content()[name]
+
+
+def _content(A: sp.Matrix, f: sp.ImmutableMatrix, f0: sp.ImmutableMatrix, has_const: bool, eps, omega, x, t) -> dict:
+    """x_ss = -A^-1 f0 plus Re(X e^{i w t}), its amplitudes and phases, its own
+    substitution check and the transient x - x_ss."""
+    n = A.rows
+    zero = sp.Integer(0)
     x_const = None
     x_ss = sp.Matrix.zeros(n, 1)
     if has_const:
@@ -164,23 +197,13 @@ def steady_state_steps(
     ok = residual_is_zero(list(x_ss), A, list(f), t) or all(
         decide_zero(x_ss[i].diff(t) - (A.row(i) * x_ss)[0] - f[i]).zero for i in range(n)
     )
-    transient = sp.ImmutableMatrix([tidy(a - b, (), t) for a, b in zip(x, x_ss)])
-    return (
-        SteadyStateStep(
-            t=t,
-            eigenvalues=tuple(dict.fromkeys(eigenvalues)),
-            stability=basis,
-            forcing=f,
-            constant=f0 if has_const else None,
-            x_constant=x_const,
-            omega=omega,
-            phasor_in=F,
-            phasor=X,
-            amplitude=amplitude,
-            phase=phase,
-            x_ss=x_ss,
-            transient=transient,
-            since=since,
-            residual_zero=ok,
-        ),
-    )
+    return {
+        "x_constant": x_const,
+        "phasor_in": F,
+        "phasor": X,
+        "amplitude": amplitude,
+        "phase": phase,
+        "x_ss": x_ss,
+        "transient": sp.ImmutableMatrix([tidy(a - b, (), t) for a, b in zip(x, x_ss)]),
+        "residual_zero": ok,
+    }
