@@ -140,10 +140,21 @@ def recombine(
     n = P.rows
     ivp = x0 is not None
     shift = t0 if ivp else sp.Integer(0)
-    x_ep = [ExpPoly.combination((P[i, j], y[j]) for j in range(n)) for i in range(n)]
-    split = [x_ep[i].split_linear(constants) for i in range(n)]
-    phis = [[split[i][0][k] for i in range(n)] for k in range(len(constants))]
-    xp = [split[i][1] for i in range(n)]
+    if not P.free_symbols:
+        # y is linear in the constants: split it first, so x = P y is formed from
+        # constant-free coefficients, numbers that need no expansion
+        y_split = [yj.split_linear(constants) for yj in y]
+        phis = [
+            [ExpPoly.combination((P[i, j], y_split[j][0][k]) for j in range(n)) for i in range(n)]
+            for k in range(len(constants))
+        ]
+        xp = [ExpPoly.combination((P[i, j], y_split[j][1]) for j in range(n)) for i in range(n)]
+    else:
+        # parameters: x = P y first, whose coefficients factor over their denominators
+        x_ep = [ExpPoly.combination((P[i, j], y[j]) for j in range(n)) for i in range(n)]
+        split = [x_ep[i].split_linear(constants) for i in range(n)]
+        phis = [[split[i][0][k] for i in range(n)] for k in range(len(constants))]
+        xp = [split[i][1] for i in range(n)]
     # the complex-form x = P y is shown on the sheet; it is the result only when no real form is taken
     hom_c = functools.cache(functools.partial(_combined, constants, phis, t, shift))
     xp_mat = functools.cache(functools.partial(_mat, xp, t, shift))
