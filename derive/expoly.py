@@ -208,6 +208,31 @@ class ExpPoly:
         return sp.Add(*out)
 
 
+def exponential_groups(p: "ExpPoly", t: sp.Symbol, *, real: bool) -> list[tuple[sp.Expr, sp.Expr]]:
+    """(rate, term) pairs with p(t) = sum of term * e^{rate t}, for t0 = 0.
+
+    In complex form the rate is each gamma and the term c t^k; in real form
+    (``real_form``) the rate is Re gamma and the term t^k times the real
+    combination of cos and sin.  A rate may repeat: the caller groups.
+    """
+    if not real:
+        return [(g, c * t**k) for (k, g), c in p.terms]
+    grouped: dict[tuple[int, sp.Expr, sp.Expr], list[sp.Expr]] = {}
+    for (k, g), c in p.terms:
+        a, b = split_complex(g)
+        if b != 0 and _is_negative(b):
+            continue  # its conjugate partner carries the pair
+        grouped.setdefault((k, a, b), []).append(c)
+    out = []
+    for (k, a, b), cs in grouped.items():
+        cr, ci = split_complex(sp.Add(*cs))
+        if b == 0:
+            out.append((a, cr * t**k))
+        else:
+            out.append((a, 2 * t**k * (cr * sp.cos(b * t) - ci * sp.sin(b * t))))
+    return out
+
+
 def _shifted(c: sp.Expr, a: sp.Expr, t0: sp.Expr) -> sp.Expr:
     if t0 == 0 or a == 0:
         return c

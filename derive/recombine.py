@@ -14,7 +14,7 @@ from typing import Sequence
 
 import sympy as sp
 
-from .expoly import ExpPoly, conjugate, split_complex
+from .expoly import ExpPoly, conjugate, exponential_groups, split_complex
 from .spectral import EigenBlock
 from .steps import Deferred, InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
@@ -197,7 +197,8 @@ def recombine(
     cs = () if ivp else tuple(constants)  # the free constants of the result
     real_pairs: list[RealFormPair] = []
     hom_terms: list[list[tuple[sp.Expr, ExpPoly]]] = [[] for _ in range(n)]  # an IVP's c_j phi_j, summed once
-    hom_real_expr = [sp.Integer(0)] * n
+    hom_real: list[list[tuple[sp.Expr, ExpPoly]]] = [[] for _ in range(n)]  # a general solution's real pairs
+    hv: list[ExpPoly] | None = None  # an IVP's homogeneous part
     if do_real and pairs:
         paired_cols: dict[int, tuple[int, int]] = {}
         for bi, bj in pairs:
@@ -210,7 +211,6 @@ def recombine(
             if idx not in paired_cols:
                 cc = values.get(c, c)
                 for i in range(n):
-                    hom_real_expr[i] += cc * phi[i].real_form(t, t0=shift) if not ivp else 0
                     hom_terms[i].append((cc, phi[i]))
                 continue
             ci, cj = paired_cols[idx]
@@ -244,30 +244,29 @@ def recombine(
                     hom_terms[i] += [(values[a_sym], phi[i]), (values[b_sym], phis[cj][i])]
             else:
                 for i in range(n):
-                    hom_real_expr[i] += a_sym * re_part[i].real_form(t, t0=shift) + b_sym * im_part[i].real_form(t, t0=shift)
+                    hom_real[i] += [(a_sym, re_part[i]), (b_sym, im_part[i])]
         if ivp:
-            homogeneous = _real([ExpPoly.combination(terms) for terms in hom_terms], t, shift)
+            hv = [ExpPoly.combination(terms) for terms in hom_terms]
+            homogeneous = _grouped_each(hv, t, shift, real=True)
         else:
-            homogeneous = sp.ImmutableMatrix(hom_real_expr)
-        particular = _real(xp, t, shift)
-        homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
-        particular = particular.applyfunc(lambda e: tidy(e, (), t))
+            # the real constants of the pairs, and the constants of the real eigenvalues
+            homogeneous = sp.ImmutableMatrix([grouped(hom_real[i] + hom_terms[i], cs, t, real=True) for i in range(n)])
+        particular = _grouped_each(xp, t, shift, real=True)
         steps.append(RealFormStep(t=t, pairs=tuple(real_pairs), homogeneous=homogeneous, particular=particular))
     else:
         if ivp:
             hv = [ExpPoly.combination((values[c], phi[i]) for c, phi in zip(constants, phis)) for i in range(n)]
-            homogeneous = _real(hv, t, shift) if do_real else _mat(hv, t, shift)
+            homogeneous = _grouped_each(hv, t, shift, real=do_real)
         else:
-            homogeneous = hom_c() if not do_real else sp.ImmutableMatrix(
-                [sum((c * p.real_form(t, t0=shift) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)]
-            )
-        particular = _real(xp, t, shift) if do_real else xp_mat()
-        homogeneous = homogeneous.applyfunc(lambda e: tidy(e, cs, t))
-        particular = particular.applyfunc(lambda e: tidy(e, (), t))
+            homogeneous = sp.ImmutableMatrix([grouped(list(zip(constants, col)), cs, t, real=do_real) for col in zip(*phis)])
+        particular = _grouped_each(xp, t, shift, real=do_real)
     if cs:
         # a general solution: the homogeneous part is grouped by constant and the
         # particular part holds none, so the two groupings are already disjoint
         x = sp.ImmutableMatrix([a + b for a, b in zip(homogeneous, particular)])
+    elif shift == 0 and hv is not None:
+        # an initial value problem: one grouping of the whole x(t) by exponential
+        x = sp.ImmutableMatrix([grouped([(sp.Integer(1), h + p)], (), t, real=do_real) for h, p in zip(hv, xp)])
     else:
         x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])
     return Recombined(
@@ -278,6 +277,58 @@ def recombine(
         steps=tuple(steps),
         real_form=do_real,
     )
+
+
+def _grouped_each(xp: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr, *, real: bool) -> sp.ImmutableMatrix:
+    """Each p(t) grouped by exponential (``grouped``, or tidy on the shifted form when t0 != 0)."""
+    if t0 == 0:
+        return sp.ImmutableMatrix([grouped([(sp.Integer(1), p)], (), t, real=real) for p in xp])
+    shown = _real(xp, t, t0) if real else _mat(xp, t, t0)
+    return shown.applyfunc(lambda e: tidy(e, (), t))
+
+
+def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Symbol], t: sp.Symbol, *, real: bool) -> sp.Expr:
+    """tidy(sum of c p(t)) for t0 = 0, built from the exponential polynomials.
+
+    ``pairs`` holds (c, p) with c one of ``constants`` or a number.  The
+    grouping is tidy's (by constant, then by exponential, each coefficient
+    expanded, and factored term by term where parameters appear), but nothing
+    is expanded as a whole and taken apart again.  Where a coefficient holds
+    an exponential of its own (a number e^2 from the forcing), tidy reads the
+    expression instead.
+    """
+    by_const: dict[sp.Expr, dict[sp.Expr, list[sp.Expr]]] = {}
+    numbers: list[tuple[sp.Expr, ExpPoly]] = []
+    for c, p in pairs:
+        if c not in constants:
+            numbers.append((c, p))
+            continue
+        groups = by_const.setdefault(c, {})
+        for rate, term in exponential_groups(p, t, real=real):
+            groups.setdefault(rate, []).append(term)
+    if numbers:
+        rest = by_const.setdefault(sp.Integer(1), {})
+        summed = numbers[0][1] if len(numbers) == 1 and numbers[0][0] == 1 else ExpPoly.combination(numbers)
+        for rate, term in exponential_groups(summed, t, real=real):
+            rest.setdefault(rate, []).append(term)
+    terms = [term for groups in by_const.values() for ts in groups.values() for term in ts]
+    if any(term.has(sp.exp) for term in terms):
+        expr = sp.Add(*[c * (p.real_form(t) if real else p.to_expr(t)) for c, p in pairs])
+        return tidy(expr, constants, t)
+    known = set(constants) | {t}
+    has_params = any(term.free_symbols - known for term in terms)
+    out = []
+    for c, groups in by_const.items():
+        inner = []
+        for rate, ts in groups.items():
+            coeff = sp.expand(sp.Add(*ts))
+            if coeff == 0:
+                continue
+            if has_params:
+                coeff = _factor_by_trig(coeff)
+            inner.append(coeff if rate == 0 else sp.exp(sp.factor_terms(rate * t)) * coeff)
+        out.append(c * sp.Add(*inner))
+    return sp.Add(*out)
 
 
 def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:

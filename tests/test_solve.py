@@ -345,3 +345,44 @@ def test_size_six_distinct_solves_and_verifies():
     sol = derive.solve(A, [1, 0, t, 0, sp.exp(-t), 0], x0=[1, 0, 0, 0, 0, 0])
     assert sol.verification.ok
     assert residual(A, [1, 0, t, 0, sp.exp(-t), 0], sol.x) == sp.zeros(6, 1)
+
+
+# ---------------------------------------------------------------------------
+# recombine.grouped: the grouped x(t) built from exponential polynomials
+
+
+_g_rates = st.sampled_from([sp.Integer(0), sp.Integer(-1), sp.Rational(-1, 2), sp.Integer(2), sp.sqrt(3)])
+_g_freqs = st.sampled_from([sp.Integer(0), sp.Integer(1), sp.Integer(3), sp.sqrt(2)])
+_g_coeffs = st.sampled_from([sp.Integer(1), sp.Integer(-3), sp.Rational(2, 5), sp.sqrt(2), 1 + sp.sqrt(3), sp.Symbol("k", real=True)])  # real data, as the real form requires
+
+
+@st.composite
+def _real_function(draw):
+    T = sp.Symbol("t")
+    terms = []
+    for _ in range(draw(st.integers(1, 3))):
+        c, a, b = draw(_g_coeffs), draw(_g_rates), draw(_g_freqs)
+        trig = draw(st.sampled_from([sp.cos, sp.sin]))
+        terms.append(c * T ** draw(st.integers(0, 2)) * sp.exp(a * T) * trig(b * T))
+    return sp.Add(*terms)
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(_real_function(), min_size=1, max_size=3), st.booleans(), st.booleans())
+def test_grouped_form_equals_tidy_of_the_written_sum(funcs, real, with_constants):
+    """grouped() must give exactly what tidy() gives on the sum written out (the form the
+    sheets have always shown), and that must equal the sum itself (sympy's expand as the
+    independent check)."""
+    from derive.expoly import to_expoly
+    from derive.recombine import grouped, tidy
+
+    T = sp.Symbol("t")
+    consts = sp.symbols("c_1:4")
+    ps = [to_expoly(f, T) for f in funcs]
+    cs = consts[: len(ps)] if with_constants else tuple(sp.Integer(j + 2) for j in range(len(ps)))
+    pairs = list(zip(cs, ps))
+    written = sp.Add(*[c * (p.real_form(T) if real else p.to_expr(T)) for c, p in pairs])
+    keep = consts if with_constants else ()
+    got = grouped(pairs, keep, T, real=real)
+    assert got == tidy(written, keep, T)
+    assert sp.expand((got - sp.Add(*[c * f for c, f in zip(cs, funcs)])).rewrite(sp.exp)) == 0
