@@ -24,31 +24,36 @@ DIGITS = 50
 POINTS = 4
 
 
-def numeric_function(args, expr, modules):
+def numeric_function(args, expr, modules, *, values=None):
     """A numeric function of an expression (or a list of them).
 
     For numpy and one variable, sums, products, powers, exp, sin and cos of
     it are evaluated by walking the tree (``_TreeFunction``): lambdify prints
     the expression as source and compiles it, which costs more than the
     evaluation on a grid.  Anything else goes to sympy's lambdify, without its
-    docstring (which prints the expression once more).
+    docstring (which prints the expression once more).  ``values`` maps other
+    symbols to numbers (the sampled constants of a general solution): the walk
+    reads them as it goes, lambdify gets the expression with them put in.
     """
+    values = dict(values or {})
+    exprs = list(expr) if isinstance(expr, (list, tuple)) else None
     if modules in ("numpy", ["numpy"]) and isinstance(args, sp.Symbol):
-        exprs = list(expr) if isinstance(expr, (list, tuple)) else None
-        if all(_walkable(e, args) for e in (exprs if exprs is not None else [expr])):
-            return _TreeFunction(args, exprs if exprs is not None else expr)
+        if all(_walkable(e, args, values) for e in (exprs if exprs is not None else [expr])):
+            return _TreeFunction(args, exprs if exprs is not None else expr, values)
+    if values:
+        expr = [e.xreplace(values) for e in exprs] if exprs is not None else expr.xreplace(values)
     return sp.lambdify(args, expr, modules=modules, docstring_limit=0)
 
 
 _UNARY = {sp.exp: "exp", sp.sin: "sin", sp.cos: "cos"}
 
 
-def _walkable(e, x: sp.Symbol) -> bool:
+def _walkable(e, x: sp.Symbol, values=()) -> bool:
     if not isinstance(e, sp.Basic):
         return False
     for node in sp.preorder_traversal(e):
         if node.is_Atom:
-            if node.is_Symbol and node != x:
+            if node.is_Symbol and node != x and node not in values:
                 return False
             if not (node.is_Symbol or node.is_number):
                 return False
@@ -60,9 +65,10 @@ def _walkable(e, x: sp.Symbol) -> bool:
 class _TreeFunction:
     """Evaluate expressions in one variable on numpy arrays, node by node (complex128)."""
 
-    def __init__(self, x: sp.Symbol, expr) -> None:
+    def __init__(self, x: sp.Symbol, expr, values=None) -> None:
         self.x = x
         self.expr = expr
+        self.values = {s: complex(v) for s, v in (values or {}).items()}
 
     def __call__(self, value):
         v = np.asarray(value)
@@ -84,6 +90,8 @@ class _TreeFunction:
             return got
         if e == self.x:
             out = v.astype(complex)
+        elif e.is_Symbol:
+            out = self.values[e]
         elif e.is_number:
             out = complex(e)
         elif e.is_Add:

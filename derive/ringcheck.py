@@ -65,11 +65,12 @@ class _Ring:
             self.hold[a] = sp.Dummy(f"G{i}")
         for a, g in self.hold.items():
             u = a.args[0]
-            du = sp.diff(u, t)
+            du = _rate(u, t)
             if du.has(t):
                 raise _NotInRing("an argument not linear in t")
             rates[g] = (type(a).__name__, du, u)
-        held = [e.xreplace(self.hold) for e in exprs] + [du for _, du, _ in rates.values()]
+        self._held = {e: e.xreplace(self.hold) for e in exprs}  # elements() reads the same expressions
+        held = list(self._held.values()) + [du for _, du, _ in rates.values()]
         # algebraic numbers as generators, with their relations
         alg: dict[sp.Expr, sp.Dummy] = {}
         # (generator, relation expression in it that vanishes)
@@ -119,7 +120,10 @@ class _Ring:
         They are read together with the rates of the generators and the
         algebraic relations, so all share one coefficient domain (a field).
         """
-        held = [sp.sympify(e, strict=True).xreplace(self.hold) for e in exprs]
+        held = []
+        for e in exprs:
+            got = self._held.get(e)
+            held.append(got if got is not None else sp.sympify(e, strict=True).xreplace(self.hold))
         rate_exprs = []
         for g, (kind, du, _) in self.rates.items():
             if kind == "exp":
@@ -223,6 +227,17 @@ class _Ring:
             return p.rem(self._rel_elems)
         except (PolynomialError, sp.CoercionFailed, ValueError, TypeError, ZeroDivisionError) as exc:
             raise _NotInRing(str(exc)) from None
+
+
+def _rate(u: sp.Expr, t: sp.Symbol) -> sp.Expr:
+    """du/dt; for the usual argument g t it is read off the product."""
+    if u == t:
+        return sp.Integer(1)
+    if u.is_Mul:
+        rest, dep = u.as_independent(t, as_Add=False)
+        if dep == t:
+            return rest
+    return sp.diff(u, t)
 
 
 def _radical_parts(p: sp.Expr) -> list[tuple[sp.Expr, int, int]]:

@@ -199,3 +199,24 @@ def test_numeric_function_falls_back_to_lambdify_outside_the_tree():
     assert not isinstance(numeric_function(t, [sp.Heaviside(t - 1)], "numpy"), _TreeFunction)
     assert not isinstance(numeric_function(t, [k * t], "numpy"), _TreeFunction)  # a second symbol
     assert numeric_function(t, [sp.Heaviside(t - 1) * t], "numpy")(2.0)[0] == 2.0
+
+
+def test_numeric_function_reads_given_values_of_other_symbols():
+    """Sampled constants are read by the walk instead of substituted; lambdify on the
+    substituted expression is the reference, and the lambdify route substitutes them."""
+    import numpy as np
+
+    from derive.exact import _TreeFunction, numeric_function
+
+    c1, c2 = sp.symbols("c_1 c_2")
+    expr = c1 * sp.exp(-t) * sp.cos(2 * t) + c2 * t * sp.exp(-t / 2)
+    vals = {c1: sp.Rational(3, 4), c2: sp.Rational(-2, 3)}
+    grid = np.linspace(0.0, 4.0, 17)
+    ours = numeric_function(t, [expr], "numpy", values=vals)
+    assert isinstance(ours, _TreeFunction)
+    ref = sp.lambdify(t, expr.xreplace(vals), "numpy")(grid)
+    assert np.max(np.abs(ours(grid)[0] - ref)) <= 1e-14
+    # outside the walk (a Heaviside) the values are put in before lambdify
+    other = numeric_function(t, [c1 * sp.Heaviside(t - 1)], "numpy", values=vals)
+    assert not isinstance(other, _TreeFunction)
+    assert other(2.0)[0] == 0.75
