@@ -950,11 +950,16 @@ def _conditions(A, factors, P, P_inv, lam) -> tuple[Condition, ...]:
             seen.add(f)
             out.append(Condition(expr=f, relation="!= 0", reason=reason))
 
-    sqf = sp.Mul(*[f for f, _ in factors])
-    if sp.degree(sqf, lam) >= 2:
-        disc = sp.discriminant(sqf, lam)
-        add(disc, "the eigenvalues are distinct (discriminant of the characteristic polynomial)")
-    for e in list(P) + list(P_inv):
+    fs = [f for f, _ in factors]
+    if sum(sp.degree(f, lam) for f in fs) >= 2:
+        # disc(prod f_i) = prod disc(f_i) * prod_{i<j} res(f_i, f_j)^2 up to a constant
+        # factor: each piece is small to factor, the expanded discriminant is not
+        pieces = [sp.discriminant(f, lam) for f in fs if sp.degree(f, lam) >= 2]
+        pieces += [sp.resultant(fs[i], fs[j], lam) ** 2 for i in range(len(fs)) for j in range(i + 1, len(fs))]
+        add(sp.Mul(*pieces), "the eigenvalues are distinct (discriminant of the characteristic polynomial)")
+    for e in dict.fromkeys(list(P) + list(P_inv)):
+        if not e.free_symbols:
+            continue
         den = sp.fraction(sp.cancel(sp.together(e)))[1]
         if den.free_symbols:
             add(den, "a denominator in P or P^-1 is nonzero")

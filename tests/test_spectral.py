@@ -364,3 +364,28 @@ def test_a_wrong_inverse_fails_the_exact_check_over_k(A, monkeypatch):
     monkeypatch.setattr(spectral, "_to_matrix", slipped)
     with pytest.raises(VerificationError, match="P D P\\^-1 = A"):
         spectral.decompose(A)
+
+
+@pytest.mark.parametrize(
+    "A",
+    [
+        sp.Matrix([[-sp.Symbol("a"), 0, 0], [sp.Symbol("a"), -sp.Symbol("b"), 0], [0, sp.Symbol("b"), -sp.Symbol("c")]]),
+        sp.Matrix([[0, 1], [-sp.Symbol("k"), -sp.Symbol("c")]]),
+        sp.Matrix([[0, 1, 0], [-sp.Symbol("k"), -1, 0], [0, 0, -sp.Symbol("k")]]),
+    ],
+)
+def test_distinct_eigenvalue_conditions_are_the_factors_of_the_discriminant(A):
+    """The conditions for distinct eigenvalues are built from the discriminants and
+    resultants of the factors; sympy's discriminant of the whole characteristic
+    polynomial, factored, is the independent reference (common practice: the
+    discriminant vanishes exactly where two roots meet)."""
+    lam = sp.Symbol("lambda")
+    dec = decompose(A)
+    got = {c.expr for c in dec.conditions if "distinct" in c.reason}
+    ref = set()
+    for f in sp.Mul.make_args(sp.factor(sp.discriminant((A - lam * sp.eye(A.rows)).det(), lam))):
+        base = f.base if f.is_Pow else f
+        if base.free_symbols and not (base.is_positive or base.is_negative or base.is_nonzero):
+            base = sp.expand(base)
+            ref.add(-base if base.could_extract_minus_sign() else base)
+    assert got == ref
