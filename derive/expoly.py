@@ -414,6 +414,15 @@ def to_expoly(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
     expr = sp.sympify(expr, strict=True)
     if not expr.has(t):
         return ExpPoly.constant(expr)
+    try:
+        return ExpPoly.from_dict(_read(expr, t))
+    except _NotDirect:
+        return _via_rewrite(expr, t)
+
+
+def _via_rewrite(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
+    """to_expoly by rewriting trigonometric and hyperbolic functions as exponentials,
+    expanding, and reading each term (also the reference for ``_read``)."""
     if any(expr.has(fn) for fn in _TRIG):
         expr = expr.rewrite(sp.exp)
     expr = sp.expand(expr, power_exp=True, mul=True, multinomial=True, power_base=False, log=False)
@@ -455,6 +464,82 @@ def to_expoly(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
         key = (k, gamma)
         acc[key] = acc.get(key, sp.Integer(0)) + coeff
     return ExpPoly.from_dict(acc)
+
+
+class _NotDirect(Exception):
+    """An expression the direct reading leaves to the rewrite-and-expand route."""
+
+
+def _linear(arg: sp.Expr, t: sp.Symbol) -> tuple[sp.Expr, sp.Expr]:
+    """(slope, rest) of an argument a t + b, as the rewrite route reads them."""
+    arg = sp.expand(arg)
+    rest, dep = arg.as_independent(t, as_Add=True)
+    if dep == t:
+        return sp.Integer(1), rest
+    if dep.is_Mul:
+        slope, var = dep.as_independent(t, as_Add=False)
+        if var == t:
+            return slope, rest
+    slope = sp.diff(arg, t)
+    if slope.has(t):
+        raise _NotDirect
+    return slope, sp.expand(arg - slope * t)
+
+
+def _read(e: sp.Expr, t: sp.Symbol) -> dict[tuple[int, sp.Expr], sp.Expr]:
+    """e as {(k, gamma): coefficient}, read off the tree: sums and products of
+    polynomials in t, exponentials, sines, cosines, sinh and cosh of a t + b.
+
+    The same terms as rewriting the functions as exponentials and expanding
+    (the general route below), without rewriting the tree; the coefficients
+    are normalised by ExpPoly.from_dict.  Anything else raises _NotDirect.
+    """
+    if not e.has(t):
+        return {(0, sp.Integer(0)): e}
+    if e == t:
+        return {(1, sp.Integer(0)): sp.Integer(1)}
+    if e.is_Add:
+        out: dict = {}
+        for a in e.args:
+            for key, c in _read(a, t).items():
+                out[key] = out.get(key, sp.Integer(0)) + c
+        return out
+    if e.is_Mul:
+        out = {(0, sp.Integer(0)): sp.Integer(1)}
+        for a in e.args:
+            out = _times(out, _read(a, t))
+        return out
+    if e.is_Pow and e.exp.is_Integer and e.exp >= 0:
+        base = _read(e.base, t)
+        out = {(0, sp.Integer(0)): sp.Integer(1)}
+        for _ in range(int(e.exp)):
+            out = _times(out, base)
+        return out
+    if isinstance(e, sp.exp):
+        slope, rest = _linear(e.args[0], t)
+        return {(0, slope): sp.exp(rest) if rest != 0 else sp.Integer(1)}
+    if isinstance(e, (sp.sin, sp.cos, sp.sinh, sp.cosh)):
+        slope, rest = _linear(e.args[0], t)
+        i = sp.I if isinstance(e, (sp.sin, sp.cos)) else sp.Integer(1)
+        up = sp.exp(i * rest) if rest != 0 else sp.Integer(1)
+        down = sp.exp(-i * rest) if rest != 0 else sp.Integer(1)
+        # sin u = (e^{iu} - e^{-iu}) / 2i, cos u = (e^{iu} + e^{-iu}) / 2, sinh, cosh likewise
+        sign = -1 if isinstance(e, (sp.sin, sp.sinh)) else 1
+        half = 1 / (2 * sp.I) if isinstance(e, sp.sin) else sp.Rational(1, 2)
+        g = sp.expand(i * slope)
+        if g == 0:
+            raise _NotDirect
+        return {(0, g): half * up, (0, sp.expand(-g)): sign * half * down}
+    raise _NotDirect
+
+
+def _times(a: dict, b: dict) -> dict:
+    out: dict = {}
+    for (k1, g1), c1 in a.items():
+        for (k2, g2), c2 in b.items():
+            key = (k1 + k2, sp.expand(g1 + g2))
+            out[key] = out.get(key, sp.Integer(0)) + c1 * c2
+    return out
 
 
 @dataclass(frozen=True)

@@ -453,6 +453,8 @@ def _with_root_values(e):
 
 
 def _numeric(value: sp.Expr, subs: dict) -> complex | None:
+    if value.is_Rational:
+        return complex(int(value.p) / int(value.q))
     try:
         v = complex(sp.N(_with_root_values(value).xreplace(subs), 30))
     except (TypeError, ValueError):

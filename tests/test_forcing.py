@@ -402,3 +402,35 @@ def test_switching_times_and_resolution():
     assert forcing.resolve_on(f[0], t, sp.Integer(4)) == 0
     assert forcing.resolve_on(f[1], t, sp.Integer(2)) == t
     assert list(forcing.impulse_weight(f, t, sp.Integer(2))) == [sp.Rational(1, 2), 0]
+
+
+# ---------------------------------------------------------------------------
+# expoly.to_expoly: the direct reading against the rewrite-and-expand route
+
+_x_args = st.sampled_from([sp.Symbol("t"), 2 * sp.Symbol("t"), -sp.Symbol("t") / 3, sp.Symbol("t") + 1, sp.sqrt(2) * sp.Symbol("t") - sp.Rational(1, 2), sp.Symbol("w", positive=True) * sp.Symbol("t")])
+_x_funcs = st.sampled_from([sp.exp, sp.sin, sp.cos, sp.sinh, sp.cosh, lambda u: u, lambda u: u**2])
+_x_coeffs = st.sampled_from([sp.Integer(1), sp.Integer(-4), sp.Rational(3, 7), sp.sqrt(3), sp.I, sp.Symbol("k")])
+
+
+@st.composite
+def _forcing_expr(draw):
+    terms = []
+    for _ in range(draw(st.integers(1, 3))):
+        factors = [draw(_x_coeffs)] + [draw(_x_funcs)(draw(_x_args)) for _ in range(draw(st.integers(1, 2)))]
+        terms.append(sp.Mul(*factors))
+    e = sp.Add(*terms)
+    return e**2 if draw(st.booleans()) and sp.count_ops(e) < 12 else e
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(_forcing_expr())
+def test_direct_reading_of_a_forcing_matches_the_rewrite_route(e):
+    """to_expoly reads sums and products of polynomials, exponentials, sinusoids and
+    hyperbolic functions off the tree; the rewrite-and-expand route is the reference,
+    and sympy's rewrite(exp) of the input the independent check of both."""
+    from derive.expoly import _via_rewrite, to_expoly
+
+    T = sp.Symbol("t")
+    got = to_expoly(e, T)
+    assert got.terms == _via_rewrite(e, T).terms
+    assert sp.expand(sp.expand(got.to_expr(T) - e.rewrite(sp.exp), power_exp=True)) == 0
