@@ -392,6 +392,39 @@ def _scale_rational_chain(chain: list[DomainMatrix]) -> list[DomainMatrix]:
     return [v * factor for v in chain]
 
 
+def _scale_generic_chain(chain: list[DomainMatrix]) -> list[DomainMatrix]:
+    """``_scale_chain`` for vectors over Q[theta]/(q), worked on the rational
+    coefficients of the entries (polynomials in theta) with the same result.
+
+    As there: the denominators cleared are those of the single-term entries
+    (a sum such as theta/6 + 4/3 counts as denominator 1), the gcd of all the
+    coefficients is taken in Q one after the other, stopping at 1, and the
+    leading coefficient of the first nonzero entry of v_1 is made positive.
+    """
+    dense = [v.to_dense().rep.to_ddm() for v in chain]
+    entries = [e for rows in dense for row in rows for e in row if e]
+    if not entries:
+        return chain
+    polys = [e.rep.to_list() for e in entries]  # coefficients, highest power first
+    dens = [int(next(c for c in cs if c).denominator) if sum(1 for c in cs if c) == 1 else 1 for cs in polys]
+    L = math.lcm(*dens) if len(dens) > 1 else dens[0]
+    coeffs = [c * L for cs in polys for c in cs if c]
+    if len(coeffs) == 1:
+        G = coeffs[0]
+    else:
+        G = coeffs[0]
+        for c in coeffs[1:]:
+            G = sp.QQ.gcd(G, c)
+            if G == 1:
+                break
+    factor = sp.QQ(L) / G
+    first = next((row[0] for row in dense[0] if row[0]), None)
+    if first is not None and first.rep.LC() * factor < 0:
+        factor = -factor
+    scale = chain[0].domain.convert(factor)
+    return [v * scale for v in chain]
+
+
 def _scale_chain(chain: list[sp.ImmutableMatrix], gen: sp.Symbol | None) -> list[sp.ImmutableMatrix]:
     """Scale a whole chain by one factor so its entries are small and integral.
 
@@ -622,6 +655,11 @@ def decompose(
                 continue
             if gen is not None:
                 ch = _normalise_chain(ch, fld)
+            if gen is not None and K.is_QQ:
+                ch = _scale_generic_chain(ch)
+                scaled_F.append(ch)
+                chains_expr.append([_to_matrix(v, fld) for v in ch])
+                continue
             scaled = _scale_chain([_to_matrix(v, fld) for v in ch], gen)
             chains_expr.append(scaled)
             scaled_F.append([_column([fld.from_expr(e) for e in v], Fdom) for v in scaled])

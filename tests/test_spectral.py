@@ -389,3 +389,34 @@ def test_distinct_eigenvalue_conditions_are_the_factors_of_the_discriminant(A):
             base = sp.expand(base)
             ref.add(-base if base.could_extract_minus_sign() else base)
     assert got == ref
+
+
+_chain_entry = st.tuples(
+    st.fractions(min_value=-6, max_value=6, max_denominator=12),
+    st.fractions(min_value=-6, max_value=6, max_denominator=12),
+    st.fractions(min_value=-6, max_value=6, max_denominator=12),
+)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.lists(_chain_entry, min_size=3, max_size=3), min_size=1, max_size=2), st.sampled_from([2, 3]))
+def test_generic_chain_scaling_in_the_field_matches_the_expression_route(chain, degree):
+    """The scaling of a generic-root chain worked on the coefficients in Q[theta]/(q)
+    must give exactly the vectors of the expression route (_scale_chain)."""
+    from sympy.polys.agca.extensions import FiniteExtension
+    from sympy.polys.matrices import DomainMatrix
+
+    from derive.spectral import _TH, _Field, _scale_chain, _scale_generic_chain, _to_matrix
+
+    q = sp.Poly(_TH**3 - 3 * _TH - 1 if degree == 3 else _TH**2 + 2 * _TH + 5, _TH, domain=sp.QQ)
+    F = FiniteExtension(q)
+    fld = _Field(dom=F, K=sp.QQ, q=q, root=None)
+    vecs = []
+    for v in chain:
+        entries = [F.convert(sum(sp.Rational(c.numerator, c.denominator) * _TH**k for k, c in enumerate(e[:degree]))) for e in v]
+        vecs.append(DomainMatrix([[x] for x in entries], (3, 1), F))
+    if all(not x for v in vecs for row in v.to_dense().rep.to_ddm() for x in row):
+        return
+    got = [_to_matrix(v, fld) for v in _scale_generic_chain(vecs)]
+    ref = _scale_chain([_to_matrix(v, fld) for v in vecs], _TH)
+    assert got == ref
