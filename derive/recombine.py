@@ -18,7 +18,7 @@ from .expoly import ExpPoly, conjugate, exponential_groups, split_complex
 from .spectral import EigenBlock
 from .steps import Deferred, InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
-__all__ = ["Recombined", "recombine", "conjugate_pairs", "restore_roots", "tidy"]
+__all__ = ["Recombined", "recombine", "conjugate_pairs", "restore_roots", "tidy", "grouped"]
 
 
 @dataclass(frozen=True)
@@ -279,11 +279,11 @@ def recombine(
     )
 
 
-def _grouped_each(xp: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr, *, real: bool) -> sp.ImmutableMatrix:
+def _grouped_each(polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr, *, real: bool) -> sp.ImmutableMatrix:
     """Each p(t) grouped by exponential (``grouped``, or tidy on the shifted form when t0 != 0)."""
     if t0 == 0:
-        return sp.ImmutableMatrix([grouped([(sp.Integer(1), p)], (), t, real=real) for p in xp])
-    shown = _real(xp, t, t0) if real else _mat(xp, t, t0)
+        return sp.ImmutableMatrix([grouped([(sp.Integer(1), p)], (), t, real=real) for p in polys])
+    shown = _real(polys, t, t0) if real else _mat(polys, t, t0)
     return shown.applyfunc(lambda e: tidy(e, (), t))
 
 
