@@ -15,7 +15,10 @@ get conjugate vectors by construction.
 P^-1 is assembled from the dual bases of the generalised eigenspaces: for the
 block of lam, with V the chain vectors and L a basis of the left generalised
 eigenspace, W = (L V)^-1 L.  A V = V J, W A = J W and W V = I are checked in
-F; with disjoint spectra they imply P J P^-1 = A exactly.
+F; with disjoint spectra they imply P J P^-1 = A exactly.  When every
+eigenvalue lies in K the checks are done once for the whole matrix instead:
+P^-1 found again by elimination on [P | I] must equal the dual rows, and
+A P = P J must hold, in K.
 """
 
 from __future__ import annotations
