@@ -847,7 +847,7 @@ def decompose(
 
         raise VerificationError("the decomposition failed its own check P D P^-1 = A; no result is reported")
 
-    conditions = _conditions(A, factors, P, P_inv, lam) if has_params else ()
+    conditions = _conditions(A, factors, P, P_inv, lam, K) if has_params else ()
     return Decomposition(
         A=A,
         lam=lam,
@@ -973,7 +973,18 @@ def small_field(*matrices: sp.MatrixBase) -> list[DomainMatrix] | None:
     return out
 
 
-def _conditions(A, factors, P, P_inv, lam) -> tuple[Condition, ...]:
+def _denominator(e: sp.Expr, K) -> sp.Expr:
+    """The denominator of e in lowest terms: read in the field K of rational functions
+    where e lies there (cheap), else by cancelling the expression."""
+    if K is not None and K.is_FractionField:
+        try:
+            return K.from_sympy(e).denom.as_expr()
+        except (sp.CoercionFailed, sp.polys.polyerrors.PolynomialError, ValueError, TypeError):
+            pass
+    return sp.fraction(sp.cancel(sp.together(e)))[1]
+
+
+def _conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, ...]:
     """Conditions in the parameters on which the derivation relies."""
     out: list[Condition] = []
     seen: set = set()
@@ -1003,7 +1014,7 @@ def _conditions(A, factors, P, P_inv, lam) -> tuple[Condition, ...]:
     for e in dict.fromkeys(list(P) + list(P_inv)):
         if not e.free_symbols:
             continue
-        den = sp.fraction(sp.cancel(sp.together(e)))[1]
+        den = _denominator(e, K)
         if den.free_symbols:
             add(den, "a denominator in P or P^-1 is nonzero")
     return tuple(out)
