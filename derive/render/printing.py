@@ -7,6 +7,9 @@ the notation of a sheet is decided in one place:
   as an angle to an engineer);
 * ``DiracDelta(t - a)`` is ``delta(t - a)``;
 * ``exp`` with a long exponent is ``exp(...)`` rather than a tiny superscript;
+* an exponent m t + c with numbers m != 1 and c != 0 is written m (t - a)
+  with a = -c/m, so e^{2 - 2t} and e^{2 (1 - t)} both read e^{-2 (t - 1)},
+  the way a response that starts at t = a is written by hand;
 * an eigenvalue with no radical form (``CRootOf``) is printed by name,
   ``lambda_k`` with k its position among the solution's eigenvalues, and the
   polynomial is stated once in a legend with the decimals beside the names;
@@ -273,6 +276,27 @@ def format_decimal(
 # Printers
 
 
+def shifted_exponent(arg: sp.Expr) -> sp.Expr:
+    """m t + c as the unevaluated product m (t - a), a = -c/m, for numbers m != 1, c != 0.
+
+    Any other exponent comes back as it is.
+
+    >>> t = sp.Symbol("t")
+    >>> shifted_exponent(2 - 2*t)
+    -2*(t - 1)
+    """
+    syms = arg.free_symbols
+    if len(syms) != 1 or not arg.is_Add and not arg.is_Mul:
+        return arg
+    (x,) = syms
+    expanded = sp.expand(arg)
+    c, rest = expanded.as_independent(x, as_Add=True)
+    m, var = rest.as_independent(x, as_Add=False) if rest.is_Mul else (sp.Integer(1), rest)
+    if var != x or not (m.is_Rational and c.is_Rational) or c == 0 or m == 1 or m == 0:
+        return arg
+    return sp.Mul(m, x - (-c / m), evaluate=False)
+
+
 class _RootStandIns:
     """Prints indexed roots through named stand-in symbols.
 
@@ -358,7 +382,7 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         return r"\begin{cases} %s \end{cases}" % r" \\ ".join(rows)
 
     def _print_ExpBase(self, expr: sp.Expr, exp: str | None = None) -> str:
-        arg = self._print(expr.args[0])
+        arg = self._print(shifted_exponent(expr.args[0]))
         if visible_width(arg) > self._settings["exp_threshold"]:
             tex = r"\exp\left(%s\right)" % arg
         else:
@@ -409,6 +433,9 @@ class PlainPrinter(_RootStandIns, StrPrinter):
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
         return "e"
+
+    def _print_ExpBase(self, expr: sp.Expr) -> str:
+        return "exp(%s)" % self._print(shifted_exponent(expr.args[0]))
 
     def _print_Equality(self, expr: sp.Expr) -> str:
         return "%s = %s" % (self._print(expr.lhs), self._print(expr.rhs))
