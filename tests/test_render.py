@@ -623,9 +623,23 @@ def test_a_pickled_solution_renders_the_same_sheet():
 def test_an_exponent_with_an_offset_reads_as_a_delay(arg, shown):
     """e^{m t + c} is printed e^{m (t - a)}, a = -c/m: the form a switched response
     takes by hand; the value is unchanged (sympy's expand as the check)."""
-    from derive.render.printing import shifted_exponent
+    from derive.render.printing import shifted_argument
 
-    assert sp.expand(shifted_exponent(arg) - arg) == 0
+    assert sp.expand(shifted_argument(arg) - arg) == 0
     from derive.render.printing import SheetLatexPrinter
 
     assert SheetLatexPrinter().doprint(sp.exp(arg)) == "e^{%s}" % shown
+
+
+def test_a_sinusoid_after_a_switch_reads_with_the_delay():
+    """The damped oscillation that starts at t = 1 is printed e^{-(t-1)} sin(2(t-1)),
+    and the plain text the same way; sympy's own latex is the reference for the rest."""
+    from derive.render.printing import PlainPrinter, SheetLatexPrinter
+
+    t = sp.Symbol("t")
+    e = sp.exp(1 - t) * sp.sin(2 * t - 2) + sp.cos(2 * t - 2) ** 2
+    tex = SheetLatexPrinter().doprint(e)
+    assert r"e^{- (t - 1)} \sin{\left(2 \left(t - 1\right) \right)}" in tex
+    assert r"\cos^{2}{\left(2 \left(t - 1\right) \right)}" in tex
+    assert PlainPrinter().doprint(sp.sin(2 * t - 2)) == "sin(2*(t - 1))"
+    assert SheetLatexPrinter().doprint(sp.sin(3 * t)) == sp.latex(sp.sin(3 * t))

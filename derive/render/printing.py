@@ -7,9 +7,10 @@ the notation of a sheet is decided in one place:
   as an angle to an engineer);
 * ``DiracDelta(t - a)`` is ``delta(t - a)``;
 * ``exp`` with a long exponent is ``exp(...)`` rather than a tiny superscript;
-* an exponent m t + c with numbers m != 1 and c != 0 is written m (t - a)
-  with a = -c/m, so e^{2 - 2t} and e^{2 (1 - t)} both read e^{-2 (t - 1)},
-  the way a response that starts at t = a is written by hand;
+* an exponent or a sine's or cosine's argument m t + c with numbers m != 1
+  and c != 0 is written m (t - a) with a = -c/m, so e^{2 - 2t} reads
+  e^{-2 (t - 1)} and sin(2t - 2) reads sin(2 (t - 1)), the way a response
+  that starts at t = a is written by hand;
 * an eigenvalue with no radical form (``CRootOf``) is printed by name,
   ``lambda_k`` with k its position among the solution's eigenvalues, and the
   polynomial is stated once in a legend with the decimals beside the names;
@@ -276,13 +277,14 @@ def format_decimal(
 # Printers
 
 
-def shifted_exponent(arg: sp.Expr) -> sp.Expr:
-    """m t + c as the unevaluated product m (t - a), a = -c/m, for numbers m != 1, c != 0.
+def shifted_argument(arg: sp.Expr) -> sp.Expr:
+    """m t + c as the unevaluated product m (t - a), a = -c/m, for numbers m != 1, c != 0
+    (the argument of an exponential, a sine or a cosine, as printed).
 
     Any other exponent comes back as it is.
 
     >>> t = sp.Symbol("t")
-    >>> shifted_exponent(2 - 2*t)
+    >>> shifted_argument(2 - 2*t)
     -2*(t - 1)
     """
     syms = arg.free_symbols
@@ -382,12 +384,23 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         return r"\begin{cases} %s \end{cases}" % r" \\ ".join(rows)
 
     def _print_ExpBase(self, expr: sp.Expr, exp: str | None = None) -> str:
-        arg = self._print(shifted_exponent(expr.args[0]))
+        arg = self._print(shifted_argument(expr.args[0]))
         if visible_width(arg) > self._settings["exp_threshold"]:
             tex = r"\exp\left(%s\right)" % arg
         else:
             tex = r"e^{%s}" % arg
         return self._do_exponent(tex, exp)
+
+    def _print_sin(self, expr: sp.Expr, exp: str | None = None) -> str:
+        return self._delayed_trig("sin", expr, exp)
+
+    def _print_cos(self, expr: sp.Expr, exp: str | None = None) -> str:
+        return self._delayed_trig("cos", expr, exp)
+
+    def _delayed_trig(self, name: str, expr: sp.Expr, exp: str | None) -> str:
+        arg = self._print(shifted_argument(expr.args[0]))
+        power = "^{%s}" % exp if exp else ""
+        return r"\%s%s{\left(%s \right)}" % (name, power, arg)
 
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
@@ -435,7 +448,13 @@ class PlainPrinter(_RootStandIns, StrPrinter):
         return "e"
 
     def _print_ExpBase(self, expr: sp.Expr) -> str:
-        return "exp(%s)" % self._print(shifted_exponent(expr.args[0]))
+        return "exp(%s)" % self._print(shifted_argument(expr.args[0]))
+
+    def _print_sin(self, expr: sp.Expr) -> str:
+        return "sin(%s)" % self._print(shifted_argument(expr.args[0]))
+
+    def _print_cos(self, expr: sp.Expr) -> str:
+        return "cos(%s)" % self._print(shifted_argument(expr.args[0]))
 
     def _print_Equality(self, expr: sp.Expr) -> str:
         return "%s = %s" % (self._print(expr.lhs), self._print(expr.rhs))
