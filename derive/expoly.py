@@ -416,7 +416,7 @@ def to_expoly(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
         return ExpPoly.constant(expr)
     try:
         return ExpPoly.from_dict(_read(expr, t))
-    except _NotDirect:
+    except (_NotDirect, NotExpPoly):
         return _via_rewrite(expr, t)
 
 
@@ -439,23 +439,14 @@ def _via_rewrite(expr: sp.Expr, t: sp.Symbol) -> ExpPoly:
             elif factor.is_Pow and factor.base == t and factor.exp.is_Integer and factor.exp >= 0:
                 k += int(factor.exp)
             elif isinstance(factor, sp.exp) or (factor.is_Pow and factor.base is sp.E):
-                arg = factor.args[0] if isinstance(factor, sp.exp) else factor.exp
-                arg = sp.expand(arg)
-                slope = sp.diff(arg, t)
-                if slope.has(t):
-                    raise NotExpPoly(f"exponent {arg} is not linear in {t}")
+                slope, rest = _linear(factor.args[0] if isinstance(factor, sp.exp) else factor.exp, t)
                 gamma += slope
-                rest = sp.expand(arg - slope * t)
                 if rest != 0:
                     coeff *= sp.exp(rest)
             elif factor.is_Pow and not factor.base.has(t) and factor.exp.has(t):
                 # b^(a t + c) = e^{(a t + c) log b}
-                arg = sp.expand(factor.exp)
-                slope = sp.diff(arg, t)
-                if slope.has(t):
-                    raise NotExpPoly(f"exponent {arg} is not linear in {t}")
+                slope, rest = _linear(factor.exp, t)
                 gamma += slope * sp.log(factor.base)
-                rest = sp.expand(arg - slope * t)
                 if rest != 0:
                     coeff *= factor.base**rest
             else:
@@ -471,7 +462,7 @@ class _NotDirect(Exception):
 
 
 def _linear(arg: sp.Expr, t: sp.Symbol) -> tuple[sp.Expr, sp.Expr]:
-    """(slope, rest) of an argument a t + b, as the rewrite route reads them."""
+    """(a, b) of an exponent a t + b (expanded); NotExpPoly when it is not linear in t."""
     arg = sp.expand(arg)
     rest, dep = arg.as_independent(t, as_Add=True)
     if dep == t:
@@ -482,7 +473,7 @@ def _linear(arg: sp.Expr, t: sp.Symbol) -> tuple[sp.Expr, sp.Expr]:
             return slope, rest
     slope = sp.diff(arg, t)
     if slope.has(t):
-        raise _NotDirect
+        raise NotExpPoly(f"exponent {arg} is not linear in {t}")
     return slope, sp.expand(arg - slope * t)
 
 
@@ -492,7 +483,8 @@ def _read(e: sp.Expr, t: sp.Symbol) -> dict[tuple[int, sp.Expr], sp.Expr]:
 
     The same terms as rewriting the functions as exponentials and expanding
     (the general route below), without rewriting the tree; the coefficients
-    are normalised by ExpPoly.from_dict.  Anything else raises _NotDirect.
+    are normalised by ExpPoly.from_dict.  Anything else raises _NotDirect, an
+    argument not linear in t NotExpPoly; to_expoly then tries the general route.
     """
     if not e.has(t):
         return {(0, sp.Integer(0)): e}

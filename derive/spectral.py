@@ -412,14 +412,11 @@ def _scale_generic_chain(chain: list[DomainMatrix]) -> list[DomainMatrix]:
     dens = [int(next(c for c in cs if c).denominator) if sum(1 for c in cs if c) == 1 else 1 for cs in polys]
     L = math.lcm(*dens) if len(dens) > 1 else dens[0]
     coeffs = [c * L for cs in polys for c in cs if c]
-    if len(coeffs) == 1:
-        G = coeffs[0]
-    else:
-        G = coeffs[0]
-        for c in coeffs[1:]:
-            G = sp.QQ.gcd(G, c)
-            if G == 1:
-                break
+    G = coeffs[0]  # alone it keeps its sign, as in _scale_chain
+    for c in coeffs[1:]:
+        G = sp.QQ.gcd(G, c)
+        if G == 1:
+            break
     factor = sp.QQ(L) / G
     first = next((row[0] for row in dense[0] if row[0]), None)
     if first is not None and first.rep.LC() * factor < 0:
@@ -651,21 +648,17 @@ def decompose(
         chains_expr = []
         scaled_F = []
         for ch in chains_F:
-            if Fdom.is_QQ:
-                ch = _scale_rational_chain(ch)
-                scaled_F.append(ch)
-                chains_expr.append([_to_matrix(v, fld) for v in ch])
-                continue
             if gen is not None:
                 ch = _normalise_chain(ch, fld)
-            if gen is not None and K.is_QQ:
-                ch = _scale_generic_chain(ch)
+            if Fdom.is_QQ or (gen is not None and K.is_QQ):
+                # on the domain elements: Q, or the rational coefficients of Q[theta]/(q)
+                ch = _scale_rational_chain(ch) if Fdom.is_QQ else _scale_generic_chain(ch)
                 scaled_F.append(ch)
                 chains_expr.append([_to_matrix(v, fld) for v in ch])
-                continue
-            scaled = _scale_chain([_to_matrix(v, fld) for v in ch], gen)
-            chains_expr.append(scaled)
-            scaled_F.append([_column([fld.from_expr(e) for e in v], Fdom) for v in scaled])
+            else:
+                scaled = _scale_chain([_to_matrix(v, fld) for v in ch], gen)
+                chains_expr.append(scaled)
+                scaled_F.append([_column([fld.from_expr(e) for e in v], Fdom) for v in scaled])
         chains_F = scaled_F
         V = _cols_to_dm([v for ch in chains_F for v in ch], Fdom, n)
         # left generalised eigenspace and the dual rows
