@@ -56,6 +56,7 @@ from typing import Any, TextIO
 import sympy as sp
 
 from . import __version__
+from .documents.batch_index import write_index
 from .errors import DeriveError, InputError, OutputError, TimeLimitError, VerificationError
 from .limits import DEFAULT_TIMEOUT, time_limit
 from .model import Case, Solution
@@ -885,62 +886,6 @@ def _write_cache(out_dir: Path, cache: Mapping[str, dict[str, Any]]) -> None:
     _write_text(out_dir / CACHE_NAME, json.dumps({"format": 1, "version": __version__, "cases": dict(cache)}, indent=1))
 
 
-_PLAIN = re.compile(r"[A-Za-z0-9][A-Za-z0-9._/-]*")
-
-
-def _index_rows(results: Sequence[CaseResult]) -> list[dict[str, Any]]:
-    rows = []
-    for r in results:
-        sheet = next((o for o in r.outputs if o.endswith(".pdf")), "") or next(
-            (o for o in r.outputs if o.endswith(".tex") and not o.endswith("-body.tex")), ""
-        )
-        if r.residual_method:
-            check = ("residual zero" if r.residual_zero else "residual NOT zero") + f" ({r.residual_method})"
-            if r.max_rel_gap is not None:
-                check += f"; numeric gap {r.max_rel_gap:.1e}"
-        else:
-            check = r.message.splitlines()[0][:90] if r.message else ""
-        rows.append(
-            {
-                "r": r,
-                "sheet": sheet.rsplit("/", 1)[-1],
-                # \path typesets these verbatim and breaks long ones at / . - _; only
-                # text of those safe characters goes there, anything else is escaped.
-                "plain_name": r.name if _PLAIN.fullmatch(r.name) else "",
-                "plain_sheet": sheet.rsplit("/", 1)[-1] if _PLAIN.fullmatch(sheet) else "",
-                "check": check,
-                "seconds": f"{r.seconds:.2f}",
-            }
-        )
-    return rows
-
-
-def _write_index(out_dir: Path, results: Sequence[CaseResult], *, pdf: bool, interrupted: bool, total: int) -> tuple[Path, ...]:
-    """index.tex (standalone) and index-body.tex (for \\input), and index.pdf when asked."""
-    from .output import compile_pdf
-    from .render.latex import FRAGMENT_PACKAGES, program_versions, template_environment
-
-    env = template_environment()
-    template = env.get_template("index.tex.j2")
-    report = BatchReport(results=tuple(results))
-    context = {
-        "rows": _index_rows(results),
-        "counts": report.counts,
-        "total": total,
-        "interrupted": interrupted,
-        "versions": program_versions(),
-        "program": program_versions()[0],
-        "packages": FRAGMENT_PACKAGES + ("longtable", "url"),
-    }
-    written = []
-    for name, fragment in (("index.tex", False), ("index-body.tex", True)):
-        _write_text(out_dir / name, template.render(fragment=fragment, **context))
-        written.append(out_dir / name)
-    if pdf:
-        written.append(compile_pdf(out_dir / "index.tex"))
-    return tuple(written)
-
-
 # ---------------------------------------------------------------------------
 # Progress
 # ---------------------------------------------------------------------------
@@ -1109,7 +1054,7 @@ def batch(
             _write_summary(folder, finished(), total=total, interrupted=interrupted)
             try:
                 # No TeX run after Ctrl-C: the user wants the prompt back.
-                _write_index(folder, finished(), pdf=want_pdf and not interrupted, interrupted=interrupted, total=total)
+                write_index(folder, finished(), counts=BatchReport(results=tuple(finished())).counts, pdf=want_pdf and not interrupted, interrupted=interrupted, total=total)
             except DeriveError as err:
                 index_error = str(err)
     return BatchReport(results=tuple(finished()), out_dir=folder, index_error=index_error)

@@ -334,7 +334,8 @@ def check_command(
         from dataclasses import replace
 
         from .casefile import load_case
-        from .check import check, render_check, write_check_outputs
+        from .check import check
+        from .documents.check_report import render_check, write_check_outputs
         from .claimfile import read_claim
 
         case = load_case(case_file)

@@ -386,9 +386,9 @@ def test_index_compiles_to_pdf(tmp_path):
     out = tmp_path / "out"
     report = batch([inputs, ("a_long_case_name_with_underscores_" * 2 + "end", {"A": [[-1]]})], out_dir=out, pdf=False)
     assert report.index_error == ""
-    from derive.batch import _write_index
+    from derive.documents.batch_index import write_index
 
-    paths = _write_index(out, report.results, pdf=True, interrupted=False, total=len(report.results))
+    paths = write_index(out, report.results, counts=report.counts, pdf=True, interrupted=False, total=len(report.results))
     assert paths[-1] == out / "index.pdf"
     text = subprocess.run(["pdftotext", "-layout", str(out / "index.pdf"), "-"], capture_output=True, text=True).stdout
     assert "Index of calculation sheets" in text and "bad-input" in text and "good.tex" in text

@@ -26,7 +26,8 @@ import importlib
 check_module = importlib.import_module("derive.check")  # the module: derive.check is the function
 import derive.claimfile as claimfile_module
 from derive.casefile import load_case, loads_case
-from derive.check import CAUTION, STEP_ORDER, CheckReport, check, render_check, write_check_outputs
+from derive.check import CAUTION, STEP_ORDER, CheckReport, check
+from derive.documents.check_report import render_check, write_check_outputs
 from derive.claimfile import load_claim, loads_claim, read_claim
 from derive.errors import CaseFileError, DeriveError, InputError
 

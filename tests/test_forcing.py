@@ -30,6 +30,7 @@ from derive.expoly import ExpPoly, integrate_against
 from derive.limits import time_limit
 from derive.render import render
 from derive.steps import ConvolutionStep, IntervalStep, JumpStep, SteadyStateStep
+from derive.verify.pieces import numeric_solution
 
 t = sp.Symbol("t", real=True)
 
@@ -248,7 +249,7 @@ def test_convolution_for_a_rational_input_matches_scipy(monkeypatch):
     assert len(conv) == 2 and all(s.integrals for s in conv)
     ref = solve_ivp(lambda tt, y: np.array([[0, 1], [-2, -3]]) @ y + np.array([0, 1 / (1 + tt**2)]),
                     (0, 3), [1, 0], rtol=1e-12, atol=1e-14, dense_output=True)
-    fn = forcing._evaluator(list(sol.x), t)
+    fn = numeric_solution(list(sol.x), t)
     for tt in (0.5, 1.5, 3.0):
         assert np.allclose(fn(tt), ref.sol(tt), atol=1e-8)
 

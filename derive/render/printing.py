@@ -38,6 +38,7 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 __all__ = [
+    "plain_text",
     "MathStyle",
     "RootName",
     "collect_roots",
@@ -462,6 +463,26 @@ class PlainPrinter(_RootStandIns, StrPrinter):
 
 # ---------------------------------------------------------------------------
 # Width estimate
+
+
+def plain_text(obj: Any) -> str:
+    """A sympy object, matrix or tuple as plain one-line text for sentences.
+
+    >>> plain_text(sp.Matrix([1, sp.Symbol("t")]))
+    '(1, t)'
+    """
+    printer = PlainPrinter()
+    if isinstance(obj, sp.MatrixBase):
+        if obj.cols == 1:
+            return "(" + ", ".join(printer.doprint(e) for e in obj) + ")"
+        return "[" + ", ".join(
+            "[" + ", ".join(printer.doprint(obj[i, j]) for j in range(obj.cols)) + "]" for i in range(obj.rows)
+        ) + "]"
+    if isinstance(obj, (tuple, list)):
+        return "(" + ", ".join(plain_text(o) for o in obj) + ")"
+    if isinstance(obj, sp.Basic):
+        return printer.doprint(obj)
+    return str(obj)
 
 
 def _group(tex: str, start: int) -> tuple[str, int]:

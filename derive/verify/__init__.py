@@ -26,9 +26,9 @@ import numpy as np
 import sympy as sp
 import sympy.codegen.ast  # noqa: F401 - lambdify's printers import it on first use: load it with the package
 
-from .exact import decide_zero, numeric_function, root_value
-from .model import NumericCheck, System, Verification
-from .ringcheck import initial_is_zero, residual_is_zero
+from ..exact import decide_zero, numeric_function, root_value
+from ..model import NumericCheck, System, Verification
+from ..ringcheck import initial_is_zero, residual_is_zero
 
 __all__ = ["verify", "numeric_check", "residual"]
 
@@ -96,7 +96,7 @@ def verify(
     if numeric:
         try:
             num = numeric_check(system, x, constants=constants, eigenvalues=eigenvalues, decimals=decimals)
-        except _Skip as why:
+        except NumericSkipped as why:
             notes.append(f"numeric integration not run: {why}")
     return Verification(
         residual=sp.ImmutableMatrix(reduced),
@@ -110,7 +110,7 @@ def verify(
     )
 
 
-class _Skip(Exception):
+class NumericSkipped(Exception):
     """A numeric check that cannot run; the reason becomes a note on the sheet."""
 
 
@@ -171,21 +171,21 @@ def numeric_check(
     free = (system.A.free_symbols | system.f.free_symbols) - {t}
     missing = [s for s in free if s not in subs]
     if missing:
-        raise _Skip("parameters without numeric values: " + ", ".join(sorted(s.name for s in missing)))
+        raise NumericSkipped("parameters without numeric values: " + ", ".join(sorted(s.name for s in missing)))
     sampled = sample_constants(constants)  # read by the evaluator, not substituted
     xs = sp.ImmutableMatrix(x).xreplace(subs) if subs else sp.ImmutableMatrix(x)
     roots = xs.atoms(sp.CRootOf)
     if roots:
         xs = xs.xreplace({r: root_value(r) for r in roots})
     if xs.has(sp.zoo, sp.nan, sp.oo, -sp.oo):
-        raise _Skip(
+        raise NumericSkipped(
             "the exact solution has a vanishing denominator at the given parameter values: they "
             "violate one of the stated conditions (for example a resonance), so the generic result "
             "does not apply to them"
         )
     leftover = xs.free_symbols - {t} - set(sampled)
     if leftover:
-        raise _Skip("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))
+        raise NumericSkipped("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))
     A_num = system.A.xreplace(subs) if subs else system.A
     A = np.array([[float(e) if e.is_Rational else float(e.evalf(20)) for e in row] for row in A_num.tolist()], dtype=float)
     f_expr = system.f.xreplace(subs) if subs else system.f
@@ -205,12 +205,12 @@ def numeric_check(
         ref = exact(t_eval)  # t_eval[0] is t0: the exact x(t0) starts the numeric route
         y0 = ref[:, 0]
     except bad as exc:
-        raise _Skip(
+        raise NumericSkipped(
             f"the exact solution cannot be evaluated at the given parameter values "
             f"({type(exc).__name__}: {exc}); a stated condition may be violated by them"
         )
     if not np.all(np.isfinite(y0)):
-        raise _Skip("the exact solution is not finite at t0 for the given parameter values; a stated condition may be violated by them")
+        raise NumericSkipped("the exact solution is not finite at t0 for the given parameter values; a stated condition may be violated by them")
     by_modes = _stepped_with_modes(f_expr, t, A, y0, t_eval) if forced else (_stepped(A, y0, t_eval), 0)
     if by_modes is not None:
         # unforced, or forced by modes carried in the state (``modes`` says how many)
@@ -233,10 +233,10 @@ def numeric_check(
 
             np.asarray(rhs(t0, y0))
         except bad as exc:
-            raise _Skip(f"the forcing cannot be evaluated at the given parameter values ({type(exc).__name__}: {exc})")
+            raise NumericSkipped(f"the forcing cannot be evaluated at the given parameter values ({type(exc).__name__}: {exc})")
         sol = solve_ivp(rhs, (t0, t0 + T), y0, method="DOP853", rtol=RTOL, atol=ATOL, t_eval=t_eval)
         if not sol.success:
-            raise _Skip(f"the integrator stopped: {sol.message}")
+            raise NumericSkipped(f"the integrator stopped: {sol.message}")
         numeric, method, rtol, atol, modes = sol.y, "scipy solve_ivp DOP853", RTOL, ATOL, 0
     gap = np.abs(numeric - ref)
     scale = max(1.0, float(np.max(np.abs(ref))))
@@ -270,7 +270,7 @@ def _stepped_with_modes(
     evaluated directly on the grid; None (integrate instead) when f is not such
     a sum or the two differ.
     """
-    from .expoly import NotExpPoly, to_expoly
+    from ..expoly import NotExpPoly, to_expoly
 
     try:
         eps = [to_expoly(e, t) for e in f_expr]

@@ -1,0 +1,1 @@
+"""Document types built from results: the check report, the batch index."""
