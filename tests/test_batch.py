@@ -8,29 +8,28 @@ from __future__ import annotations
 
 import csv
 import ctypes
-import importlib
 import json
 import os
 import signal
 import subprocess
 import sys
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 import sympy as sp
 from click.testing import CliRunner
 
+import derive
 from derive.batch import BatchReport, CaseResult, batch, case_key, collect_cases, spectrum_kind
+from derive.batch.task import hard_limit
 from derive.casefile import load_case, load_cases, loads_case, loads_cases
 from derive.cli import cli
 from derive.errors import CaseFileError, ExpressionError, LimitError
 from derive.model import Case
 from derive.pipeline import solve
-
-# The package exports the function ``batch`` under the module's name, so the
-# module itself (for monkeypatching) is taken from the import system.
-batch_mod = importlib.import_module("derive.batch")
+from derive.settings import DEFAULT_SETTINGS
 
 GOOD = """
 [sheet]
@@ -274,9 +273,11 @@ def test_batch_isolates_failures_and_records_reasons(tmp_path):
     assert "\\begin{document}" not in (out / "index-body.tex").read_text()
 
 
-def test_a_worker_stuck_outside_the_alarm_is_killed_and_replaced(tmp_path, monkeypatch):
-    monkeypatch.setattr(batch_mod, "_GRACE", 0.5)
-    report = batch([_case_with("stuck", _HangOnLoad()), ("next", {"A": [[-3]]})], jobs=1, timeout=3)
+def test_a_worker_stuck_outside_the_alarm_is_killed_and_replaced(tmp_path):
+    # A short hard limit: 3 s for the case, 2 s for writing its outputs, 0.5 s of grace.
+    quick = replace(DEFAULT_SETTINGS, batch_grace=0.5, batch_write_seconds=2.0)
+    assert hard_limit(3, pdf=False, settings=quick) == 5.5
+    report = batch([_case_with("stuck", _HangOnLoad()), ("next", {"A": [[-3]]})], jobs=1, timeout=3, settings=quick)
     assert report["stuck"].status == "timeout" and "worker was stopped" in report["stuck"].message
     assert report["next"].status == "ok"
     assert report["stuck"].seconds < 60
@@ -311,15 +312,15 @@ def test_cache_skips_unchanged_and_reruns_changed_cases(tmp_path):
     assert forced.cached_count == 0 and forced.exit_code == 0
 
 
-def test_case_key_covers_inputs_outputs_and_version(monkeypatch):
+def test_case_key_covers_inputs_outputs_and_version():
     case = loads_case(GOOD, name="good")
     key = case_key(case, formats=("latex",), pdf=False)
+    assert key == case_key(case, formats=("latex",), pdf=False, version=derive.__version__)
     assert key == case_key(loads_case(GOOD, name="good"), formats=("latex",), pdf=False)
     assert key != case_key(loads_case(GOOD.replace("[-2, 1]", "[-2, 2]"), name="good"), formats=("latex",), pdf=False)
     assert key != case_key(case, formats=("latex", "json"), pdf=False)
     assert key != case_key(case, formats=("latex",), pdf=True)
-    monkeypatch.setattr(batch_mod, "__version__", "99.0")
-    assert key != case_key(case, formats=("latex",), pdf=False)
+    assert key != case_key(case, formats=("latex",), pdf=False, version="99.0")
 
 
 # ---------------------------------------------------------------------------
