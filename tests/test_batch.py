@@ -422,3 +422,35 @@ def test_dask_cluster_gives_the_same_summary_as_the_local_run(tmp_path):
         for o in r.outputs:
             assert (tmp_path / "dask" / o).read_bytes() == (tmp_path / "local" / o).read_bytes()
     assert remote["decay"].solution is not None
+
+
+# ---------------------------------------------------------------------------
+# Statuses are a str Enum: the old strings still compare, the files hold plain text
+# ---------------------------------------------------------------------------
+
+
+def test_status_is_a_str_enum_and_the_summary_holds_plain_text(tmp_path):
+    from derive.batch import STATUSES, Status
+
+    assert [str(s) for s in STATUSES] == ["ok", "verification-failed", "bad-input", "timeout", "crashed", "error"]
+    made = CaseResult("a", "timeout")
+    assert made.status is Status.TIMEOUT and made.status == "timeout" and not made.ok
+    with pytest.raises(ValueError):
+        CaseResult("a", "finished")
+    report = batch([("decay", {"A": [[-1]], "x0": [1]}), ("nomatrix", {"x0": [1]})], jobs=1, out_dir=tmp_path)
+    assert report["decay"].status is Status.OK and report["nomatrix"].status is Status.BAD_INPUT
+    data = json.loads((tmp_path / "summary.json").read_text())
+    assert [c["status"] for c in data["cases"]] == ["ok", "bad-input"]
+    assert data["counts"] == {"ok": 1, "verification-failed": 0, "bad-input": 1, "timeout": 0, "crashed": 0, "error": 0}
+    with open(tmp_path / "summary.csv", newline="") as fh:
+        assert [r["status"] for r in csv.DictReader(fh)] == ["ok", "bad-input"]
+    # the cache reads its records back into the enum
+    again = batch([("decay", {"A": [[-1]], "x0": [1]})], jobs=1, out_dir=tmp_path)
+    assert again["decay"].cached and again["decay"].status is Status.OK
+
+
+def test_a_case_that_cannot_be_sent_to_a_worker_is_recorded_and_the_others_run():
+    # A lambda cannot be pickled: the case fails in the parent, before any worker sees it.
+    report = batch([_case_with("unsendable", lambda: None), ("next", {"A": [[-2]]})], jobs=1)
+    assert report["unsendable"].status == "error" and "cannot be sent to a worker" in report["unsendable"].message
+    assert report["next"].status == "ok" and report.exit_code == 1

@@ -34,15 +34,13 @@ from typing import Any, Protocol
 from ..errors import InputError
 from .records import CaseResult
 from .store import FLUSH_EVERY
-from .task import Files, Outcome, crashed, run_payload, settle, stopped
+from .task import Files, Outcome, crashed, pool_failed, run_payload, settle, stopped
 
 __all__ = ["Job", "Executor", "LocalPool", "DaskCluster", "run_isolated", "local_context"]
 
 #: What a case needs beyond derive's own imports (they are lazy for a fast CLI):
 #: imported once in the parent, so every forked worker starts with them.
 PRELOAD = ("derive.pipeline", "derive.output", "derive.render", "scipy.integrate")
-#: Times a broken pool (not a case: pebble gives up on the whole pool) is rebuilt for the cases left.
-_REBUILDS = 3
 #: Seconds a fresh interpreter on a cluster worker may take to import derive.
 _STARTUP = 60.0
 
@@ -101,36 +99,25 @@ class LocalPool:
         if ctx.get_start_method() == "fork":
             for module in PRELOAD:
                 importlib.import_module(module)
-        left = list(jobs)
-        for attempt in range(_REBUILDS + 1):
-            # Never more workers than cases: each one costs a process.
-            pool = ProcessPool(max_workers=min(self.workers, len(left)), context=ctx)
-            try:
-                futures: dict[Future[bytes], Job] = {
-                    pool.schedule(run_payload, args=(j.payload, j.name), timeout=self.limit): j for j in left
-                }
-                left = self._drain(futures, done=done, tick=tick, last=attempt == _REBUILDS)
-            finally:
-                pool.stop()
-                pool.join()
-            if not left:
-                return
-
-    def _drain(self, futures: dict[Future[bytes], Job], *, done: Done, tick: Callable[[], bool], last: bool) -> list[Job]:
-        """Report outcomes until every future is done, or the pool broke: then the jobs left, in order."""
-        broken: list[Job] = []
-        while futures:
-            ready, _ = wait(futures, timeout=FLUSH_EVERY if tick() else None, return_when=FIRST_COMPLETED)
-            for fut in ready:
-                job = futures.pop(fut)
-                if isinstance(fut.exception(), BrokenProcessPool) and not last:
-                    broken.append(job)
-                else:
+        # Never more workers than cases: each one costs a process.
+        pool = ProcessPool(max_workers=min(self.workers, len(jobs)), context=ctx)
+        try:
+            futures: dict[Future[bytes], Job] = {
+                pool.schedule(run_payload, args=(j.payload, j.name), timeout=self.limit): j for j in jobs
+            }
+            while futures:
+                ready, _ = wait(futures, timeout=FLUSH_EVERY if tick() else None, return_when=FIRST_COMPLETED)
+                for fut in sorted(ready, key=lambda f: futures[f].index):
+                    job = futures.pop(fut)
+                    if isinstance(fut.exception(), BrokenProcessPool):
+                        # The pool itself gave up (not a case); the cases it never finished would wait forever.
+                        for rest in sorted([job, *futures.values()], key=lambda j: j.index):
+                            done(rest.index, pool_failed(rest.name, fut.exception()), ())
+                        return
                     done(job.index, *settle(fut, job.name, self.limit))
-            if broken:
-                # pebble stops a broken pool: cases it never started go to a fresh one.
-                return sorted(broken + list(futures.values()), key=lambda j: j.index)
-        return []
+        finally:
+            pool.stop()
+            pool.join()
 
 
 def run_isolated(payload: bytes, name: str, limit: float | None) -> Outcome:

@@ -44,6 +44,7 @@ __all__ = [
     "settle",
     "crashed",
     "stopped",
+    "pool_failed",
 ]
 
 #: Files written by a remote worker: (path relative to the output folder, content).
@@ -206,6 +207,15 @@ def stopped(name: str, limit: float) -> CaseResult:
     )
 
 
+def pool_failed(name: str, exc: BaseException | None) -> CaseResult:
+    """The record of a case the worker pool could not run (a failure of the pool, not of the case)."""
+    return CaseResult(
+        name=name,
+        status=Status.ERROR,
+        message=f"the worker pool failed before case {name!r} finished: {type(exc).__name__}: {exc}; run it again",
+    )
+
+
 def settle(future: Future[bytes], name: str, limit: float | None) -> Outcome:
     """The outcome of a finished pool future that ran :func:`run_payload` for case ``name``."""
     from pebble import ProcessExpired
@@ -218,5 +228,5 @@ def settle(future: Future[bytes], name: str, limit: float | None) -> Outcome:
     except ProcessExpired as exc:
         return crashed(name, exc.exitcode), ()
     except Exception as exc:  # the pool itself failed (not the case): recorded, the batch goes on
-        return CaseResult(name=name, status=Status.ERROR, message=f"the worker pool failed: {type(exc).__name__}: {exc}"), ()
+        return pool_failed(name, exc), ()
     return result, files
