@@ -5,8 +5,11 @@ its reason.  The case's own, graceful limit is :func:`derive.limits.time_limit`
 around the solve (SIGALRM stops pure-Python algebra between bytecodes).  The
 executor adds a hard limit per task (:func:`hard_limit`): the case's limit,
 the allowance for writing its outputs, and a grace period.  A worker still
-busy then (stuck in C code, say) is stopped by the pool and replaced, and
-:func:`settle` turns that, or a worker that died, into a result.
+busy then (stuck in C code, say) is stopped and replaced, and :func:`settle`
+turns that, or a worker that died, into a result.  The hard limit is one
+number for the whole task: the pool cannot tell solving from writing, so a
+case stuck in C code while solving is stopped only after the writing
+allowance too.
 
 A task travels to the worker pickled once, in the parent, and is unpickled
 by :func:`run_payload` inside the task itself: a case whose unpickling fails,
