@@ -61,6 +61,12 @@ class Settings:
     integrate_budget: float = 20.0
     #: the default time limit of one case, in seconds
     timeout: float = 120.0
+    #: batches: seconds past a case's own limit (and its writing allowance) before the
+    #: pool stops its worker, seconds for rendering and writing one case's outputs, and
+    #: seconds more for TeX when PDFs are built
+    batch_grace: float = 5.0
+    batch_write_seconds: float = 60.0
+    batch_tex_seconds: float = 120.0
 
 
 DEFAULT_SETTINGS = Settings()

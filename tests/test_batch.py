@@ -8,29 +8,28 @@ from __future__ import annotations
 
 import csv
 import ctypes
-import importlib
 import json
 import os
 import signal
 import subprocess
 import sys
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
 import sympy as sp
 from click.testing import CliRunner
 
+import derive
 from derive.batch import BatchReport, CaseResult, batch, case_key, collect_cases, spectrum_kind
+from derive.batch.task import hard_limit
 from derive.casefile import load_case, load_cases, loads_case, loads_cases
 from derive.cli import cli
 from derive.errors import CaseFileError, ExpressionError, LimitError
 from derive.model import Case
 from derive.pipeline import solve
-
-# The package exports the function ``batch`` under the module's name, so the
-# module itself (for monkeypatching) is taken from the import system.
-batch_mod = importlib.import_module("derive.batch")
+from derive.settings import DEFAULT_SETTINGS
 
 GOOD = """
 [sheet]
@@ -274,9 +273,11 @@ def test_batch_isolates_failures_and_records_reasons(tmp_path):
     assert "\\begin{document}" not in (out / "index-body.tex").read_text()
 
 
-def test_a_worker_stuck_outside_the_alarm_is_killed_and_replaced(tmp_path, monkeypatch):
-    monkeypatch.setattr(batch_mod, "_GRACE", 0.5)
-    report = batch([_case_with("stuck", _HangOnLoad()), ("next", {"A": [[-3]]})], jobs=1, timeout=3)
+def test_a_worker_stuck_outside_the_alarm_is_killed_and_replaced(tmp_path):
+    # A short hard limit: 3 s for the case, 2 s for writing its outputs, 0.5 s of grace.
+    quick = replace(DEFAULT_SETTINGS, batch_grace=0.5, batch_write_seconds=2.0)
+    assert hard_limit(3, pdf=False, settings=quick) == 5.5
+    report = batch([_case_with("stuck", _HangOnLoad()), ("next", {"A": [[-3]]})], jobs=1, timeout=3, settings=quick)
     assert report["stuck"].status == "timeout" and "worker was stopped" in report["stuck"].message
     assert report["next"].status == "ok"
     assert report["stuck"].seconds < 60
@@ -311,15 +312,15 @@ def test_cache_skips_unchanged_and_reruns_changed_cases(tmp_path):
     assert forced.cached_count == 0 and forced.exit_code == 0
 
 
-def test_case_key_covers_inputs_outputs_and_version(monkeypatch):
+def test_case_key_covers_inputs_outputs_and_version():
     case = loads_case(GOOD, name="good")
     key = case_key(case, formats=("latex",), pdf=False)
+    assert key == case_key(case, formats=("latex",), pdf=False, version=derive.__version__)
     assert key == case_key(loads_case(GOOD, name="good"), formats=("latex",), pdf=False)
     assert key != case_key(loads_case(GOOD.replace("[-2, 1]", "[-2, 2]"), name="good"), formats=("latex",), pdf=False)
     assert key != case_key(case, formats=("latex", "json"), pdf=False)
     assert key != case_key(case, formats=("latex",), pdf=True)
-    monkeypatch.setattr(batch_mod, "__version__", "99.0")
-    assert key != case_key(case, formats=("latex",), pdf=False)
+    assert key != case_key(case, formats=("latex",), pdf=False, version="99.0")
 
 
 # ---------------------------------------------------------------------------
@@ -421,3 +422,35 @@ def test_dask_cluster_gives_the_same_summary_as_the_local_run(tmp_path):
         for o in r.outputs:
             assert (tmp_path / "dask" / o).read_bytes() == (tmp_path / "local" / o).read_bytes()
     assert remote["decay"].solution is not None
+
+
+# ---------------------------------------------------------------------------
+# Statuses are a str Enum: the old strings still compare, the files hold plain text
+# ---------------------------------------------------------------------------
+
+
+def test_status_is_a_str_enum_and_the_summary_holds_plain_text(tmp_path):
+    from derive.batch import STATUSES, Status
+
+    assert [str(s) for s in STATUSES] == ["ok", "verification-failed", "bad-input", "timeout", "crashed", "error"]
+    made = CaseResult("a", "timeout")
+    assert made.status is Status.TIMEOUT and made.status == "timeout" and not made.ok
+    with pytest.raises(ValueError):
+        CaseResult("a", "finished")
+    report = batch([("decay", {"A": [[-1]], "x0": [1]}), ("nomatrix", {"x0": [1]})], jobs=1, out_dir=tmp_path)
+    assert report["decay"].status is Status.OK and report["nomatrix"].status is Status.BAD_INPUT
+    data = json.loads((tmp_path / "summary.json").read_text())
+    assert [c["status"] for c in data["cases"]] == ["ok", "bad-input"]
+    assert data["counts"] == {"ok": 1, "verification-failed": 0, "bad-input": 1, "timeout": 0, "crashed": 0, "error": 0}
+    with open(tmp_path / "summary.csv", newline="") as fh:
+        assert [r["status"] for r in csv.DictReader(fh)] == ["ok", "bad-input"]
+    # the cache reads its records back into the enum
+    again = batch([("decay", {"A": [[-1]], "x0": [1]})], jobs=1, out_dir=tmp_path)
+    assert again["decay"].cached and again["decay"].status is Status.OK
+
+
+def test_a_case_that_cannot_be_sent_to_a_worker_is_recorded_and_the_others_run():
+    # A lambda cannot be pickled: the case fails in the parent, before any worker sees it.
+    report = batch([_case_with("unsendable", lambda: None), ("next", {"A": [[-2]]})], jobs=1)
+    assert report["unsendable"].status == "error" and "cannot be sent to a worker" in report["unsendable"].message
+    assert report["next"].status == "ok" and report.exit_code == 1
