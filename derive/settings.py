@@ -61,6 +61,8 @@ class Settings:
     integrate_budget: float = 20.0
     #: the default time limit of one case, in seconds
     timeout: float = 120.0
+    #: numeric check: digits of the repeat at high precision when double precision is limited by round-off
+    numeric_hp_digits: int = 30
 
 
 DEFAULT_SETTINGS = Settings()

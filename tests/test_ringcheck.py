@@ -163,7 +163,7 @@ def test_solutions_of_the_solver_are_settled_exactly():
 
 
 # ---------------------------------------------------------------------------
-# the numeric functions of the numeric check (derive.exact.numeric_function)
+# the numeric functions of the numeric check (derive.verify.evaluate.numeric_function)
 
 
 @pytest.mark.parametrize(
@@ -181,11 +181,11 @@ def test_tree_evaluation_matches_lambdify(expr):
     (sympy's lambdify is the reference), real where lambdify's are real."""
     import numpy as np
 
-    from derive.exact import _TreeFunction, numeric_function
+    from derive.verify.evaluate import TreeFunction, numeric_function
 
     grid = np.linspace(-1.0, 3.0, 25)
     ours = numeric_function(t, [expr, t], "numpy")
-    assert isinstance(ours, _TreeFunction)
+    assert isinstance(ours, TreeFunction)
     got = np.broadcast_to(np.asarray(ours(grid)[0]), grid.shape)
     ref = np.broadcast_to(np.asarray(sp.lambdify(t, expr, "numpy")(grid)), grid.shape)
     assert np.max(np.abs(got - ref)) <= 1e-13 * max(1.0, float(np.max(np.abs(ref))))
@@ -193,11 +193,11 @@ def test_tree_evaluation_matches_lambdify(expr):
 
 
 def test_numeric_function_falls_back_to_lambdify_outside_the_tree():
-    from derive.exact import _TreeFunction, numeric_function
+    from derive.verify.evaluate import TreeFunction, numeric_function
 
     k = sp.Symbol("k")
-    assert not isinstance(numeric_function(t, [sp.Heaviside(t - 1)], "numpy"), _TreeFunction)
-    assert not isinstance(numeric_function(t, [k * t], "numpy"), _TreeFunction)  # a second symbol
+    assert not isinstance(numeric_function(t, [sp.Heaviside(t - 1)], "numpy"), TreeFunction)
+    assert not isinstance(numeric_function(t, [k * t], "numpy"), TreeFunction)  # a second symbol
     assert numeric_function(t, [sp.Heaviside(t - 1) * t], "numpy")(2.0)[0] == 2.0
 
 
@@ -206,17 +206,17 @@ def test_numeric_function_reads_given_values_of_other_symbols():
     substituted expression is the reference, and the lambdify route substitutes them."""
     import numpy as np
 
-    from derive.exact import _TreeFunction, numeric_function
+    from derive.verify.evaluate import TreeFunction, numeric_function
 
     c1, c2 = sp.symbols("c_1 c_2")
     expr = c1 * sp.exp(-t) * sp.cos(2 * t) + c2 * t * sp.exp(-t / 2)
     vals = {c1: sp.Rational(3, 4), c2: sp.Rational(-2, 3)}
     grid = np.linspace(0.0, 4.0, 17)
     ours = numeric_function(t, [expr], "numpy", values=vals)
-    assert isinstance(ours, _TreeFunction)
+    assert isinstance(ours, TreeFunction)
     ref = sp.lambdify(t, expr.xreplace(vals), "numpy")(grid)
     assert np.max(np.abs(ours(grid)[0] - ref)) <= 1e-14
     # outside the walk (a Heaviside) the values are put in before lambdify
     other = numeric_function(t, [c1 * sp.Heaviside(t - 1)], "numpy", values=vals)
-    assert not isinstance(other, _TreeFunction)
+    assert not isinstance(other, TreeFunction)
     assert other(2.0)[0] == 0.75
