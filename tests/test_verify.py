@@ -112,6 +112,26 @@ def test_symbolic_parameter_with_a_rational_input_is_accepted():
         assert all(abs(g - r) < mpmath.mpf(10) ** -20 for g, r in zip(got, ref))
 
 
+def test_an_undecided_residual_is_decided_numerically_and_says_so():
+    """x' = -x + e^{-t^2}, x(0) = 0, answered as int_0^t e^{-(t-s)} e^{-s^2} ds: the residual
+    holds two integrals that no exact step merges; the numeric identity test with
+    quadrature decides, the verification says so in a note, and the value at t = 1
+    matches mpmath's Taylor-series ODE solver (mpmath.odefun).  A wrong kernel is refused."""
+    s = sp.Symbol("s", real=True)
+    system, _ = build_system([[-1]], [sp.exp(-t**2)], t=t, x0=[0])
+    x = sp.Matrix([sp.Integral(sp.exp(-(t - s)) * sp.exp(-s**2), (s, 0, t))])
+    v = verify(system, x)
+    assert v.ok and "quadrature" in v.residual_method
+    assert any("decided zero by the numeric identity test" in note for note in v.notes)
+    assert v.numeric is not None and v.numeric.ok
+    with mpmath.workdps(30):
+        ref = mpmath.odefun(lambda tt, y: -y + mpmath.exp(-tt**2), 0, 0)(1)
+        assert abs(_value_at(x[0], "1") - ref) < mpmath.mpf(10) ** -20
+    wrong = sp.Matrix([sp.Integral(sp.exp(-2 * (t - s)) * sp.exp(-s**2), (s, 0, t))])
+    refused = verify(system, wrong)
+    assert not refused.ok and not refused.residual_zero
+
+
 def _eight_state():
     """8 states, eigenvalues -3, 2, 1 +- i, -1, -2 +- 3i, 1/4 (distinct, growing modes up to 2),
     behind a unimodular similarity that makes the eigenvectors ill-conditioned."""
@@ -202,13 +222,15 @@ def test_verify_accepts_every_right_answer_and_refuses_perturbed_ones(data):
     A = S * sp.diag(*blocks) * S.inv()
     x = _reference(blocks, S, x0)
     system, _ = build_system(A, t=t, x0=x0)
-    ok = verify(system, x)
+    # the eigenvalues set the span of the numeric check, as in a solve
+    lams = [b[0, 0] + sgn * sp.I * b[0, b.cols - 1] for b in blocks for sgn in ((1, -1) if b.rows == 2 else (0,))]
+    ok = verify(system, x, eigenvalues=lams)
     assert ok.ok, (A, ok)
     # the same answer as a general solution (x0 as the constants): accepted too
     cs = sp.symbols(f"c1:{n + 1}")
     general = _reference(blocks, S, cs)
     gen_system = replace(system, x0=None)
-    assert verify(gen_system, general, constants=cs).ok
+    assert verify(gen_system, general, constants=cs, eigenvalues=lams).ok
     # x + 1e-6 t is refused, and so is a wrong coefficient of one mode
     assert not verify(system, x + sp.Matrix([sp.Rational(1, 10**6) * t] * n)).ok
     term = next(a for e in x for a in sp.Add.make_args(e) if a.has(t))

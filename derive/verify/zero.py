@@ -355,7 +355,7 @@ def _numeric(expr: sp.Expr, t: sp.Symbol | None, policy: ZeroPolicy) -> ZeroVerd
         for where, side in plan:
             for _ in range(4):  # a few redraws if the point hits a singularity
                 point = {s: draw(s, rng) for s in others} if where < 0 else dict(base)
-                if t in syms:
+                if t is not None and t in syms:
                     if where < 0:
                         point[t] = draw(t, rng) if rng.random() < 0.5 else sp.Rational(rng.randint(-20, 40), 17)
                         if (t.is_positive or t.is_nonnegative) and point[t] <= 0:
