@@ -7,6 +7,7 @@ identity, named beside the check.
 
 from __future__ import annotations
 
+import os
 import random
 from dataclasses import replace
 
@@ -214,7 +215,8 @@ def _reference(blocks, S, x0):
     return (S * eBt * S.inv() * sp.Matrix(x0)).applyfunc(lambda e: sp.expand(sp.expand_complex(e)))
 
 
-@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+# 15 examples by default; DERIVE_VERIFY_EXAMPLES=200 for a slow run
+@settings(max_examples=int(os.environ.get("DERIVE_VERIFY_EXAMPLES", "15")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(generated())
 def test_verify_accepts_every_right_answer_and_refuses_perturbed_ones(data):
     blocks, S, x0 = data
