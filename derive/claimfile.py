@@ -37,6 +37,7 @@ from .check import IMAGINARY_NAMES, claim_symbols, parse_claim_value
 from .errors import CaseFileError, LimitError
 from .model import Case
 from .parsing import DEFAULT_LIMITS, name_problem, nearest
+from .valuetext import show, type_name
 
 __all__ = ["CLAIM_KEYS", "Claim", "read_claim", "load_claim", "loads_claim"]
 
@@ -58,16 +59,6 @@ class Claim:
     notices: tuple[str, ...] = ()
 
 
-def _type_name(value: object) -> str:
-    names = {str: "a string", int: "an integer", float: "a number", bool: "a boolean", list: "a list", dict: "a table"}
-    return names.get(type(value), type(value).__name__)
-
-
-def _show(value: object) -> str:
-    text = repr(value)
-    return text if len(text) <= 60 else text[:57] + "..."
-
-
 @dataclass(frozen=True)
 class _Reader:
     file: str | None
@@ -81,7 +72,7 @@ class _Reader:
 
     def scalar(self, value: object, key: str, *, new_names: dict[str, sp.Symbol] | None = None) -> sp.Expr:
         if isinstance(value, bool) or not isinstance(value, (str, int, float)):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a number or an expression string")
+            raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected a number or an expression string")
         return parse_claim_value(
             value,
             symbols=self.symbols,
@@ -94,7 +85,7 @@ class _Reader:
 
     def vector(self, value: object, key: str, *, new_names: dict[str, sp.Symbol] | None = None) -> sp.ImmutableMatrix:
         if not isinstance(value, list):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of {self.n} entries")
+            raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected a list of {self.n} entries")
         if len(value) != self.n:
             raise self.error(key, f"the case has {self.n} states but {key} has {len(value)} entries")
         return sp.ImmutableMatrix([[self.scalar(v, f"{key}[{i}]", new_names=new_names)] for i, v in enumerate(value)])
@@ -102,14 +93,14 @@ class _Reader:
     def matrix(self, value: object, key: str) -> sp.ImmutableMatrix:
         n = self.n
         if not isinstance(value, list):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of {n} rows")
+            raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected a list of {n} rows")
         if len(value) != n:
             raise self.error(key, f"the case has {n} states, so {key} must be {n}x{n}, but it has {len(value)} rows")
         rows = []
         for i, row in enumerate(value):
             rk = f"{key}[{i}]"
             if not isinstance(row, list):
-                raise self.error(rk, f"{rk} is {_type_name(row)} ({_show(row)}); expected a row of {n} entries")
+                raise self.error(rk, f"{rk} is {type_name(row)} ({show(row)}); expected a row of {n} entries")
             if len(row) != n:
                 raise self.error(rk, f"{key} must be {n}x{n}, but {rk} has {len(row)} entries")
             rows.append([self.scalar(v, f"{rk}[{j}]") for j, v in enumerate(row)])
@@ -117,7 +108,7 @@ class _Reader:
 
     def values(self, value: object, key: str) -> tuple[sp.Expr, ...]:
         if not isinstance(value, list):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of values")
+            raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected a list of values")
         if not value:
             raise self.error(key, f"{key} is empty; expected the {self.n} eigenvalues, counted with multiplicity")
         return tuple(self.scalar(v, f"{key}[{i}]") for i, v in enumerate(value))
@@ -137,7 +128,7 @@ class _Reader:
         if not isinstance(value, list) or not value:
             raise self.error(
                 key,
-                f"{key} is {_type_name(value)} ({_show(value)}); expected a list of [eigenvalue, vector] pairs, "
+                f"{key} is {type_name(value)} ({show(value)}); expected a list of [eigenvalue, vector] pairs, "
                 "a list of vectors aligned with eigenvalues, or a table eigenvalue = vector",
             )
         pairs = [isinstance(v, list) and len(v) == 2 and not isinstance(v[0], list) and isinstance(v[1], list) for v in value]
@@ -188,7 +179,7 @@ def _build(data: Mapping[str, Any], *, case: Case, file: str | None, digest: str
         raw = data["constants"]
         if not isinstance(raw, list) or not all(isinstance(c, str) for c in raw):
             raise CaseFileError(
-                f"constants is {_type_name(raw)} ({_show(raw)}); expected a list of names such as [\"c1\", \"c2\"]",
+                f"constants is {type_name(raw)} ({show(raw)}); expected a list of names such as [\"c1\", \"c2\"]",
                 file=file,
                 key="constants",
             )

@@ -67,6 +67,8 @@ class Settings:
     batch_grace: float = 5.0
     batch_write_seconds: float = 60.0
     batch_tex_seconds: float = 120.0
+    #: numeric check: digits of the repeat at high precision when double precision is limited by round-off
+    numeric_hp_digits: int = 30
 
 
 DEFAULT_SETTINGS = Settings()

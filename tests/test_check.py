@@ -51,6 +51,77 @@ def _item(report: CheckReport, name: str):
 
 
 # ---------------------------------------------------------------------------
+# The independent reference: sympy's own routines, never derive's zero test
+
+
+def _num(e) -> complex:
+    return complex(sp.N(e, 30))
+
+
+def _small(values, tol: float = 1e-18) -> bool:
+    return all(abs(_num(v)) < tol for v in values)
+
+
+def _confirmed(report: CheckReport, item) -> bool:
+    """Does sympy agree with the item's claim?  Parameters get fixed positive values,
+    constants too; sympy's Matrix.eigenvals, det, diff and evalf (30 digits) decide, at
+    t = 3/10, 7/5 and 13/4 for the solution items (a step before 13/4 is crossed)."""
+    params = {s: sp.Rational(7 + k, 3) for k, s in enumerate(sorted(report.A.free_symbols | report.f.free_symbols - {report.t}, key=str))}
+    params.update({c: sp.Rational(k + 2, 5) * (-1) ** k for k, c in enumerate(report.constants)})
+    A = report.A.xreplace(params)
+    n = A.rows
+    claimed = item.claimed.xreplace(params) if item.claimed is not None else None
+    if item.step == "eigenvalues":
+        if claimed.rows != n:
+            return False
+        want = sorted((_num(k) for k, m in A.eigenvals().items() for _ in range(m)), key=lambda z: (round(z.real, 12), round(z.imag, 12)))
+        got = sorted((_num(v) for v in claimed), key=lambda z: (round(z.real, 12), round(z.imag, 12)))
+        return all(abs(a - b) < 1e-18 for a, b in zip(want, got))
+    if item.step == "eigenvectors" and item.name.endswith("independent"):
+        import numpy as np
+
+        return np.linalg.matrix_rank(np.array(claimed.evalf(20).tolist(), dtype=complex)) == claimed.cols
+    if item.step == "eigenvectors":  # A v parallel to v and v nonzero: every 2x2 minor of [A v, v] vanishes
+        Av = A * claimed
+        return not _small(claimed) and _small([Av[i] * claimed[j] - Av[j] * claimed[i] for i in range(n) for j in range(n)])
+    if item.step == "P":
+        D = next((it.claimed for it in report.items if it.step == "D"), None)
+        if abs(_num(claimed.det())) < 1e-18:
+            return False
+        if D is not None:
+            return _small(A * claimed - claimed * D.xreplace(params))
+        M = claimed.inv() * A * claimed  # must be diagonal or a Jordan matrix
+        chain = [M[i, i + 1] * (M[i, i + 1] - 1) for i in range(n - 1)]
+        chain += [M[i, i + 1] * (M[i, i] - M[i + 1, i + 1]) for i in range(n - 1)]
+        return _small([M[i, j] for i in range(n) for j in range(n) if j not in (i, i + 1)] + chain)
+    if item.step == "D":
+        want = sorted((_num(k) for k, m in A.eigenvals().items() for _ in range(m)), key=lambda z: (round(z.real, 12), round(z.imag, 12)))
+        got = sorted((_num(claimed[i, i]) for i in range(n)), key=lambda z: (round(z.real, 12), round(z.imag, 12)))
+        off = [claimed[i, j] for i in range(n) for j in range(n) if j not in (i, i + 1)]
+        return _small(off) and all(abs(a - b) < 1e-18 for a, b in zip(want, got))
+    if item.step == "P_inv":
+        P = next(it.claimed for it in report.items if it.step == "P").xreplace(params)
+        return _small(P * claimed - sp.eye(n))
+    x, tt = claimed, report.t
+    if item.name.endswith("x' = A x + f"):
+        r = x.diff(tt) - A * x - report.f.xreplace(params)
+        return _small([e.subs(tt, v) for e in r for v in (sp.Rational(3, 10), sp.Rational(7, 5), sp.Rational(13, 4))])
+    if item.name.endswith("independent constants"):
+        if len(report.constants) != n:
+            return False
+        J = item.claimed.jacobian(sp.Matrix(report.constants)).xreplace(params)
+        return abs(_num(J.det().subs(tt, sp.Rational(3, 10)))) > 1e-18
+    if item.name.endswith("x(t0) = x0"):
+        return _small(x.subs(tt, report.t0) - report.x0.xreplace(params))
+    raise AssertionError(f"no reference for {item.name}")
+
+
+def _reference_agrees(report: CheckReport) -> bool:
+    """Every item's verdict is the reference's."""
+    return all(_confirmed(report, it) == it.ok for it in report.items)
+
+
+# ---------------------------------------------------------------------------
 # Data-driven: one claim file per scenario, with the expected first wrong step
 
 # claim file -> (first wrong step, failing item, phrase in its detail); None: all pass
@@ -79,6 +150,7 @@ def test_every_claim_file_has_an_expectation() -> None:
 def test_claim_file(name: str) -> None:
     report = _run(name)
     expected = CLAIMS[name]
+    assert _reference_agrees(report), [(it.name, it.ok) for it in report.items if _confirmed(report, it) != it.ok]
     if expected is None:
         assert report.ok, [(it.name, it.detail) for it in report.items if not it.ok]
         assert report.first_failure is None
@@ -135,6 +207,7 @@ def test_equivalent_forms_pass() -> None:
         x=[5 * K * sp.exp(3 * t) + c1 * sp.exp(-t), 5 * K * sp.exp(3 * t) - c1 * sp.exp(-t)],
     )
     assert report.ok, [(it.name, it.detail) for it in report.items if not it.ok]
+    assert _reference_agrees(report)
     assert set(report.constants) == {c1, K}
     assert c2 not in report.constants
     assert [it.step for it in report.items] == sorted((it.step for it in report.items), key=STEP_ORDER.index)
@@ -142,7 +215,7 @@ def test_equivalent_forms_pass() -> None:
 
 def test_eigenvectors_scaled_by_minus_two_and_any_order() -> None:
     report = check(A2, eigenvectors=[(-1, [-2, 2]), (3, [-2, -2])])
-    assert report.ok
+    assert report.ok and _reference_agrees(report)
     assert all("decided exactly" in it.detail for it in report.items)
 
 
@@ -168,9 +241,9 @@ def test_zero_vector_is_not_an_eigenvector() -> None:
 def test_eigenvalue_multiplicity_is_checked() -> None:
     A = sp.Matrix([[2, 0, 0], [0, 2, 0], [0, 0, 3]])
     good = check(A, eigenvalues=[3, 2, 2])
-    assert good.ok
+    assert good.ok and _reference_agrees(good)
     bad = check(A, eigenvalues=[2, 3, 3])
-    assert not bad.ok
+    assert not bad.ok and _reference_agrees(bad)
     assert "multiplicity" in bad.items[0].detail
     assert "the right eigenvalues are (2, 2, 3)" in bad.items[0].detail
     short = check(A, eigenvalues=[2, 3])
@@ -180,14 +253,17 @@ def test_eigenvalue_multiplicity_is_checked() -> None:
 def test_dependent_eigenvectors_of_a_repeated_eigenvalue() -> None:
     A = sp.Matrix([[2, 0, 0], [0, 2, 0], [0, 0, 3]])
     report = check(A, eigenvectors=[(2, [1, 1, 0]), (2, [2, 2, 0]), (3, [0, 0, 1])])
+    assert _reference_agrees(report)
     indep = _item(report, "eigenvectors for 2: independent")
     assert not indep.ok and "rank 1" in indep.detail
     assert _item(report, "eigenvector for 2 (#1)").ok and _item(report, "eigenvector for 2 (#2)").ok
 
 
 def test_p_checked_without_d() -> None:
-    assert check(A2, P=[[1, 1], [1, -1]]).ok
+    good = check(A2, P=[[1, 1], [1, -1]])
+    assert good.ok and _reference_agrees(good)
     report = check(A2, P=[[1, 0], [1, 1]])
+    assert _reference_agrees(report)
     assert not report.ok and "not diagonal or a Jordan matrix" in report.items[0].detail
 
 
@@ -213,6 +289,7 @@ def test_jordan_form_claims() -> None:
     x = sp.exp(2 * t) * (a * P[:, 0] + b * (t * P[:, 0] + P[:, 1]))
     report = check(A, t=t, eigenvalues=[2, 2], P=P, D=J, P_inv=P.inv(), x=list(x))
     assert report.ok, [(it.name, it.detail) for it in report.items if not it.ok]
+    assert _reference_agrees(report)
     diag = check(A, D=[[2, 0], [0, 2]])
     assert not diag.ok
     assert "not diagonalizable" in diag.items[0].detail
@@ -231,11 +308,12 @@ def test_parameters_are_checked_symbolically() -> None:
         x=[A_ * sp.cos(w * t) + B_ * sp.sin(w * t), w * (B_ * sp.cos(w * t) - A_ * sp.sin(w * t))],
     )
     assert good.ok, [(it.name, it.detail) for it in good.items if not it.ok]
+    assert _reference_agrees(good)
     assert good.constants == (A_, B_)  # k is a parameter, not a constant
     eig = _item(good, "eigenvalues")
     assert eig.method == "exact" and "k + lambda^2" in eig.detail
     bad = check(A, t=t, eigenvalues=[sp.I * k, -sp.I * k])
-    assert not bad.ok
+    assert not bad.ok and _reference_agrees(bad)
     assert bad.items[0].residual.free_symbols == {k}
 
 
@@ -245,7 +323,8 @@ def test_parameter_names_in_strings() -> None:
         '[parameters.k]\nassume = ["positive"]\n[parameters.z]\nassume = ["positive"]\n'
     )
     claim = loads_claim('eigenvalues = ["-z + sqrt(z^2 - k)", "-z - sqrt(z^2 - k)"]', case=case)
-    assert check(**claim.kwargs).ok
+    good = check(**claim.kwargs)
+    assert good.ok and _reference_agrees(good)
     wrong = loads_claim('eigenvalues = ["-z + sqrt(z^2 + k)", "-z - sqrt(z^2 + k)"]', case=case)
     assert not check(**wrong.kwargs).ok
 
@@ -258,6 +337,7 @@ def test_step_forcing_is_sampled_on_both_sides_of_the_switch() -> None:
     right = c * sp.exp(-t) + sp.Heaviside(t - 30) * (1 - sp.exp(30 - t))
     ok = check([[-1]], f, t=t, x=[right])
     assert ok.ok, [it.detail for it in ok.items]
+    assert _reference_agrees(ok)  # sympy's diff leaves delta(t - 30) (1 - e^0) = 0 at the sample points
     # Continuous at the switch but wrong after it: (1 - exp(30 - t))^2 for 1 - exp(30 - t).
     wrong = c * sp.exp(-t) + sp.Heaviside(t - 30) * (1 - sp.exp(30 - t)) ** 2
     bad = check([[-1]], f, t=t, x=[wrong])
@@ -294,8 +374,10 @@ def test_cubic_radicals_are_decided_numerically() -> None:
     cardano = list(sp.roots(lam**3 - 3 * lam - 1, lam, cubics=True))
     good = check(A, eigenvalues=cardano[::-1])
     assert good.ok and good.items[0].method == "numeric (50 digits)"
+    assert _reference_agrees(good)
     assert "numeric identity test (50 digits)" in good.items[0].detail
     bad = check(A, eigenvalues=[cardano[0], cardano[1], cardano[1]])
+    assert _reference_agrees(bad)
     assert not bad.ok and "nonzero by a numeric test" in bad.items[0].detail
 
 
@@ -304,7 +386,7 @@ def test_indexed_roots() -> None:
     A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])
     roots = [sp.CRootOf(lam**3 - 3 * lam - 1, k) for k in range(3)]
     good = check(A, eigenvalues=roots[::-1])
-    assert good.ok
+    assert good.ok and _reference_agrees(good)
     other = [sp.CRootOf(lam**3 - 3 * lam + 1, k) for k in range(3)]
     assert not check(A, eigenvalues=other).ok
     # The report has no legend of root names, so a root is printed in full.
@@ -314,7 +396,8 @@ def test_indexed_roots() -> None:
 def test_imaginary_unit_in_claim_strings() -> None:
     case = loads_case("[system]\nmatrix = [[1, -2], [2, 1]]\n")
     claim = loads_claim('eigenvalues = ["1 + 2i", "1 - 2j"]\neigenvectors = [["1 + 2i", ["1", "-i"]]]', case=case)
-    assert check(**claim.kwargs).ok
+    report = check(**claim.kwargs)
+    assert report.ok and _reference_agrees(report)
 
 
 # ---------------------------------------------------------------------------
@@ -520,7 +603,8 @@ def test_perturbed_item_is_caught(case) -> None:
         P_inv=P_inv,
         x=list(x),
     )
-    assert check(A, t=t, **claims).ok
+    right = check(A, t=t, **claims)
+    assert right.ok and _reference_agrees(right)
     if which == "P_inv":
         bad = sp.Matrix(P_inv)
         bad[i, j] += delta
@@ -540,7 +624,7 @@ def test_perturbed_item_is_caught(case) -> None:
         claims["x"] = bad_x
         expected = ("general solution", "general solution: x' = A x + f")
     report = check(A, t=t, **claims)
-    assert not report.ok
+    assert not report.ok and _reference_agrees(report)
     first = report.first_failure
     assert first is not None and (first.step, first.name) == expected
     # Nothing outside the perturbed step fails (a perturbed x may also lose a constant).

@@ -20,11 +20,25 @@ t = sp.Symbol("t")
 Z = sp.zeros(2, 2)
 
 
+def _sympy_agrees(x, A, f) -> bool:
+    """The independent reference: sympy's diff and simplify say x' - A x - f = 0; where
+    simplify cannot reduce an entry (indexed roots), sympy's evalf at 30 digits at three
+    points must give |entry| < 1e-20 (sympy's own evaluator, not derive's zero test)."""
+    r = sp.Matrix(x).diff(t) - sp.Matrix(A) * sp.Matrix(x) - sp.Matrix(f)
+    for e in r:
+        if not e.has(sp.CRootOf) and sp.simplify(e) == 0:
+            continue
+        if any(abs(sp.N(e.subs(t, sp.Rational(p, 7)), 30)) > 1e-20 for p in (-3, 2, 9)):
+            return False
+    return True
+
+
 def test_rotation_decay_solution_is_settled():
     # x' = [[-1, 2], [-2, -1]] x: e^{-t}(cos 2t, -sin 2t) solves it (common practice)
     A = sp.Matrix([[-1, 2], [-2, -1]])
     x = [sp.exp(-t) * sp.cos(2 * t), -sp.exp(-t) * sp.sin(2 * t)]
     assert residual_is_zero(x, A, [0, 0], t)
+    assert _sympy_agrees(x, A, [0, 0])
     assert initial_is_zero(x, [1, 0], t)
     assert not initial_is_zero(x, [1, 1], t)
 
@@ -35,6 +49,7 @@ def test_radicals_in_exponents_and_coefficients_cancel():
     r = sp.sqrt(2)
     x = [(1 + r) * sp.exp(r * t), sp.exp(r * t)]
     assert residual_is_zero(x, A, [0, 0], t)
+    assert _sympy_agrees(x, A, [0, 0])
     # the other eigenvector with the wrong eigenvalue is not a solution
     assert not residual_is_zero([(1 - r) * sp.exp(r * t), sp.exp(r * t)], A, [0, 0], t)
 
@@ -45,6 +60,7 @@ def test_parameters_in_the_coefficient_domain():
     A = sp.Matrix([[0, 1], [-k / m, 0]])
     x = [sp.cos(w * t), -w * sp.sin(w * t)]
     assert residual_is_zero(x, A, [0, 0], t)
+    assert _sympy_agrees(x, A, [0, 0])
     assert not residual_is_zero([sp.cos(w * t), w * sp.sin(w * t)], A, [0, 0], t)
 
 
@@ -53,6 +69,7 @@ def test_forced_resonant_term():
     A = sp.Matrix([[0, 1], [-1, 0]])
     x = [t * sp.sin(t) / 2, sp.sin(t) / 2 + t * sp.cos(t) / 2]
     assert residual_is_zero(x, A, [0, sp.cos(t)], t)
+    assert _sympy_agrees(x, A, [0, sp.cos(t)])
     assert not residual_is_zero(x, A, [0, sp.sin(t)], t)
 
 
@@ -61,6 +78,7 @@ def test_indexed_roots_reduced_by_their_polynomial():
     lam = sp.CRootOf(z**5 - z - 1, 0)  # the real root; x = e^{lam t} solves x' = lam x
     x = [sp.exp(lam * t)]
     assert residual_is_zero(x, sp.Matrix([[lam]]), [0], t)
+    assert _sympy_agrees(x, sp.Matrix([[lam]]), [0])
     assert not residual_is_zero(x, sp.Matrix([[lam + 1]]), [0], t)
 
 
@@ -90,6 +108,7 @@ def test_verify_falls_back_when_the_ring_cannot_settle():
     )
     ver = verify(system, sp.Matrix(sol_x), numeric=False)
     assert ver.residual_zero
+    assert _sympy_agrees(sol_x, [[2]], [0])
 
 
 # ---------------------------------------------------------------------------
@@ -160,10 +179,12 @@ def test_solutions_of_the_solver_are_settled_exactly():
     A = sp.Matrix([[0, 1, 0], [0, 0, 1], [1, 3, 0]])  # lambda^3 - 3 lambda - 1
     sol = derive.solve(A)
     assert residual_is_zero(list(sol.x), A, [0, 0, 0], t)
+    values = {c: sp.Rational(k + 2, 3) for k, c in enumerate(sol.constants)}
+    assert _sympy_agrees(list(sol.x.xreplace(values)), A, [0, 0, 0])
 
 
 # ---------------------------------------------------------------------------
-# the numeric functions of the numeric check (derive.exact.numeric_function)
+# the numeric functions of the numeric check (derive.verify.evaluate.numeric_function)
 
 
 @pytest.mark.parametrize(
@@ -181,11 +202,11 @@ def test_tree_evaluation_matches_lambdify(expr):
     (sympy's lambdify is the reference), real where lambdify's are real."""
     import numpy as np
 
-    from derive.exact import _TreeFunction, numeric_function
+    from derive.verify.evaluate import TreeFunction, numeric_function
 
     grid = np.linspace(-1.0, 3.0, 25)
     ours = numeric_function(t, [expr, t], "numpy")
-    assert isinstance(ours, _TreeFunction)
+    assert isinstance(ours, TreeFunction)
     got = np.broadcast_to(np.asarray(ours(grid)[0]), grid.shape)
     ref = np.broadcast_to(np.asarray(sp.lambdify(t, expr, "numpy")(grid)), grid.shape)
     assert np.max(np.abs(got - ref)) <= 1e-13 * max(1.0, float(np.max(np.abs(ref))))
@@ -193,11 +214,11 @@ def test_tree_evaluation_matches_lambdify(expr):
 
 
 def test_numeric_function_falls_back_to_lambdify_outside_the_tree():
-    from derive.exact import _TreeFunction, numeric_function
+    from derive.verify.evaluate import TreeFunction, numeric_function
 
     k = sp.Symbol("k")
-    assert not isinstance(numeric_function(t, [sp.Heaviside(t - 1)], "numpy"), _TreeFunction)
-    assert not isinstance(numeric_function(t, [k * t], "numpy"), _TreeFunction)  # a second symbol
+    assert not isinstance(numeric_function(t, [sp.Heaviside(t - 1)], "numpy"), TreeFunction)
+    assert not isinstance(numeric_function(t, [k * t], "numpy"), TreeFunction)  # a second symbol
     assert numeric_function(t, [sp.Heaviside(t - 1) * t], "numpy")(2.0)[0] == 2.0
 
 
@@ -206,17 +227,26 @@ def test_numeric_function_reads_given_values_of_other_symbols():
     substituted expression is the reference, and the lambdify route substitutes them."""
     import numpy as np
 
-    from derive.exact import _TreeFunction, numeric_function
+    from derive.verify.evaluate import TreeFunction, numeric_function
 
     c1, c2 = sp.symbols("c_1 c_2")
     expr = c1 * sp.exp(-t) * sp.cos(2 * t) + c2 * t * sp.exp(-t / 2)
     vals = {c1: sp.Rational(3, 4), c2: sp.Rational(-2, 3)}
     grid = np.linspace(0.0, 4.0, 17)
     ours = numeric_function(t, [expr], "numpy", values=vals)
-    assert isinstance(ours, _TreeFunction)
+    assert isinstance(ours, TreeFunction)
     ref = sp.lambdify(t, expr.xreplace(vals), "numpy")(grid)
     assert np.max(np.abs(ours(grid)[0] - ref)) <= 1e-14
     # outside the walk (a Heaviside) the values are put in before lambdify
     other = numeric_function(t, [c1 * sp.Heaviside(t - 1)], "numpy", values=vals)
-    assert not isinstance(other, _TreeFunction)
+    assert not isinstance(other, TreeFunction)
     assert other(2.0)[0] == 0.75
+
+
+def test_text_is_never_read_as_an_expression():
+    """The ring check takes sympy objects (and Python integers) only: strict sympify refuses
+    a string instead of parsing it, so user text can never reach it unparsed."""
+    A = sp.Matrix([[-1]])
+    assert residual_is_zero([sp.exp(-t)], A, [0], t)
+    with pytest.raises(sp.SympifyError):
+        residual_is_zero(["exp(-t)"], A, [0], t)

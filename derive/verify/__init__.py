@@ -1,40 +1,50 @@
-"""Independent checks of a solution, on by default.
+"""Independent checks of a solution, on by default: one ``verify`` for one piece or many.
 
-1. Substitution: x' - A x - f is reduced to zero exactly, first in a
-   polynomial ring with the exponentials, cosines and sines as generators
-   (``derive.ringcheck``), else by expansion and simplification, else by a
-   numeric identity test at 50 digits.
-2. Initial values: x(t0) - x0 = 0 for an initial value problem, the same way.
-3. Numeric integration: where every parameter has a value, x(t) is computed
-   numerically from x(t0) and compared with the exact solution at 60 points:
-   stepped by scipy's matrix exponential when f = 0, and when f is a sum of
-   modes t^k e^{gamma t} (sines and cosines included) with those modes
-   appended to the state; integrated by scipy's ``solve_ivp`` (DOP853, rtol
-   1e-11, atol 1e-13) otherwise; a general solution is checked with its
-   constants set to fixed sample values.
+1. Substitution: x' - A x - f on every interval is reduced to zero exactly,
+   first in a polynomial ring with the exponentials, cosines and sines as
+   generators (``derive.ringcheck``), else by the one zero test
+   (``derive.verify.zero``: exact reduction, then a numeric identity test at
+   high precision, integrals by quadrature).
+2. Joins: at every switch x(t+) - x(t-) equals the prescribed jump (zero for
+   a step), the same way; a mismatch counts against the residual (x' - A x - f
+   taken as a distribution carries a delta there).
+3. Initial values: x(t0) - x0 = 0 for an initial value problem (with an
+   impulse at t0: x(t0+) = x0 + b).
+4. Numeric: x(t) computed by a route of its own (``derive.verify.numeric``)
+   and compared with the exact pieces; a general solution with its constants
+   at fixed sample values.
 
 These use only the final x(t), A, f and x0, never the intermediate objects of
-the derivation, so a slip anywhere in the derivation shows up here.
+the derivation, so a slip anywhere in the derivation shows up here.  Tuning
+comes from a ``derive.settings.Settings`` record passed in.
 """
 
 from __future__ import annotations
 
-import math
-from typing import Sequence
+from collections.abc import Sequence
 
-import numpy as np
 import sympy as sp
 import sympy.codegen.ast  # noqa: F401 - lambdify's printers import it on first use: load it with the package
 
-from ..exact import decide_zero, numeric_function, root_value
-from ..model import NumericCheck, System, Verification
+from ..model import System, Verification
 from ..ringcheck import initial_is_zero, residual_is_zero
+from ..settings import DEFAULT_SETTINGS, Settings
+from .numeric import NumericSkipped, PieceRecord, numeric_check, numeric_pieces, sample_constants, time_span
+from .zero import ZeroVerdict, decide, drop_empty_integrals
 
-__all__ = ["verify", "numeric_check", "residual"]
+__all__ = [
+    "verify",
+    "verify_solution",
+    "numeric_check",
+    "residual",
+    "PieceRecord",
+    "NumericSkipped",
+    "sample_constants",
+    "time_span",
+    "combined_method",
+]
 
-RTOL = 1e-11
-ATOL = 1e-13
-GAP_LIMIT = 1e-6
+_ZERO = sp.Integer(0)
 
 
 def combined_method(methods: Sequence[str]) -> str:
@@ -42,12 +52,14 @@ def combined_method(methods: Sequence[str]) -> str:
     return next((m for m in methods if m != "exact"), "exact")
 
 
-def residual(system: System, x: sp.Matrix) -> sp.ImmutableMatrix:
+def residual(system: System, x: sp.MatrixBase) -> sp.ImmutableMatrix:
     """x' - A x - f, expanded."""
-    t = system.t
+    return _residual(system.A, system.f, x, system.t)
+
+
+def _residual(A: sp.MatrixBase, f: sp.MatrixBase, x: sp.MatrixBase, t: sp.Symbol) -> sp.ImmutableMatrix:
     xs = list(x)
     n = len(xs)
-    A, f = system.A, system.f
     r = [
         sp.expand(xs[i].diff(t) - sp.Add(*[A[i, j] * xs[j] for j in range(n) if A[i, j] != 0]) - f[i])
         for i in range(n)
@@ -55,53 +67,94 @@ def residual(system: System, x: sp.Matrix) -> sp.ImmutableMatrix:
     return sp.ImmutableMatrix(n, 1, r)
 
 
-def verify(
+def verify_solution(
     system: System,
-    x: sp.Matrix,
+    pieces: Sequence[PieceRecord],
     *,
     constants: Sequence[sp.Symbol] = (),
-    similarity_ok: bool = True,
-    numeric: bool = True,
     eigenvalues: Sequence[sp.Expr] = (),
     decimals: Sequence[complex | None] = (),
+    numeric: bool = True,
+    similarity_ok: bool = True,
+    settings: Settings = DEFAULT_SETTINGS,
 ) -> Verification:
-    """Check x against the system; the result says how each check was settled."""
-    x = sp.ImmutableMatrix(x)
-    n = x.rows
-    if residual_is_zero(list(x), system.A, list(system.f), system.t):
-        zero, method, reduced = True, "exact", [sp.Integer(0)] * n
-    else:
-        res = residual(system, x)
-        methods = []
-        zero = True
-        reduced = []
-        for r in res:
-            v = decide_zero(r)
-            methods.append(v.method)
-            zero = zero and v.zero
-            reduced.append(sp.Integer(0) if v.zero else r)
-        method = combined_method(methods)
-    init_res = None
-    init_ok = None
-    if system.x0 is not None and system.t0 == 0 and initial_is_zero(list(x), list(system.x0), system.t):
-        init_ok, init_res = True, sp.ImmutableMatrix(sp.zeros(n, 1))
-    elif system.x0 is not None:
-        vals = x.subs(system.t, system.t0)
-        diffs = [sp.expand(a - b) for a, b in zip(vals, system.x0)]
-        verdicts = [decide_zero(d) for d in diffs]
-        init_ok = all(v.zero for v in verdicts)
-        init_res = sp.ImmutableMatrix([0 if v.zero else d for v, d in zip(verdicts, diffs)])
+    """Residual on every piece, the joins, x(t0) and the numeric check; the result says how each was settled.
+
+    A solution in one piece is one record.
+
+    >>> t = sp.Symbol("t")
+    >>> sys_ = System(A=sp.ImmutableMatrix([[-1]]), f=sp.ImmutableMatrix([1]), t=t, states=(sp.Symbol("x"),),
+    ...               x0=sp.ImmutableMatrix([0]))
+    >>> piece = PieceRecord(0, None, sp.ImmutableMatrix([1]), sp.ImmutableMatrix([1 - sp.exp(-t)]), sp.ImmutableMatrix([0]))
+    >>> verify_solution(sys_, [piece]).ok
+    True
+    """
+    t = system.t
+    n = system.n
+    policy = settings.zero
+
+    def zero(e: sp.Expr) -> ZeroVerdict:
+        return decide(e, t=t, policy=policy)
+
+    all_zero = True
+    methods: list[str] = []
+    reduced: list[list[sp.Expr]] = [[] for _ in range(n)]
     notes: list[str] = []
+    undecided = False
+    for p in pieces:
+        if residual_is_zero(list(p.x), system.A, list(p.f), t):
+            # settled exactly in the polynomial ring (derive.ringcheck)
+            methods.append("exact")
+            for i in range(n):
+                reduced[i].append(_ZERO)
+            continue
+        for i, e in enumerate(_residual(system.A, p.f, p.x, t)):
+            v = zero(e)
+            methods.append(v.method)
+            # integrals without closed form or unspecified functions: no exact step could settle it
+            undecided = undecided or (v.zero and v.kind == "numeric" and ";" in v.method)
+            all_zero = all_zero and v.zero
+            reduced[i].append(_ZERO if v.zero else e)
+    for k in range(1, len(pieces)):
+        a = pieces[k].start
+        gap = [pieces[k].x[i].subs(t, a) - pieces[k - 1].x[i].subs(t, a) - pieces[k].jump[i] for i in range(n)]
+        verdicts = [zero(e) for e in gap]
+        methods += [v.method for v in verdicts]
+        if all(v.zero for v in verdicts):
+            what = "the prescribed jump" if any(e != 0 for e in pieces[k].jump) else "continuity"
+            how = "exactly" if all(v.kind == "exact" for v in verdicts) else "by the numeric identity test"
+            notes.append(f"At t = {sp.sstr(a)}: {what} x(t+) = x(t-)" + (" + b" if what != "continuity" else "") + f" holds {how}.")
+        else:
+            all_zero = False
+            notes.append(f"At t = {sp.sstr(a)}: the pieces do NOT join: x(t+) - x(t-) - b = {sp.sstr(sp.Matrix(gap).T)}.")
+    if len(pieces) > 1:
+        # the residual of a solution given per interval is reported per interval
+        res = sp.ImmutableMatrix([
+            sp.Piecewise(*[(v, t < pieces[k + 1].start) for k, v in enumerate(col[:-1])], (col[-1], True))
+            if any(v != 0 for v in col) else _ZERO
+            for col in reduced
+        ])
+    else:
+        res = sp.ImmutableMatrix([col[0] for col in reduced])
+    if undecided:
+        notes.append(
+            "The residual holds integrals without a closed form (or unspecified functions): it was decided "
+            f"zero by the numeric identity test at {policy.digits} digits, integrals evaluated by quadrature "
+            "and an unspecified function replaced by a fixed sample function."
+        )
+    init_res, init_ok = _initial(system, pieces[0], zero, notes)
     num = None
     if numeric:
         try:
-            num = numeric_check(system, x, constants=constants, eigenvalues=eigenvalues, decimals=decimals)
+            num = numeric_pieces(
+                system, pieces, constants=constants, eigenvalues=eigenvalues, decimals=decimals, settings=settings
+            )
         except NumericSkipped as why:
             notes.append(f"numeric integration not run: {why}")
     return Verification(
-        residual=sp.ImmutableMatrix(reduced),
-        residual_zero=zero,
-        residual_method=method,
+        residual=res,
+        residual_zero=all_zero,
+        residual_method=combined_method(methods),
         initial_residual=init_res,
         initial_ok=init_ok,
         numeric=num,
@@ -110,214 +163,39 @@ def verify(
     )
 
 
-class NumericSkipped(Exception):
-    """A numeric check that cannot run; the reason becomes a note on the sheet."""
+def _initial(system: System, first: PieceRecord, zero, notes: list[str]) -> tuple[sp.ImmutableMatrix | None, bool | None]:
+    """x(t0) - x0 (- b for an impulse at t0) and whether it vanishes; (None, None) without x0."""
+    if system.x0 is None:
+        return None, None
+    n = system.n
+    t = system.t
+    jump = any(e != 0 for e in first.jump)
+    if not jump and system.t0 == 0 and initial_is_zero(list(first.x), list(system.x0), t):
+        return sp.ImmutableMatrix(sp.zeros(n, 1)), True
+    diffs = [
+        sp.expand(drop_empty_integrals(first.x[i].subs(t, system.t0)) - system.x0[i] - first.jump[i]) for i in range(n)
+    ]
+    verdicts = [zero(d) for d in diffs]
+    if jump:
+        notes.append("The impulse at t0 acts on x0: the check is x(t0+) = x0 + b.")
+    return sp.ImmutableMatrix([0 if v.zero else d for v, d in zip(verdicts, diffs)]), all(v.zero for v in verdicts)
 
 
-def sample_constants(constants: Sequence[sp.Symbol]) -> dict[sp.Symbol, sp.Expr]:
-    """Fixed exact values for the free constants of a general solution in a numeric check."""
-    samples = [sp.Rational(1), sp.Rational(-1, 2), sp.Rational(3, 4), sp.Rational(-2, 3), sp.Rational(1, 3)]
-    return {c: samples[i % len(samples)] * (1 + sp.Rational(i, 7)) for i, c in enumerate(constants)}
-
-
-def time_span(eigenvalues: Sequence[sp.Expr], subs: dict, decimals: Sequence[complex | None] = ()) -> float:
-    """A time span that shows the slowest decaying mode without overflow.
-
-    ``decimals`` are the eigenvalues' values where the caller has them
-    (nested radicals are slow to evaluate again).
-    """
-    rates = []
-    known = list(decimals) + [None] * (len(eigenvalues) - len(decimals))
-    for lam, z in zip(eigenvalues, known):
-        if z is not None:
-            if abs(z) > 1e-12:
-                rates.append(abs(z))
-            continue
-        if not isinstance(lam, sp.Basic):  # eigenvalues are sympy objects; anything else is skipped
-            continue
-        try:
-            z = complex(sp.N(lam.xreplace(subs), 15))
-        except (TypeError, ValueError):
-            continue
-        if abs(z) > 1e-12:
-            rates.append(abs(z))
-    if not rates:
-        return 5.0
-    slow, fast = min(rates), max(rates)
-    span = 4.0 / slow
-    # growing modes: keep e^{Re(lam) T} moderate
-    return float(min(max(span, 0.5), 20.0, 30.0 / max(fast, 1e-9) if fast > 1 else 20.0))
-
-
-def numeric_check(
+def verify(
     system: System,
-    x: sp.Matrix,
+    x: sp.MatrixBase,
     *,
     constants: Sequence[sp.Symbol] = (),
+    similarity_ok: bool = True,
+    numeric: bool = True,
     eigenvalues: Sequence[sp.Expr] = (),
     decimals: Sequence[complex | None] = (),
-    points: int = 60,
-) -> NumericCheck:
-    """Compute x(t) numerically by a route of its own and compare with the exact x(t).
-
-    Unforced (f = 0): x(t_k) = e^{A h} x(t_{k-1}) on an even grid, with e^{A h}
-    from scipy.linalg.expm (Pade approximation with scaling and squaring), one
-    matrix exponential and a matrix-vector product a point.  Forced: scipy's
-    solve_ivp (DOP853, rtol 1e-11, atol 1e-13) on x' = A x + f.  Both start
-    from the exact x(t0) and neither uses the eigen-decomposition.
-    """
-    t = system.t
-    subs = dict(system.parameter_values())
-    free = (system.A.free_symbols | system.f.free_symbols) - {t}
-    missing = [s for s in free if s not in subs]
-    if missing:
-        raise NumericSkipped("parameters without numeric values: " + ", ".join(sorted(s.name for s in missing)))
-    sampled = sample_constants(constants)  # read by the evaluator, not substituted
-    xs = sp.ImmutableMatrix(x).xreplace(subs) if subs else sp.ImmutableMatrix(x)
-    roots = xs.atoms(sp.CRootOf)
-    if roots:
-        xs = xs.xreplace({r: root_value(r) for r in roots})
-    if xs.has(sp.zoo, sp.nan, sp.oo, -sp.oo):
-        raise NumericSkipped(
-            "the exact solution has a vanishing denominator at the given parameter values: they "
-            "violate one of the stated conditions (for example a resonance), so the generic result "
-            "does not apply to them"
-        )
-    leftover = xs.free_symbols - {t} - set(sampled)
-    if leftover:
-        raise NumericSkipped("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))
-    A_num = system.A.xreplace(subs) if subs else system.A
-    A = np.array([[float(e) if e.is_Rational else float(e.evalf(20)) for e in row] for row in A_num.tolist()], dtype=float)
-    f_expr = system.f.xreplace(subs) if subs else system.f
-    forced = any(e != 0 for e in f_expr)
-    x_fn = numeric_function(t, list(xs), ["numpy"], values=sampled)
-    t0 = float(system.t0)
-    T = time_span(eigenvalues, subs, decimals)
-    t_eval = np.linspace(t0, t0 + T, points)
-
-    def exact(tt: np.ndarray) -> np.ndarray:
-        # one vectorised call; a constant component comes back as a scalar
-        cols = [np.broadcast_to(np.asarray(v, dtype=complex), np.shape(tt)) for v in x_fn(tt)]
-        return np.array(cols).real
-
-    bad = (KeyError, TypeError, ValueError, ZeroDivisionError, OverflowError)
-    try:
-        ref = exact(t_eval)  # t_eval[0] is t0: the exact x(t0) starts the numeric route
-        y0 = ref[:, 0]
-    except bad as exc:
-        raise NumericSkipped(
-            f"the exact solution cannot be evaluated at the given parameter values "
-            f"({type(exc).__name__}: {exc}); a stated condition may be violated by them"
-        )
-    if not np.all(np.isfinite(y0)):
-        raise NumericSkipped("the exact solution is not finite at t0 for the given parameter values; a stated condition may be violated by them")
-    by_modes = _stepped_with_modes(f_expr, t, A, y0, t_eval) if forced else (_stepped(A, y0, t_eval), 0)
-    if by_modes is not None:
-        # unforced, or forced by modes carried in the state (``modes`` says how many)
-        numeric, modes = by_modes
-        method, rtol, atol = "scipy.linalg.expm (Pade, scaling and squaring), stepped", None, None
-    else:
-        from scipy.integrate import solve_ivp
-
-        try:
-            if f_expr.has(t):
-                f_fn = numeric_function(t, list(f_expr), "numpy")
-
-                def rhs(tt: float, y: np.ndarray) -> np.ndarray:
-                    return A @ y + np.array(f_fn(tt), dtype=float).reshape(-1)
-            else:
-                f_const = np.array([float(e) for e in f_expr])
-
-                def rhs(tt: float, y: np.ndarray) -> np.ndarray:
-                    return A @ y + f_const
-
-            np.asarray(rhs(t0, y0))
-        except bad as exc:
-            raise NumericSkipped(f"the forcing cannot be evaluated at the given parameter values ({type(exc).__name__}: {exc})")
-        sol = solve_ivp(rhs, (t0, t0 + T), y0, method="DOP853", rtol=RTOL, atol=ATOL, t_eval=t_eval)
-        if not sol.success:
-            raise NumericSkipped(f"the integrator stopped: {sol.message}")
-        numeric, method, rtol, atol, modes = sol.y, "scipy solve_ivp DOP853", RTOL, ATOL, 0
-    gap = np.abs(numeric - ref)
-    scale = max(1.0, float(np.max(np.abs(ref))))
-    max_abs = float(np.max(gap))
-    max_rel = max_abs / scale
-    ok = bool(math.isfinite(max_rel) and max_rel <= GAP_LIMIT)
-    return NumericCheck(
-        method=method,
-        t_start=t0,
-        t_end=t0 + T,
-        points=points,
-        rtol=rtol,
-        atol=atol,
-        max_abs_gap=max_abs,
-        max_rel_gap=max_rel,
-        ok=ok,
-        modes=modes,
+    settings: Settings = DEFAULT_SETTINGS,
+) -> Verification:
+    """Check a solution in one piece against the system (``verify_solution`` with one record)."""
+    x = sp.ImmutableMatrix(x)
+    record = PieceRecord(system.t0, None, system.f, x, sp.ImmutableMatrix(sp.zeros(system.n, 1)))
+    return verify_solution(
+        system, [record], constants=constants, eigenvalues=eigenvalues, decimals=decimals,
+        numeric=numeric, similarity_ok=similarity_ok, settings=settings,
     )
-
-
-def _stepped_with_modes(
-    f_expr: sp.Matrix, t: sp.Symbol, A: np.ndarray, y0: np.ndarray, t_eval: np.ndarray
-) -> tuple[np.ndarray, int] | None:
-    """x(t) for x' = A x + f with f a sum of modes t^k e^{gamma t}, by one matrix exponential.
-
-    The modes z_(gamma,k) = t^k e^{gamma t} obey z' = gamma z_(gamma,k) + k z_(gamma,k-1),
-    so X = (x, z) solves the unforced X' = M X with M = [[A, C], [0, B]] and
-    f = C z; X is stepped by e^{M h} like an unforced system (common practice:
-    the forcing written as the output of its own linear system).  The modes are
-    this module's reading of f, so C z is first compared with f itself,
-    evaluated directly on the grid; None (integrate instead) when f is not such
-    a sum or the two differ.
-    """
-    from ..expoly import NotExpPoly, to_expoly
-
-    try:
-        eps = [to_expoly(e, t) for e in f_expr]
-    except NotExpPoly:
-        return None
-    top: dict[sp.Expr, int] = {}
-    for p in eps:
-        for (k, g), _ in p.terms:
-            top[g] = max(top.get(g, 0), k)
-    modes = [(g, k) for g in sorted(top, key=sp.default_sort_key) for k in range(top[g] + 1)]
-    where = {mode: j for j, mode in enumerate(modes)}
-    n, m = len(eps), len(modes)
-    try:
-        gamma = np.array([complex(g) for g, _ in modes])
-        C = np.zeros((n, m), dtype=complex)
-        for i, p in enumerate(eps):
-            for (k, g), c in p.terms:
-                C[i, where[(g, k)]] = complex(c)
-        f_fn = numeric_function(t, list(f_expr), "numpy")
-        f_grid = np.array([np.broadcast_to(np.asarray(v, dtype=complex), t_eval.shape) for v in f_fn(t_eval)])
-    except (TypeError, ValueError, ZeroDivisionError, OverflowError):
-        return None
-    powers = np.array([k for _, k in modes])
-    with np.errstate(over="ignore", invalid="ignore"):
-        z_grid = t_eval[None, :] ** powers[:, None] * np.exp(gamma[:, None] * t_eval[None, :])
-        if not (np.all(np.isfinite(z_grid)) and np.all(np.isfinite(f_grid))):
-            return None
-        scale = max(1.0, float(np.max(np.abs(f_grid))))
-        if float(np.max(np.abs(C @ z_grid - f_grid))) > 1e-9 * scale:
-            return None
-    M = np.zeros((n + m, n + m), dtype=complex)
-    M[:n, :n] = A
-    M[:n, n:] = C
-    for j, (g, k) in enumerate(modes):
-        M[n + j, n + j] = gamma[j]
-        if k:
-            M[n + j, n + where[(g, k - 1)]] = k
-    return _stepped(M, np.concatenate([y0, z_grid[:, 0]]), t_eval)[:n].real, m
-
-
-def _stepped(M: np.ndarray, X0: np.ndarray, t_eval: np.ndarray) -> np.ndarray:
-    """X(t_k) = e^{M h} X(t_{k-1}) on an even grid: one matrix exponential for all points."""
-    from scipy.linalg import expm
-
-    step = expm(M * (t_eval[1] - t_eval[0]))
-    X = np.empty((len(X0), len(t_eval)), dtype=np.result_type(M, X0))
-    X[:, 0] = X0
-    for k in range(1, len(t_eval)):
-        X[:, k] = step @ X[:, k - 1]
-    return X
