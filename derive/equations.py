@@ -52,6 +52,27 @@ def split_equation(line: str, *, t_name: str) -> tuple[str, str] | None:
     return m.group(1), rhs.strip()
 
 
+def _higher_order(line: str, t_name: str) -> str | None:
+    """``y''`` or ``d2y/dt2`` (with any higher order) written anywhere in an equation, as written."""
+    m = re.search(rf"({_NAME})\s*'\s*'+", line)
+    if m is not None:
+        return m.group(0).replace(" ", "")
+    m = re.search(rf"\bd\s*\^?\s*([2-9])\s*({_NAME})\s*/\s*d\s*{re.escape(t_name)}\s*\^?\s*\1", line)
+    if m is not None:
+        return m.group(0).replace(" ", "")
+    return None
+
+
+def _reduce_order_hint(written: str) -> str:
+    m = re.match(rf"d\^?[2-9]({_NAME})/", written)
+    name = m.group(1) if m else written.rstrip("'")
+    v = "v" if name != "v" else "w"
+    return (
+        f"second order: introduce {v} = {name}' as a state and write two first-order equations, "
+        f"\"{name}' = {v}\" and \"{v}' = ...\" (with {name}'' replaced by {v}' and {name}' by {v})"
+    )
+
+
 def _derivative_on_right(rhs: str, states: Sequence[str], t_name: str) -> str | None:
     """The first derivative written on a right side (``T2'`` or ``dT2/dt``), if any."""
     m = re.search(rf"({_NAME})\s*'", rhs)
@@ -125,6 +146,15 @@ def parse_equations(
                 hint=f"write it as NAME' = expression, e.g. \"x' = -x\" or \"dx/d{t.name} = -x\"",
             )
         parts = split_equation(line, t_name=t.name)
+        higher = _higher_order(line, t.name)
+        if higher is not None:
+            raise ExpressionError(
+                f"{higher} is a derivative of second or higher order; this program solves first-order "
+                f"systems x' = A x + f({t.name})",
+                file=file,
+                key=where,
+                hint=_reduce_order_hint(higher),
+            )
         if parts is None:
             lhs = line.split("=")[0].strip()
             raise ExpressionError(
@@ -168,15 +198,19 @@ def parse_equations(
         if deriv is not None:
             raise ExpressionError(
                 f"a derivative ({deriv}) appears on the right side of {label}; "
-                "expected a first-order system x' = A x + f(t) with derivatives only on the left",
+                f"expected a first-order system x' = A x + f({t.name}) with derivatives only on the left",
                 file=file,
                 key=where,
+                hint=f"write each state's derivative only on the left of its own equation, "
+                f"and substitute its right side where {deriv} appears",
             )
         for used in expression_names(rhs):
             if used in table or used in CONSTANTS or used in FUNCTIONS or used.startswith("__"):
                 # Functions and dunder names are left to the parser, which
                 # explains those mistakes better.
                 continue
+            if used == "t" and t.name != "t":
+                continue  # the parser says that the independent variable was renamed
             params = sorted(n for n in symbols if n not in names)
             guess = nearest(used, set(names) | set(params) | {t.name})
             raise ExpressionError(
@@ -188,7 +222,9 @@ def parse_equations(
                 hint=(f"did you mean {guess!r}? " if guess else "")
                 + f"add an equation \"{used}' = ...\" or declare [parameters.{used}]",
             )
-        expr, found = parse_expression(rhs, symbols=table, key=where, file=file, limits=limits)
+        expr, found = parse_expression(
+            rhs, symbols=table, key=where, file=file, limits=limits, states=names, t=t
+        )
         notices.extend(found)
         row: list[sp.Expr] = []
         for j, x in enumerate(states):

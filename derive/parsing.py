@@ -25,7 +25,7 @@ import difflib
 import keyword
 import math
 import re
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 from types import MappingProxyType
@@ -33,6 +33,7 @@ from types import MappingProxyType
 import sympy as sp
 
 from .errors import DeriveError, ExpressionError, LimitError
+from .functions import CONSTANTS, FUNCTIONS, RESERVED_NAMES, FunctionSpec
 
 __all__ = [
     "Limits",
@@ -69,89 +70,35 @@ class Limits:
 DEFAULT_LIMITS = Limits()
 
 
-# ---------------------------------------------------------------------------
-# The function whitelist
-# ---------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class FunctionSpec:
-    """One callable name: accepted argument counts, builder and a usage line."""
-
-    arities: tuple[int, ...]
-    build: Callable[..., sp.Expr]
-    usage: str
-
-
-def _step(x: sp.Expr, a: sp.Expr | None = None) -> sp.Expr:
-    return sp.Heaviside(x if a is None else x - a)
-
-
-def _ramp(x: sp.Expr, a: sp.Expr | None = None) -> sp.Expr:
-    arg = x if a is None else x - a
-    return arg * sp.Heaviside(arg)
-
-
-def _impulse(x: sp.Expr, a: sp.Expr | None = None) -> sp.Expr:
-    return sp.DiracDelta(x if a is None else x - a)
-
-
-def _pulse(x: sp.Expr, a: sp.Expr, b: sp.Expr) -> sp.Expr:
-    return sp.Heaviside(x - a) - sp.Heaviside(x - b)
-
-
-#: The only names that may be called.  ``step`` is sympy's ``Heaviside`` with
-#: its default H(0) = 1/2: the value at a single instant does not change the
-#: solution of x' = A x + f, and the default form is the one sympy's
-#: integrator handles best.
-FUNCTIONS: Mapping[str, FunctionSpec] = MappingProxyType(
-    {
-        "exp": FunctionSpec((1,), sp.exp, "exp(x)"),
-        "sin": FunctionSpec((1,), sp.sin, "sin(x)"),
-        "cos": FunctionSpec((1,), sp.cos, "cos(x)"),
-        "tan": FunctionSpec((1,), sp.tan, "tan(x)"),
-        "sinh": FunctionSpec((1,), sp.sinh, "sinh(x)"),
-        "cosh": FunctionSpec((1,), sp.cosh, "cosh(x)"),
-        "tanh": FunctionSpec((1,), sp.tanh, "tanh(x)"),
-        "sqrt": FunctionSpec((1,), sp.sqrt, "sqrt(x)"),
-        "log": FunctionSpec((1,), sp.log, "log(x) (natural logarithm)"),
-        "ln": FunctionSpec((1,), sp.log, "ln(x) (natural logarithm)"),
-        "abs": FunctionSpec((1,), sp.Abs, "abs(x)"),
-        "step": FunctionSpec((1, 2), _step, "step(t - a) or step(t, a)"),
-        "ramp": FunctionSpec((1, 2), _ramp, "ramp(t - a) or ramp(t, a)"),
-        "pulse": FunctionSpec((3,), _pulse, "pulse(t, a, b) (1 on a <= t < b)"),
-        "impulse": FunctionSpec((1, 2), _impulse, "impulse(t - a) or impulse(t, a)"),
-        "delta": FunctionSpec((1, 2), _impulse, "delta(t - a) or delta(t, a)"),
-    }
-)
-
-#: Constants available unless a declared symbol has the same name.
-CONSTANTS: Mapping[str, sp.Expr] = MappingProxyType({"pi": sp.pi, "e": sp.E})
-
-#: Names a state, parameter or independent variable may not take: they would
-#: shadow a function or constant, or cannot be written in an expression.
-RESERVED_NAMES: frozenset[str] = frozenset(FUNCTIONS) | frozenset(CONSTANTS) | frozenset(keyword.kwlist)
-
 _IDENTIFIER = re.compile(r"[A-Za-z][A-Za-z0-9_]*\Z")
 
 
 def name_problem(name: str) -> str | None:
     """Why ``name`` cannot be a declared name, or ``None`` when it can.
 
+    The message ends with another name the user could take instead.
+
     >>> name_problem("T1") is None, name_problem("exp")
-    (True, "'exp' is reserved (a function name)")
+    (True, "'exp' is reserved: it is the function exp(x); choose another name, e.g. 'exp1'")
     """
     if not _IDENTIFIER.match(name):
         return (
             f"{name!r} is not a valid name (expected a letter followed by letters, digits or underscores)"
         )
+    if name not in RESERVED_NAMES:
+        return None
+    other = _ALTERNATIVES.get(name, f"{name}1")
     if name in FUNCTIONS:
-        return f"{name!r} is reserved (a function name)"
-    if name in CONSTANTS:
-        return f"{name!r} is reserved (the constant {name})"
-    if keyword.iskeyword(name):
-        return f"{name!r} is reserved (a Python keyword)"
-    return None
+        what = f"the function {FUNCTIONS[name].usage}"
+    elif name in CONSTANTS:
+        what = f"the constant {name} = {sp.N(CONSTANTS[name], 6)}"
+    else:
+        what = "a word of the formula syntax, so it cannot stand for a value"
+    return f"{name!r} is reserved: it is {what}; choose another name, e.g. {other!r}"
+
+
+# Familiar short forms where appending a digit would read oddly.
+_ALTERNATIVES: Mapping[str, str] = MappingProxyType({"lambda": "lam", "e": "e0", "pi": "p0", "in": "u_in"})
 
 
 def nearest(word: str, candidates: Sequence[str] | set[str] | frozenset[str]) -> str | None:
@@ -224,7 +171,9 @@ def _implied_product(left: _Token, right: _Token, symbols: Mapping[str, sp.Symbo
     """Whether ``left right`` means ``left * right``.
 
     Only cases that cannot be read another way: a number, a closing
-    parenthesis or a declared value name, followed by a name or ``(``.  A
+    parenthesis or a declared value name, followed by a name or ``(``
+    (``k(t + 1)`` never gets here: :func:`_refuse_value_calls` refuses it
+    first, since it is as often meant as a function of time).  A
     number on the right (``t 2``, ``(a)2``) is left alone: it is more often a
     typo than a product.  Keywords are never touched so that ``lambda`` and
     friends reach the tree walk and are refused by name.
@@ -266,6 +215,9 @@ class _Where:
     text: str
     key: str | None
     file: str | None
+    #: the names that are states, and the independent variable, when the caller knows them
+    states: frozenset[str] = frozenset()
+    time: sp.Symbol | None = None
 
     def error(
         self,
@@ -283,6 +235,67 @@ class _Where:
             column=column,
             hint=hint,
         )
+
+
+def _refuse_value_calls(tokens: Sequence[_Token], symbols: Mapping[str, sp.Symbol], where: _Where) -> None:
+    """Refuse a value name directly followed by ``(``: ``u(t)``, ``x1(t)``, ``k (t + 1)``.
+
+    Read as a product, ``u(t)`` with a parameter ``u`` silently becomes the
+    ramp ``u*t``, and ``x(t - 1)`` a term in ``x*t``: a different model solved
+    without a word.  Whitespace does not change the verdict (``k (t+1)``
+    looks the same to the reader), so a product is written with ``*``.
+    """
+    for i in range(len(tokens) - 1):
+        tok = tokens[i]
+        if tokens[i + 1].text != "(" or tok.kind != "name" or keyword.iskeyword(tok.text) or tok.text in FUNCTIONS:
+            continue
+        if tok.text in symbols or tok.text in CONSTANTS:
+            raise _value_call_error(tokens, i, where, declared=tok.text in symbols)
+
+
+def _value_call_error(tokens: Sequence[_Token], i: int, where: _Where, *, declared: bool) -> DeriveError:
+    name, text = tokens[i].text, where.text
+    depth, end = 0, len(text)
+    for tok in tokens[i + 1 :]:
+        depth += (tok.text == "(") - (tok.text == ")")
+        if depth == 0:
+            end = tok.column + 1
+            break
+    written = text[tokens[i].column : end]
+    inner = text[tokens[i + 1].column + 1 : end - 1 if text[end - 1 : end] == ")" else end].strip()
+    factor = inner if _IDENTIFIER.match(inner) or _TOKEN.fullmatch(inner) else f"({inner})"
+    product = f"write {name}*{factor} for a product"
+    t = where.time.name if where.time is not None else None
+    column = tokens[i].column + 1
+    if name in where.states:
+        if inner.replace(" ", "") == t:
+            message = f"{written!r} writes the state {name} as a call; a state is written by its name alone"
+            hint = f"write the state as {name} (it stands for {name}({t}))"
+        else:
+            message = (
+                f"{written!r} is the state {name} at another time ({inner}): a delay, which makes this a "
+                f"delay differential equation, not a linear ODE x' = A x + f({t or 't'}); it cannot be solved here"
+            )
+            hint = f"write {name} for the state at the current time, or {name}*{factor} if a product is meant"
+    elif name == t:
+        message = f"{written!r}: {name} is the independent variable, not a function"
+        hint = product
+    elif not declared:
+        message = f"{written!r}: {name} is the constant {name}, not a function, and a product is not assumed"
+        hint = product + (f", or exp({inner}) for the exponential" if name == "e" else "")
+    elif t is not None and t in expression_names(inner):
+        message = (
+            f"{written!r} reads as a function of {t}, but {name} is a parameter (a constant); "
+            f"a product {name}*{factor} is not assumed"
+        )
+        hint = (
+            f"write {name} for a constant input, or write a time-varying input as a formula in {t} "
+            f"(e.g. {name}*step({t} - 1) or {name}*sin({t})); {product}"
+        )
+    else:
+        message = f"{written!r}: {name} is a declared name, not a function, and a product is not assumed"
+        hint = product
+    return where.error(ExpressionError, f"{message} (column {column})", column=column, hint=hint)
 
 
 # ---------------------------------------------------------------------------
@@ -555,6 +568,13 @@ class _Walker:
                 f"{ident!r} is a function and needs parentheses",
                 hint=f"write {FUNCTIONS[ident].usage}",
             )
+        time = self.where.time
+        if time is not None and ident == "t" and time.name != "t":
+            raise self.fail(
+                node,
+                f"'t' is used here, but the independent variable of this case is {time.name!r} (system.t)",
+                hint=f"write {time.name} instead of t, or remove system.t to keep the name t",
+            )
         declared = sorted(self.symbols)
         listing = ", ".join(declared) if declared else "none"
         guess = nearest(ident, set(declared) | set(CONSTANTS))
@@ -699,6 +719,9 @@ class _Walker:
                 hint=f"write {spec.usage}",
             )
         args = [self.walk(a, depth + 1) for a in node.args]
+        problem = spec.check([a.expr for a in args], self.where.time)
+        if problem is not None:
+            raise self.fail(node.args[problem.index], f"{ident}: {problem.message}", hint=problem.hint)
         if ident == "exp":
             return self.exp_of(node, args[0])
         if ident == "sqrt":
@@ -740,6 +763,7 @@ def _prepare(
             # Checked before ast.parse, which would otherwise convert the
             # literal to a Python number first.
             _number_from_literal(tok.text, where, limits, tok.column + 1)
+    _refuse_value_calls(tokens, symbols, where)
     return _rewrite(tokens, symbols)
 
 
@@ -750,20 +774,25 @@ def parse_expression(
     key: str | None = None,
     file: str | None = None,
     limits: Limits = DEFAULT_LIMITS,
+    states: Collection[str] = (),
+    t: sp.Symbol | None = None,
 ) -> tuple[sp.Expr, tuple[str, ...]]:
     """Parse one expression string (or number) into a sympy Expr; returns (expr, notices).
 
     Floats become exact rationals, each with a notice.  Only the names in
     ``symbols`` and the constants ``pi`` and ``e`` may appear; only the
     functions in :data:`FUNCTIONS` may be called.  ``step`` is
-    ``Heaviside`` with H(0) = 1/2.
+    ``Heaviside`` with H(0) = 1/2.  A declared name directly followed by
+    ``(`` is refused (``u(t)`` is not read as ``u*t``).  ``states`` and ``t``
+    (the independent variable), when given, sharpen the messages and let the
+    switching helpers check that their arguments move with time.
 
     >>> t = sp.Symbol("t", real=True)
     >>> parse_expression("2t^2 + 0.5 sin(3t)", symbols={"t": t})
     (2*t**2 + sin(3*t)/2, ('0.5 read as the exact value 1/2',))
     """
     shown = text if isinstance(text, str) else repr(text)
-    where = _Where(shown, key, file)
+    where = _Where(shown, key, file, frozenset(states), t)
     try:
         return _parse(text, symbols=symbols, where=where, limits=limits)
     except DeriveError as err:
