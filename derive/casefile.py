@@ -35,6 +35,7 @@ from .parsing import (
     name_problem,
     nearest,
     parse_expression,
+    suggest_name,
 )
 
 __all__ = [
@@ -144,7 +145,10 @@ class _Ctx:
 
     def texts(self, value: object, key: str) -> tuple[str, ...]:
         if not isinstance(value, list):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings")
+            hint = f"put it in brackets: {key.rsplit('.', 1)[-1]} = [{_show(value)}]" if isinstance(value, str) else None
+            raise self.error(
+                key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings", hint=hint
+            )
         return tuple(self.text(v, f"{key}[{i}]") for i, v in enumerate(value))
 
     def seq(self, value: object, key: str, what: str) -> list[Any]:
@@ -165,7 +169,7 @@ class _Ctx:
         text = self.text(value, key)
         problem = name_problem(text)
         if problem is not None:
-            raise self.error(key, f"the {role} name {problem}")
+            raise self.error(key, f"the {role} name {problem}", hint=suggest_name(text))
         return text
 
     def expr(
@@ -260,7 +264,13 @@ def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Pa
     key = f"parameters.{name}"
     problem = name_problem(name)
     if problem is not None:
-        raise ctx.error(key, f"the parameter name {problem}")
+        raise ctx.error(key, f"the parameter name {problem}", hint=suggest_name(name))
+    if isinstance(spec_raw, (int, float, str)) and not isinstance(spec_raw, bool):
+        raise ctx.error(
+            key,
+            f"{key} is {_type_name(spec_raw)} ({_show(spec_raw)}); expected a table with value, assume, unit, description",
+            hint=f"write a table: [parameters.{name}] with the line value = {_show(spec_raw)}",
+        )
     spec = ctx.table(spec_raw, key)
     ctx.keys(spec, PARAMETER_KEYS, key)
     assume = _assumptions(ctx, spec["assume"], f"{key}.assume") if "assume" in spec else ()
@@ -447,7 +457,15 @@ def _initial(
             "expected a list in state order or a table {state = value}",
         )
     x0: list[sp.Expr] = []
+    state_names = [s.name for s in states]
     for ikey, v in items:
+        for used in expression_names(v if isinstance(v, str) else ""):
+            if used in state_names and used not in symbols:
+                raise ctx.error(
+                    ikey,
+                    f"{ikey} names the state {used!r}; an initial value is a number or a formula in the parameters",
+                    hint=f"give each state its own value at t0, e.g. initial.values = [{', '.join(['1'] + ['0'] * (n - 1))}]",
+                )
         value = ctx.expr(v, ikey, symbols, notices, t=t)
         if t in value.free_symbols:
             raise ctx.error(ikey, f"{ikey} = {value} depends on {t.name}; an initial value must be a constant")

@@ -25,6 +25,8 @@ from .parsing import (
     name_problem,
     nearest,
     parse_expression,
+    split_names,
+    suggest_name,
 )
 
 __all__ = ["parse_equations", "split_equation"]
@@ -50,6 +52,30 @@ def split_equation(line: str, *, t_name: str) -> tuple[str, str] | None:
     if m is None:
         return None
     return m.group(1), rhs.strip()
+
+
+_OTHER_LEIBNIZ = re.compile(rf"\s*d\s*({_NAME})\s*/\s*d\s*({_NAME})\s*\Z")
+_DOT_NAMES = re.compile(rf"\s*(?:({_NAME}?)_?dot|d({_NAME})dt)\s*\Z")
+_SCALED = re.compile(rf"\s*([0-9./]+|{_NAME})\s*\*?\s*({_NAME})\s*'\s*\Z")
+
+
+def _left_side_hint(lhs: str, t_name: str) -> str:
+    """What to write for a left side that is not NAME' or dNAME/dt, guessed from what it looks like."""
+    m = _OTHER_LEIBNIZ.match(lhs)
+    if m is not None and m.group(2) != t_name:
+        return (
+            f"the independent variable is {t_name!r} (system.t), not {m.group(2)!r}: "
+            f"write d{m.group(1)}/d{t_name} or {m.group(1)}'"
+        )
+    m = _DOT_NAMES.match(lhs)
+    if m is not None and (m.group(1) or m.group(2)):
+        name = m.group(1) or m.group(2)
+        return f"write the derivative of {name} as {name}' (or d{name}/d{t_name})"
+    m = _SCALED.match(lhs)
+    if m is not None:
+        factor, name = m.groups()
+        return f"divide by the factor on the left: write {name}' = (right side)/{factor}"
+    return "write it as NAME' = expression, e.g. \"x' = -x\""
 
 
 def _higher_order(line: str, t_name: str) -> str | None:
@@ -161,12 +187,12 @@ def parse_equations(
                 f"the left side {lhs!r} is not a derivative; expected NAME' or dNAME/d{t.name}",
                 file=file,
                 key=where,
-                hint="write it as NAME' = expression, e.g. \"x' = -x\"",
+                hint=_left_side_hint(lhs, t.name),
             )
         name, rhs = parts
         problem = name_problem(name)
         if problem is not None:
-            raise ExpressionError(f"the state name {problem}", file=file, key=where)
+            raise ExpressionError(f"the state name {problem}", file=file, key=where, hint=suggest_name(name))
         if name == t.name:
             raise ExpressionError(
                 f"the state {name!r} has the name of the independent variable", file=file, key=where
@@ -213,6 +239,17 @@ def parse_equations(
                 continue  # the parser says that the independent variable was renamed
             params = sorted(n for n in symbols if n not in names)
             guess = nearest(used, set(names) | set(params) | {t.name})
+            parts = split_names(used, [*names, *params, t.name])
+            if parts:
+                raise ExpressionError(
+                    f"{used!r} on the right side of {label} is read as one name, and no state or "
+                    "parameter has that name",
+                    file=file,
+                    key=where,
+                    hint=f"write {'*'.join(parts)} for a product"
+                    + (f", or did you mean {guess!r}?" if guess else "")
+                    + f" (or declare [parameters.{used}])",
+                )
             raise ExpressionError(
                 f"{used!r} appears on the right side of {label} but has no equation of its own "
                 f"(states: {', '.join(names)}) and is not a declared parameter "

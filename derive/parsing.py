@@ -34,6 +34,7 @@ import sympy as sp
 
 from .errors import DeriveError, ExpressionError, LimitError
 from .functions import CONSTANTS, FUNCTIONS, RESERVED_NAMES, FunctionSpec
+from .tokens import TOKEN, Token, call_problem, character_problem, product_problem, tokenize
 
 __all__ = [
     "Limits",
@@ -45,7 +46,9 @@ __all__ = [
     "parse_expression",
     "expression_names",
     "name_problem",
+    "suggest_name",
     "nearest",
+    "split_names",
 ]
 
 
@@ -74,12 +77,10 @@ _IDENTIFIER = re.compile(r"[A-Za-z][A-Za-z0-9_]*\Z")
 
 
 def name_problem(name: str) -> str | None:
-    """Why ``name`` cannot be a declared name, or ``None`` when it can.
-
-    The message ends with another name the user could take instead.
+    """Why ``name`` cannot be a declared name, or ``None`` when it can (see :func:`suggest_name`).
 
     >>> name_problem("T1") is None, name_problem("exp")
-    (True, "'exp' is reserved: it is the function exp(x); choose another name, e.g. 'exp1'")
+    (True, "'exp' is reserved: it is the function exp(x)")
     """
     if not _IDENTIFIER.match(name):
         return (
@@ -87,18 +88,51 @@ def name_problem(name: str) -> str | None:
         )
     if name not in RESERVED_NAMES:
         return None
-    other = _ALTERNATIVES.get(name, f"{name}1")
     if name in FUNCTIONS:
         what = f"the function {FUNCTIONS[name].usage}"
     elif name in CONSTANTS:
         what = f"the constant {name} = {sp.N(CONSTANTS[name], 6)}"
     else:
         what = "a word of the formula syntax, so it cannot stand for a value"
-    return f"{name!r} is reserved: it is {what}; choose another name, e.g. {other!r}"
+    return f"{name!r} is reserved: it is {what}"
+
+
+def suggest_name(name: str) -> str:
+    """What to write instead of a name that :func:`name_problem` refuses.
+
+    >>> suggest_name("lambda")
+    "choose another name, e.g. 'lam'"
+    """
+    if name in RESERVED_NAMES:
+        return f"choose another name, e.g. {_ALTERNATIVES.get(name, name + '1')!r}"
+    cleaned = re.sub(r"[^A-Za-z0-9_]", "", name).lstrip("0123456789_")
+    example = cleaned if cleaned and cleaned not in RESERVED_NAMES else "x1"
+    return f"a name starts with a letter and has only letters, digits and underscores, e.g. {example!r}"
 
 
 # Familiar short forms where appending a digit would read oddly.
 _ALTERNATIVES: Mapping[str, str] = MappingProxyType({"lambda": "lam", "e": "e0", "pi": "p0", "in": "u_in"})
+
+
+def split_names(word: str, names: Collection[str]) -> tuple[str, ...] | None:
+    """``word`` as a run of two or more of ``names`` (fewest pieces), or ``None``.
+
+    ``RC`` with R and C declared is one unknown name, and most likely meant
+    as the product R*C.
+
+    >>> split_names("RCk", ["R", "C", "k", "Ck"])
+    ('R', 'Ck')
+    """
+    best: dict[int, tuple[str, ...]] = {0: ()}
+    for end in range(1, len(word) + 1):
+        for start in range(end):
+            piece = word[start:end]
+            if start in best and piece in names and piece != word:
+                cand = best[start] + (piece,)
+                if end not in best or len(cand) < len(best[end]):
+                    best[end] = cand
+    found = best.get(len(word))
+    return found if found and len(found) >= 2 else None
 
 
 def nearest(word: str, candidates: Sequence[str] | set[str] | frozenset[str]) -> str | None:
@@ -115,65 +149,30 @@ def nearest(word: str, candidates: Sequence[str] | set[str] | frozenset[str]) ->
 # Tokenizer
 # ---------------------------------------------------------------------------
 
-_TOKEN = re.compile(
-    r"""
-    (?P<space>[ \t\r\n]+)
-  | (?P<number>(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)
-  | (?P<name>[A-Za-z_][A-Za-z0-9_]*)
-  | (?P<string>'[^'\n]*'|"[^"\n]*")
-  | (?P<op>\*\*|\^|[-+*/(),])
-  | (?P<other>.)
-    """,
-    re.VERBOSE | re.DOTALL,
-)
-
-_FORBIDDEN_CHAR = re.compile(r"[^ -~\t\r\n]")
-
 _NUMBER_PARTS = re.compile(r"(?P<mantissa>\d*\.?\d*)(?:[eE](?P<exp>[+-]?\d+))?\Z")
 
 
-@dataclass(frozen=True)
-class _Token:
-    kind: str  # number, name, string, op, other
-    text: str
-    column: int  # 0-based column in the original text
+def _tokens(text: str, where: _Where) -> tuple[Token, ...]:
+    problem = character_problem(text)
+    if problem is not None:
+        raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
+    return tokenize(text)
 
 
-def _tokens(text: str, where: _Where) -> tuple[_Token, ...]:
-    bad = _FORBIDDEN_CHAR.search(text)
-    if bad is not None:
-        # Non-ASCII is refused outright: Python folds some Unicode letters
-        # into ASCII names (NFKC), so a name could look different from what
-        # the walker checks, and ast columns would count bytes, not characters.
-        value = bad.group()
-        raise where.error(
-            ExpressionError,
-            f"character {value!r} (U+{ord(value):04X}) at column {bad.start() + 1} is not allowed; "
-            "expressions use ASCII letters, digits, + - * / ^ ( ) , and spaces",
-            column=bad.start() + 1,
-        )
-    out: list[_Token] = []
-    for m in _TOKEN.finditer(text):
-        kind = m.lastgroup or "other"
-        if kind != "space":
-            out.append(_Token(kind, m.group(), m.start()))
-    return tuple(out)
-
-
-def _is_value_name(tok: _Token, symbols: Mapping[str, sp.Symbol]) -> bool:
+def _is_value_name(tok: Token, symbols: Mapping[str, sp.Symbol]) -> bool:
     """A name that denotes a value (declared symbol or constant), not a call."""
     if tok.kind != "name" or keyword.iskeyword(tok.text) or tok.text in FUNCTIONS:
         return False
     return tok.text in symbols or tok.text in CONSTANTS
 
 
-def _implied_product(left: _Token, right: _Token, symbols: Mapping[str, sp.Symbol]) -> bool:
+def _implied_product(left: Token, right: Token, symbols: Mapping[str, sp.Symbol]) -> bool:
     """Whether ``left right`` means ``left * right``.
 
     Only cases that cannot be read another way: a number, a closing
     parenthesis or a declared value name, followed by a name or ``(``
-    (``k(t + 1)`` never gets here: :func:`_refuse_value_calls` refuses it
-    first, since it is as often meant as a function of time).  A
+    (``k(t + 1)`` never gets here: :func:`derive.tokens.call_problem`
+    refuses it first, since it is as often meant as a function of time).  A
     number on the right (``t 2``, ``(a)2``) is left alone: it is more often a
     typo than a product.  Keywords are never touched so that ``lambda`` and
     friends reach the tree walk and are refused by name.
@@ -186,14 +185,17 @@ def _implied_product(left: _Token, right: _Token, symbols: Mapping[str, sp.Symbo
     return right.kind == "name" and not keyword.iskeyword(right.text)
 
 
-def _rewrite(tokens: Sequence[_Token], symbols: Mapping[str, sp.Symbol]) -> tuple[str, tuple[int, ...]]:
+def _rewrite(tokens: Sequence[Token], symbols: Mapping[str, sp.Symbol], where: _Where) -> tuple[str, tuple[int, ...]]:
     """Join tokens into Python source; also map each source column to the original."""
     pieces: list[str] = []
     columns: list[int] = []
-    prev: _Token | None = None
-    for tok in tokens:
+    prev: Token | None = None
+    for i, tok in enumerate(tokens):
         if prev is not None:
             if _implied_product(prev, tok, symbols):
+                problem = product_problem(tokens, i, where.text)
+                if problem is not None:
+                    raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
                 pieces.append("*")
                 columns.append(tok.column)
             pieces.append(" ")
@@ -235,67 +237,6 @@ class _Where:
             column=column,
             hint=hint,
         )
-
-
-def _refuse_value_calls(tokens: Sequence[_Token], symbols: Mapping[str, sp.Symbol], where: _Where) -> None:
-    """Refuse a value name directly followed by ``(``: ``u(t)``, ``x1(t)``, ``k (t + 1)``.
-
-    Read as a product, ``u(t)`` with a parameter ``u`` silently becomes the
-    ramp ``u*t``, and ``x(t - 1)`` a term in ``x*t``: a different model solved
-    without a word.  Whitespace does not change the verdict (``k (t+1)``
-    looks the same to the reader), so a product is written with ``*``.
-    """
-    for i in range(len(tokens) - 1):
-        tok = tokens[i]
-        if tokens[i + 1].text != "(" or tok.kind != "name" or keyword.iskeyword(tok.text) or tok.text in FUNCTIONS:
-            continue
-        if tok.text in symbols or tok.text in CONSTANTS:
-            raise _value_call_error(tokens, i, where, declared=tok.text in symbols)
-
-
-def _value_call_error(tokens: Sequence[_Token], i: int, where: _Where, *, declared: bool) -> DeriveError:
-    name, text = tokens[i].text, where.text
-    depth, end = 0, len(text)
-    for tok in tokens[i + 1 :]:
-        depth += (tok.text == "(") - (tok.text == ")")
-        if depth == 0:
-            end = tok.column + 1
-            break
-    written = text[tokens[i].column : end]
-    inner = text[tokens[i + 1].column + 1 : end - 1 if text[end - 1 : end] == ")" else end].strip()
-    factor = inner if _IDENTIFIER.match(inner) or _TOKEN.fullmatch(inner) else f"({inner})"
-    product = f"write {name}*{factor} for a product"
-    t = where.time.name if where.time is not None else None
-    column = tokens[i].column + 1
-    if name in where.states:
-        if inner.replace(" ", "") == t:
-            message = f"{written!r} writes the state {name} as a call; a state is written by its name alone"
-            hint = f"write the state as {name} (it stands for {name}({t}))"
-        else:
-            message = (
-                f"{written!r} is the state {name} at another time ({inner}): a delay, which makes this a "
-                f"delay differential equation, not a linear ODE x' = A x + f({t or 't'}); it cannot be solved here"
-            )
-            hint = f"write {name} for the state at the current time, or {name}*{factor} if a product is meant"
-    elif name == t:
-        message = f"{written!r}: {name} is the independent variable, not a function"
-        hint = product
-    elif not declared:
-        message = f"{written!r}: {name} is the constant {name}, not a function, and a product is not assumed"
-        hint = product + (f", or exp({inner}) for the exponential" if name == "e" else "")
-    elif t is not None and t in expression_names(inner):
-        message = (
-            f"{written!r} reads as a function of {t}, but {name} is a parameter (a constant); "
-            f"a product {name}*{factor} is not assumed"
-        )
-        hint = (
-            f"write {name} for a constant input, or write a time-varying input as a formula in {t} "
-            f"(e.g. {name}*step({t} - 1) or {name}*sin({t})); {product}"
-        )
-    else:
-        message = f"{written!r}: {name} is a declared name, not a function, and a product is not assumed"
-        hint = product
-    return where.error(ExpressionError, f"{message} (column {column})", column=column, hint=hint)
 
 
 # ---------------------------------------------------------------------------
@@ -525,7 +466,14 @@ class _Walker:
         if isinstance(node, ast.Call):
             return self.call(node, depth)
         what = _CONSTRUCT_NAMES.get(type(node), f"the construct {type(node).__name__}")
-        raise self.fail(node, f"{what} is not allowed in an expression")
+        comma = re.search(r"\d,\d", self.where.text) if isinstance(node, ast.Tuple) else None
+        hint = (
+            f"a decimal number is written with a point ({comma.group().replace(',', '.')}); a comma only "
+            "separates the arguments of a function"
+            if comma
+            else None
+        )
+        raise self.fail(node, f"{what} is not allowed in an expression", hint=hint)
 
     def constant(self, node: ast.Constant) -> _Built:
         value = node.value
@@ -549,7 +497,7 @@ class _Walker:
         offset = node.col_offset
         start = self.columns[offset] if 0 <= offset < len(self.columns) else None
         if start is not None:
-            m = _TOKEN.match(self.where.text, start)
+            m = TOKEN.match(self.where.text, start)
             if m is not None and m.lastgroup == "number":
                 return m.group()
         raise self.fail(node, "could not read this number literal")  # pragma: no cover
@@ -578,7 +526,12 @@ class _Walker:
         declared = sorted(self.symbols)
         listing = ", ".join(declared) if declared else "none"
         guess = nearest(ident, set(declared) | set(CONSTANTS))
+        parts = split_names(ident, declared)
         hint = f"did you mean {guess!r}?" if guess else "declare it as a parameter, or check the spelling"
+        if parts:
+            hint = f"{ident} is read as one name: write {'*'.join(parts)} for a product" + (
+                f", or did you mean {guess!r}?" if guess else ""
+            )
         raise self.fail(
             node,
             f"unknown name {ident!r}; the declared names are: {listing} (and the constants pi, e)",
@@ -763,8 +716,11 @@ def _prepare(
             # Checked before ast.parse, which would otherwise convert the
             # literal to a Python number first.
             _number_from_literal(tok.text, where, limits, tok.column + 1)
-    _refuse_value_calls(tokens, symbols, where)
-    return _rewrite(tokens, symbols)
+    time = where.time.name if where.time is not None else None
+    problem = call_problem(tokens, where.text, set(symbols), states=where.states, time=time)
+    if problem is not None:
+        raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
+    return _rewrite(tokens, symbols, where)
 
 
 def parse_expression(
@@ -867,7 +823,7 @@ def expression_names(text: str | int | float) -> tuple[str, ...]:
     if not isinstance(text, str):
         return ()
     seen: dict[str, None] = {}
-    toks = [m for m in _TOKEN.finditer(text) if m.lastgroup != "space"]
+    toks = [m for m in TOKEN.finditer(text) if m.lastgroup != "space"]
     for i, m in enumerate(toks):
         if m.lastgroup != "name" or keyword.iskeyword(m.group()):
             continue
