@@ -165,13 +165,28 @@ def _solve_relation(shown: str, eq: sp.Expr, params: Sequence[sp.Symbol], where:
     contradicts an assumption (m = 0 for m positive) is no solution.
     """
     reasons: list[str] = []
+    several: list[str] = []
     order = sorted(params, key=lambda s: (not _first_power(eq, s), -_position(s, eq), s.name))
     for s in order:
+        admissible = []
         for value in _solutions(eq, s):
             problem = _inadmissible(s, value)
             if problem is None:
-                return s, value
-            reasons.append(problem)
+                admissible.append(value)
+            else:
+                reasons.append(problem)
+        if len(admissible) == 1:
+            return s, admissible[0]
+        if admissible:
+            several.append(" or ".join(f"{s} = {_math(v)}" for v in admissible))
+    if several:
+        # Taking one branch silently would solve a case the user did not pick.
+        raise InputError(
+            f"the relation {shown!r} has several solutions: {'; '.join(several)}",
+            key=where,
+            hint="write the one meant as the relation, e.g. '" + several[0].split(" or ")[0] + "'"
+            " (an assume list such as [\"positive\"] on the parameter also rules out the others)",
+        )
     if not reasons:
         raise InputError(
             f"the relation {shown!r} cannot be solved for any of its parameters "

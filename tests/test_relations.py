@@ -133,3 +133,13 @@ def test_a_regime_in_a_reduced_form_is_used() -> None:
     A = sp.Matrix([[0, 1], [-1 / (L * C), -R / L]])
     sol = derive.solve(A, assume=["C*R^2 < 4*L"])
     assert not sol.x.has(sp.I) and sol.x.has(sp.cos)
+
+
+def test_a_relation_with_several_admissible_solutions_asks_which() -> None:
+    cr = sp.Symbol("c", real=True)
+    with pytest.raises(InputError) as info:
+        parse_relations(["c^2 = 4"], symbols={"c": cr})
+    assert "c = -2 or c = 2" in info.value.message
+    assert "'c = -2'" in (info.value.hint or "")
+    # with c assumed positive only one solution is left, and it is taken
+    assert parse_relations(["c^2 = 4"], symbols={"c": c}) == ((c, sp.Integer(2)),)
