@@ -2,15 +2,19 @@
 
 Strings become sympy objects here and nowhere else.  The route is
 
-1. a small tokenizer of our own, which rewrites ``^`` as ``**`` and inserts
-   ``*`` where multiplication is implied and unambiguous (``2t``,
-   ``3 sin(t)``, ``2(t+1)``, ``(a+b)(a-b)``, ``2 pi``);
+1. a small tokenizer of our own (:mod:`derive.tokens`), which refuses the
+   readings that go two ways (``u(t)`` with a parameter ``u``, ``x/2T``,
+   ``e^-2t``: see :func:`derive.tokens.call_problem` and
+   :func:`~derive.tokens.product_problem`), rewrites ``^`` as ``**`` and
+   inserts ``*`` where multiplication is implied and unambiguous (``2t``,
+   ``3 sin(t)``, ``2(t+1)``, ``(a+b)(a-b)``, ``2 pi``, ``k (t+1)``);
 2. ``ast.parse(mode="eval")``, which only builds a syntax tree and runs
    nothing;
 3. a tree walk that accepts a short whitelist of node types (numbers, declared
    names, ``+ - * / **``, unary signs, calls of the functions in
-   :data:`FUNCTIONS`) and builds sympy objects directly from already-built
-   sympy objects.  No string ever reaches sympy.
+   :data:`FUNCTIONS`, whose arguments are checked by
+   :mod:`derive.functions`) and builds sympy objects directly from
+   already-built sympy objects.  No string ever reaches sympy.
 
 Size limits are checked before the expensive thing they guard: the length
 before tokenizing, the nesting before ``ast.parse``, an exponent before the

@@ -45,8 +45,9 @@ def split_assumptions(items: Any, *, symbols: Mapping[str, sp.Symbol], key: str 
     >>> split_assumptions(["c^2 < 4 k m"], symbols={"k": k, "m": m, "c": c})
     ([], ((c**2 - 4*k*m, -1),))
     """
-    if not items or isinstance(items, Mapping):
+    if _empty(items) or isinstance(items, Mapping):
         return items, ()
+    items = _as_list(items, key)
     relations: list[Any] = []
     out: list[Regime] = []
     for i, item in enumerate(items):
@@ -62,6 +63,7 @@ def split_assumptions(items: Any, *, symbols: Mapping[str, sp.Symbol], key: str 
                 raise InputError(
                     f"a regime is written 'lhs < rhs' or 'lhs > rhs' (strict, one comparison), found {item!r}",
                     key=where,
+                    hint="the boundary (the '=' case) is a relation of its own: solve it with 'lhs = rhs'",
                 )
             op = "<" if "<" in item else ">"
             lhs, rhs = item.split(op)
@@ -91,11 +93,34 @@ def _as_equation(item: Any, symbols: Mapping[str, sp.Symbol], key: str) -> sp.Ex
     if isinstance(item, str):
         if item.count("=") != 1 or "==" in item:
             raise InputError(
-                f"a relation is written 'lhs = rhs' with one '=', found {item!r}", key=key
+                f"a relation is written 'lhs = rhs' with one '=', found {item!r}",
+                key=key,
+                hint="give each relation on its own, e.g. --case 'c^2 = 4*k*m' (repeat --case for more)",
             )
         lhs, rhs = item.split("=")
         return _text((lhs, rhs), symbols, key)
-    raise InputError(f"a relation must be an equation such as 'c^2 = 4*k*m', found {item!r}", key=key)
+    raise InputError(
+        f"a relation must be an equation such as 'c^2 = 4*k*m', found {item!r}",
+        key=key,
+        hint="write it as text 'lhs = rhs', or 'lhs < rhs' for a regime",
+    )
+
+
+def _empty(items: Any) -> bool:
+    # a sympy relation has no truth value, so "not items" cannot be asked of one
+    return items is None or (isinstance(items, (list, tuple, str, Mapping)) and not items)
+
+
+def _as_list(items: Any, key: str) -> list[Any]:
+    """One relation given on its own is a list of one; anything not a list of them is refused."""
+    if isinstance(items, (str, sp.Basic)):
+        return [items]
+    if isinstance(items, (list, tuple)):
+        return list(items)
+    raise InputError(
+        f"found {type(items).__name__}; expected a list of relations such as ['c^2 = 4*k*m']",
+        key=key,
+    )
 
 
 def _text(pair: tuple[Any, Any], symbols: Mapping[str, sp.Symbol], key: str) -> sp.Expr:
@@ -116,7 +141,7 @@ def parse_relations(
     >>> parse_relations(["c^2 = 4 k m"], symbols={"k": k, "m": m, "c": c})
     ((k, c**2/(4*m)),)
     """
-    if not items:
+    if _empty(items):
         return ()
     if isinstance(items, Mapping):
         out = []
@@ -141,7 +166,7 @@ def parse_relations(
             out.append((sym, value))
         return tuple(out)
     out: list[Relation] = []
-    for i, item in enumerate(items):
+    for i, item in enumerate(_as_list(items, key)):
         where = f"{key}[{i}]"
         shown = item if isinstance(item, str) else sp.sstr(item)
         eq = sp.expand(_as_equation(item, symbols, where))

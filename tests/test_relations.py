@@ -143,3 +143,15 @@ def test_a_relation_with_several_admissible_solutions_asks_which() -> None:
     assert "'c = -2'" in (info.value.hint or "")
     # with c assumed positive only one solution is left, and it is taken
     assert parse_relations(["c^2 = 4"], symbols={"c": c}) == ((c, sp.Integer(2)),)
+
+
+def test_one_relation_on_its_own_and_wrong_containers() -> None:
+    assert parse_relations("c^2 = 4 k m", symbols=SMD) == ((k, c**2 / (4 * m)),)
+    assert split_assumptions("c^2 < 4 k m", symbols=SMD) == ([], ((c**2 - 4 * k * m, -1),))
+    with pytest.raises(InputError, match="expected a list of relations"):
+        parse_relations(5, symbols=SMD)  # type: ignore[arg-type]
+    with pytest.raises(InputError) as info:
+        split_assumptions(["c^2 <= 4 k m"], symbols=SMD)
+    assert "strict" in info.value.message and "'lhs = rhs'" in (info.value.hint or "")
+    with pytest.raises(InputError, match="must be an equation"):
+        parse_relations([sp.Le(c, k)], symbols=SMD)
