@@ -145,7 +145,8 @@ class _Ctx:
 
     def texts(self, value: object, key: str) -> tuple[str, ...]:
         if not isinstance(value, list):
-            hint = f"put it in brackets: {key.rsplit('.', 1)[-1]} = [{_show(value)}]" if isinstance(value, str) else None
+            last = key.rsplit(".", 1)[-1]
+            hint = f"put it in brackets: {last} = [{_show(value)}]" if isinstance(value, str) else None
             raise self.error(
                 key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings", hint=hint
             )
@@ -268,7 +269,8 @@ def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Pa
     if isinstance(spec_raw, (int, float, str)) and not isinstance(spec_raw, bool):
         raise ctx.error(
             key,
-            f"{key} is {_type_name(spec_raw)} ({_show(spec_raw)}); expected a table with value, assume, unit, description",
+            f"{key} is {_type_name(spec_raw)} ({_show(spec_raw)}); "
+            "expected a table with value, assume, unit, description",
             hint=f"write a table: [parameters.{name}] with the line value = {_show(spec_raw)}",
         )
     spec = ctx.table(spec_raw, key)
@@ -464,7 +466,8 @@ def _initial(
                 raise ctx.error(
                     ikey,
                     f"{ikey} names the state {used!r}; an initial value is a number or a formula in the parameters",
-                    hint=f"give each state its own value at t0, e.g. initial.values = [{', '.join(['1'] + ['0'] * (n - 1))}]",
+                    hint="give each state its own value at t0, e.g. initial.values = "
+                    f"[{', '.join(['1'] + ['0'] * (n - 1))}]",
                 )
         value = ctx.expr(v, ikey, symbols, notices, t=t)
         if t in value.free_symbols:

@@ -157,7 +157,8 @@ def call_problem(
         percent = tok.text == "%" and (nxt is None or (nxt.kind == "op" and nxt.text != "("))
         if tok.kind == "other" and (tok.text in "|!" or percent):
             what = {"|": "write abs(x) for |x|", "%": "write 5/100 for 5 percent", "!": "factorials are not available"}
-            return Problem(f"{tok.text!r} at column {tok.column + 1} is not an operator here", tok.column + 1, what[tok.text])
+            column = tok.column + 1
+            return Problem(f"{tok.text!r} at column {column} is not an operator here", column, what[tok.text])
         if tok.kind != "name" or keyword.iskeyword(tok.text):
             continue
         if tok.text in FUNCTIONS and tok.text not in symbols and nxt is not None and nxt.text != "(":
@@ -263,6 +264,37 @@ def product_problem(tokens: Sequence[Token], i: int, text: str) -> Problem | Non
     answer and the eye another.  ``t^2 sin(t)``, with a space after an
     unsigned exponent, stays a product.
     """
+    left_tok, right_tok = tokens[i - 1], tokens[i]
+    glued = left_tok.column + len(left_tok.text) == right_tok.column
+    if glued and left_tok.kind == "number" and any(ch in left_tok.text for ch in "eE"):
+        mantissa, _, power = left_tok.text.replace("E", "e").partition("e")
+        return Problem(
+            f"'{left_tok.text}{right_tok.text}' at column {left_tok.column + 1} reads two ways: the number "
+            f"{left_tok.text} = {mantissa}*10^{power} times {right_tok.text}, "
+            f"or {mantissa}*e^({power}{right_tok.text})?",
+            left_tok.column + 1,
+            f"write {mantissa}*e^({power}*{right_tok.text}) for the exponential, or "
+            f"{left_tok.text}*{right_tok.text} for the power of ten",
+        )
+    after = tokens[i + 1 : i + 3]
+    if (
+        glued
+        and left_tok.kind == "number"
+        and right_tok.text == "e"
+        and len(after) == 2
+        and after[0].text in "+-"
+        and right_tok.column + 1 == after[0].column
+        and after[0].column + 1 == after[1].column
+    ):
+        # 5e-t: the number 5e minus t, or 5 e^(-t) with the power forgotten?
+        sign, rest = after[0].text, after[1].text
+        return Problem(
+            f"'{left_tok.text}e{sign}{rest}' at column {left_tok.column + 1} reads two ways: "
+            f"{left_tok.text}*e {sign} {rest}, or {left_tok.text}*e^({sign}{rest})?",
+            left_tok.column + 1,
+            f"write {left_tok.text}*e^({sign}{rest}) (brackets around the whole exponent) for the exponential, "
+            f"or {left_tok.text}*e {sign} {rest} with spaces for the difference",
+        )
     start = _operand_start(tokens, i - 1)
     before = tokens[start - 1].text if start > 0 else ""
     left = text[tokens[start].column : tokens[i - 1].column + len(tokens[i - 1].text)]

@@ -141,7 +141,13 @@ SCALARS = st.one_of(
     st.booleans(),
     st.dates(min_value=dt.date(2000, 1, 1), max_value=dt.date(2030, 1, 1)),
 )
-VALUES = st.recursive(SCALARS, lambda inner: st.one_of(st.lists(inner, max_size=3), st.dictionaries(st.sampled_from(["value", "assume", "piecewise", "x1", "junk"]), inner, max_size=2)), max_leaves=8)
+TABLE_KEYS = st.sampled_from(["value", "assume", "piecewise", "x1", "junk"])
+VALUES = st.recursive(
+    SCALARS,
+    lambda inner: st.one_of(st.lists(inner, max_size=3), st.dictionaries(TABLE_KEYS, inner, max_size=2)),
+    max_leaves=8,
+)
+ASSUMED = st.sampled_from(["positive", "real", "negative", "big"])
 KEYS = {
     "sheet": ["title", "project", "date", "states", "assumptions"],
     "system": ["t", "states", "forcing", "forcing", "equations"],
@@ -162,7 +168,7 @@ def case_documents(draw: st.DrawFn) -> str:
             data.setdefault(table, {})[TYPOS[table]] = draw(VALUES)
     for name in draw(st.lists(st.sampled_from(["k", "m", "exp", "x1", "t", "a b"]), max_size=2, unique=True)):
         data.setdefault("parameters", {})[name] = draw(
-            st.one_of(VALUES, st.fixed_dictionaries({"assume": st.lists(st.sampled_from(["positive", "real", "negative", "big"]), max_size=2)}))
+            st.one_of(VALUES, st.fixed_dictionaries({"assume": st.lists(ASSUMED, max_size=2)}))
         )
     if draw(st.integers(min_value=0, max_value=9)) == 7:
         data["junk"] = draw(VALUES)

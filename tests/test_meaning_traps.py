@@ -86,6 +86,8 @@ TRAPS: tuple[Trap, ...] = (
     # -- readings that go two ways, and typing habits from other tools
     Trap("divide-then-juxtapose", eqs("x' = -x/2T", params=param("T")), EQ0, "reads two ways", "x/(2*T)"),
     Trap("unbracketed-exponent", forced("e^-2t"), F0, "reads two ways", "^(-2*t)"),
+    Trap("scientific-glued", forced("3e-2t"), F0, "reads two ways", "3*e^(-2*t) for the exponential"),
+    Trap("e-minus-glued", forced("5e-t"), F0, "reads two ways", "5*e^(-t)"),
     Trap("decimal-comma", eqs("x' = -x + 3,5"), EQ0, "a tuple", "(3.5)"),
     Trap("unicode-minus", eqs("x' = \u2212x"), EQ0, "U+2212", "the ASCII minus"),
     Trap("superscript-two", forced("t\u00b2"), F0, "U+00B2", "^2"),
@@ -149,6 +151,8 @@ ACCEPTED: tuple[tuple[str, sp.Expr], ...] = (
     ("(a/2)*t", a * t / 2),
     ("a/(2t + 1)", a / (2 * t + 1)),
     ("2 pi t", 2 * sp.pi * t),
+    ("3e-2*t", sp.Rational(3, 100) * t),
+    ("5e - t", 5 * sp.E - t),
     ("pulse(t, 1, 3)", sp.Heaviside(t - 1) - sp.Heaviside(t - 3)),
 )
 
