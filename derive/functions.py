@@ -68,12 +68,15 @@ def _switch_time(name: str) -> Check:
     """step, ramp: the switching argument must move with time."""
 
     def check(args: Sequence[sp.Expr], t: sp.Symbol | None) -> ArgumentProblem | None:
-        if t is None or t in args[0].free_symbols:
+        switch = args[0] if len(args) == 1 else args[0] - args[1]
+        if t is None or t in switch.free_symbols:
             return None
         shown = ", ".join(sp.sstr(a) for a in args)
         return ArgumentProblem(
             0,
-            f"{name}({shown}) does not depend on {t}: it is a constant, not a switch at some time",
+            f"{name}({shown}) does not depend on {t}"
+            + (f" (it switches on the sign of {sp.sstr(switch)})" if len(args) == 2 else "")
+            + ": it is a constant, not a switch at some time",
             f"write {name}({t} - a) for a switch at {t} = a",
         )
 
@@ -96,7 +99,7 @@ def _check_impulse(args: Sequence[sp.Expr], t: sp.Symbol | None) -> ArgumentProb
 
 def _check_pulse(args: Sequence[sp.Expr], t: sp.Symbol | None) -> ArgumentProblem | None:
     x, start, end = args
-    if t is not None and t not in x.free_symbols:
+    if t is not None and not any(t in a.free_symbols for a in args):
         return ArgumentProblem(
             0,
             f"the first argument {sp.sstr(x)} of pulse does not depend on {t}",

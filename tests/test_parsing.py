@@ -399,3 +399,10 @@ def test_pulse_with_an_ordered_symbolic_end_is_accepted() -> None:
     w = sp.Symbol("w", positive=True)
     expr, _ = parse_expression("pulse(t, a, a + w)", symbols={**SYMBOLS, "w": w}, t=t)
     assert expr == sp.Heaviside(t - a) - sp.Heaviside(t - a - w)
+
+
+def test_a_switch_whose_time_is_in_the_second_argument_is_accepted() -> None:
+    # step(1, t) = H(1 - t): on until t = 1, then off
+    assert parse_expression("step(1, t)", symbols=SYMBOLS, t=t)[0] == sp.Heaviside(1 - t)
+    with pytest.raises(ExpressionError, match="sign of 0"):
+        parse_expression("step(t, t)", symbols=SYMBOLS, t=t)
