@@ -35,6 +35,7 @@ from .parsing import (
     name_problem,
     nearest,
     parse_expression,
+    suggest_name,
 )
 
 __all__ = [
@@ -144,7 +145,11 @@ class _Ctx:
 
     def texts(self, value: object, key: str) -> tuple[str, ...]:
         if not isinstance(value, list):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings")
+            last = key.rsplit(".", 1)[-1]
+            hint = f"put it in brackets: {last} = [{_show(value)}]" if isinstance(value, str) else None
+            raise self.error(
+                key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings", hint=hint
+            )
         return tuple(self.text(v, f"{key}[{i}]") for i, v in enumerate(value))
 
     def seq(self, value: object, key: str, what: str) -> list[Any]:
@@ -165,16 +170,38 @@ class _Ctx:
         text = self.text(value, key)
         problem = name_problem(text)
         if problem is not None:
-            raise self.error(key, f"the {role} name {problem}")
+            raise self.error(key, f"the {role} name {problem}", hint=suggest_name(text))
         return text
 
     def expr(
-        self, value: object, key: str, symbols: Mapping[str, sp.Symbol], notices: list[str]
+        self,
+        value: object,
+        key: str,
+        symbols: Mapping[str, sp.Symbol],
+        notices: list[str],
+        *,
+        t: sp.Symbol | None = None,
     ) -> sp.Expr:
         raw = self.scalar(value, key)
-        expr, found = parse_expression(raw, symbols=symbols, key=key, file=self.file, limits=self.limits)
+        expr, found = parse_expression(raw, symbols=symbols, key=key, file=self.file, limits=self.limits, t=t)
         notices.extend(found)
         return expr
+
+    def no_state(self, value: object, key: str, states: Sequence[str], where: str) -> None:
+        """Refuse a state name in a matrix entry or a forcing entry of the matrix form.
+
+        Read as an unknown name it would earn "declare it as a parameter",
+        which the state's name then cannot be.
+        """
+        for name in expression_names(value if isinstance(value, str) else ""):
+            if name in states:
+                j = list(states).index(name)
+                raise self.error(
+                    key,
+                    f"{name!r} is a state (state {j + 1} of {len(states)}); in the matrix form {where}",
+                    hint=f"put the coefficient of {name} in system.matrix[i][{j}] (the entry of row i "
+                    f"that multiplies {name}), or write the system as text in system.equations",
+                )
 
 
 # ---------------------------------------------------------------------------
@@ -238,7 +265,14 @@ def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Pa
     key = f"parameters.{name}"
     problem = name_problem(name)
     if problem is not None:
-        raise ctx.error(key, f"the parameter name {problem}")
+        raise ctx.error(key, f"the parameter name {problem}", hint=suggest_name(name))
+    if isinstance(spec_raw, (int, float, str)) and not isinstance(spec_raw, bool):
+        raise ctx.error(
+            key,
+            f"{key} is {_type_name(spec_raw)} ({_show(spec_raw)}); "
+            "expected a table with value, assume, unit, description",
+            hint=f"write a table: [parameters.{name}] with the line value = {_show(spec_raw)}",
+        )
     spec = ctx.table(spec_raw, key)
     ctx.keys(spec, PARAMETER_KEYS, key)
     assume = _assumptions(ctx, spec["assume"], f"{key}.assume") if "assume" in spec else ()
@@ -269,7 +303,12 @@ def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Pa
 
 
 def _matrix(
-    ctx: _Ctx, raw: object, symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
+    ctx: _Ctx,
+    raw: object,
+    symbols: Mapping[str, sp.Symbol],
+    t: sp.Symbol,
+    notices: list[str],
+    states: Sequence[str] = (),
 ) -> sp.ImmutableMatrix:
     key = "system.matrix"
     rows = ctx.seq(raw, key, "a list of rows, e.g. [[\"-1\", \"1/2\"], [0, \"-k\"]]")
@@ -291,7 +330,8 @@ def _matrix(
         out: list[sp.Expr] = []
         for j, value in enumerate(row):
             ekey = f"{key}[{i}][{j}]"
-            entry = ctx.expr(value, ekey, symbols, notices)
+            ctx.no_state(value, ekey, states, "an entry of system.matrix is the coefficient of a state, not a term")
+            entry = ctx.expr(value, ekey, symbols, notices, t=t)
             if t in entry.free_symbols:
                 raise ctx.error(
                     ekey,
@@ -304,15 +344,23 @@ def _matrix(
 
 
 def _forcing_entry(
-    ctx: _Ctx, value: object, key: str, symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
+    ctx: _Ctx,
+    value: object,
+    key: str,
+    symbols: Mapping[str, sp.Symbol],
+    t: sp.Symbol,
+    notices: list[str],
+    states: Sequence[str] = (),
 ) -> sp.Expr:
     """One forcing entry: an expression, or ``{ piecewise = [[v1, b1], ..., [vn]] }``.
 
     The table form reads "v1 until t = b1, v2 until b2, ..., vn after"; it
     becomes a sympy Piecewise, solved interval by interval (derive.forcing).
     """
+    state_term = "the forcing f(t) holds only terms without states; a state's coefficient belongs in system.matrix"
     if not isinstance(value, dict):
-        return ctx.expr(value, key, symbols, notices)
+        ctx.no_state(value, key, states, state_term)
+        return ctx.expr(value, key, symbols, notices, t=t)
     ctx.keys(value, ("piecewise",), key)
     if "piecewise" not in value:
         raise ctx.error(key, f"{key} is a table without the key 'piecewise'; expected {{ piecewise = [[value, end], ..., [value]] }}")
@@ -325,8 +373,9 @@ def _forcing_entry(
         if not isinstance(row, list) or len(row) != (1 if last else 2):
             want = "[value] (the last interval has no end)" if last else "[value, end]"
             raise ctx.error(rkey, f"{rkey} is {_show(row)}; expected {want}")
-        v = ctx.expr(row[0], f"{rkey}[0]", symbols, notices)
-        b = None if last else ctx.expr(row[1], f"{rkey}[1]", symbols, notices)
+        ctx.no_state(row[0], f"{rkey}[0]", states, state_term)
+        v = ctx.expr(row[0], f"{rkey}[0]", symbols, notices, t=t)
+        b = None if last else ctx.expr(row[1], f"{rkey}[1]", symbols, notices, t=t)
         pieces.append((v, b))
     from .forcing import piecewise_from_intervals
 
@@ -410,8 +459,17 @@ def _initial(
             "expected a list in state order or a table {state = value}",
         )
     x0: list[sp.Expr] = []
+    state_names = [s.name for s in states]
     for ikey, v in items:
-        value = ctx.expr(v, ikey, symbols, notices)
+        for used in expression_names(v if isinstance(v, str) else ""):
+            if used in state_names and used not in symbols:
+                raise ctx.error(
+                    ikey,
+                    f"{ikey} names the state {used!r}; an initial value is a number or a formula in the parameters",
+                    hint="give each state its own value at t0, e.g. initial.values = "
+                    f"[{', '.join(['1'] + ['0'] * (n - 1))}]",
+                )
+        value = ctx.expr(v, ikey, symbols, notices, t=t)
         if t in value.free_symbols:
             raise ctx.error(ikey, f"{ikey} = {value} depends on {t.name}; an initial value must be a constant")
         x0.append(value)
@@ -421,6 +479,15 @@ def _initial(
 # ---------------------------------------------------------------------------
 # The whole file
 # ---------------------------------------------------------------------------
+
+
+def _planned_states(system: Mapping[str, Any]) -> tuple[str, ...]:
+    """The state names of the matrix form before the matrix is checked (for messages only)."""
+    given = system.get("states")
+    if isinstance(given, list) and all(isinstance(s, str) for s in given):
+        return tuple(given)
+    rows = system.get("matrix")
+    return tuple(f"x{i + 1}" for i in range(len(rows))) if isinstance(rows, list) else ()
 
 
 def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None, digest: str) -> Case:
@@ -456,7 +523,7 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
 
     equations: tuple[str, ...] = ()
     if has_matrix:
-        A = _matrix(ctx, system["matrix"], with_t, t, notices)
+        A = _matrix(ctx, system["matrix"], with_t, t, notices, _planned_states(system))
         n = A.shape[0]
         names = (
             _state_names(ctx, system["states"], n, t)
@@ -474,7 +541,9 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             items = ctx.seq(system["forcing"], fkey, f"a list of {n} entries")
             if len(items) != n:
                 raise ctx.error(fkey, f"{shape} but system.forcing has {len(items)} entries")
-            f = sp.ImmutableMatrix([_forcing_entry(ctx, v, f"{fkey}[{i}]", with_t, t, notices) for i, v in enumerate(items)])
+            f = sp.ImmutableMatrix(
+                [_forcing_entry(ctx, v, f"{fkey}[{i}]", with_t, t, notices, names) for i, v in enumerate(items)]
+            )
         else:
             f = sp.zeros(n, 1).as_immutable()
     else:

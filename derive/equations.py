@@ -25,6 +25,8 @@ from .parsing import (
     name_problem,
     nearest,
     parse_expression,
+    split_names,
+    suggest_name,
 )
 
 __all__ = ["parse_equations", "split_equation"]
@@ -50,6 +52,51 @@ def split_equation(line: str, *, t_name: str) -> tuple[str, str] | None:
     if m is None:
         return None
     return m.group(1), rhs.strip()
+
+
+_OTHER_LEIBNIZ = re.compile(rf"\s*d\s*({_NAME})\s*/\s*d\s*({_NAME})\s*\Z")
+_DOT_NAMES = re.compile(rf"\s*(?:({_NAME}?)_?dot|d({_NAME})dt)\s*\Z")
+_SCALED = re.compile(rf"\s*([0-9./]+|{_NAME})\s*\*?\s*({_NAME})\s*'\s*\Z")
+
+
+def _left_side_hint(lhs: str, t_name: str) -> str:
+    """What to write for a left side that is not NAME' or dNAME/dt, guessed from what it looks like."""
+    m = _OTHER_LEIBNIZ.match(lhs)
+    if m is not None and m.group(2) != t_name:
+        return (
+            f"the independent variable is {t_name!r} (system.t), not {m.group(2)!r}: "
+            f"write d{m.group(1)}/d{t_name} or {m.group(1)}'"
+        )
+    m = _DOT_NAMES.match(lhs)
+    if m is not None and (m.group(1) or m.group(2)):
+        name = m.group(1) or m.group(2)
+        return f"write the derivative of {name} as {name}' (or d{name}/d{t_name})"
+    m = _SCALED.match(lhs)
+    if m is not None:
+        factor, name = m.groups()
+        return f"divide by the factor on the left: write {name}' = (right side)/{factor}"
+    return "write it as NAME' = expression, e.g. \"x' = -x\""
+
+
+def _higher_order(line: str, t_name: str) -> str | None:
+    """``y''`` or ``d2y/dt2`` (with any higher order) written anywhere in an equation, as written."""
+    m = re.search(rf"({_NAME})\s*'\s*'+", line)
+    if m is not None:
+        return m.group(0).replace(" ", "")
+    m = re.search(rf"\bd\s*\^?\s*([2-9])\s*({_NAME})\s*/\s*d\s*{re.escape(t_name)}\s*\^?\s*\1", line)
+    if m is not None:
+        return m.group(0).replace(" ", "")
+    return None
+
+
+def _reduce_order_hint(written: str) -> str:
+    m = re.match(rf"d\^?[2-9]({_NAME})/", written)
+    name = m.group(1) if m else written.rstrip("'")
+    v = "v" if name != "v" else "w"
+    return (
+        f"second order: introduce {v} = {name}' as a state and write two first-order equations, "
+        f"\"{name}' = {v}\" and \"{v}' = ...\" (with {name}'' replaced by {v}' and {name}' by {v})"
+    )
 
 
 def _derivative_on_right(rhs: str, states: Sequence[str], t_name: str) -> str | None:
@@ -125,18 +172,27 @@ def parse_equations(
                 hint=f"write it as NAME' = expression, e.g. \"x' = -x\" or \"dx/d{t.name} = -x\"",
             )
         parts = split_equation(line, t_name=t.name)
+        higher = _higher_order(line, t.name)
+        if higher is not None:
+            raise ExpressionError(
+                f"{higher} is a derivative of second or higher order; this program solves first-order "
+                f"systems x' = A x + f({t.name})",
+                file=file,
+                key=where,
+                hint=_reduce_order_hint(higher),
+            )
         if parts is None:
             lhs = line.split("=")[0].strip()
             raise ExpressionError(
                 f"the left side {lhs!r} is not a derivative; expected NAME' or dNAME/d{t.name}",
                 file=file,
                 key=where,
-                hint="write it as NAME' = expression, e.g. \"x' = -x\"",
+                hint=_left_side_hint(lhs, t.name),
             )
         name, rhs = parts
         problem = name_problem(name)
         if problem is not None:
-            raise ExpressionError(f"the state name {problem}", file=file, key=where)
+            raise ExpressionError(f"the state name {problem}", file=file, key=where, hint=suggest_name(name))
         if name == t.name:
             raise ExpressionError(
                 f"the state {name!r} has the name of the independent variable", file=file, key=where
@@ -168,17 +224,32 @@ def parse_equations(
         if deriv is not None:
             raise ExpressionError(
                 f"a derivative ({deriv}) appears on the right side of {label}; "
-                "expected a first-order system x' = A x + f(t) with derivatives only on the left",
+                f"expected a first-order system x' = A x + f({t.name}) with derivatives only on the left",
                 file=file,
                 key=where,
+                hint=f"write each state's derivative only on the left of its own equation, "
+                f"and substitute its right side where {deriv} appears",
             )
         for used in expression_names(rhs):
             if used in table or used in CONSTANTS or used in FUNCTIONS or used.startswith("__"):
                 # Functions and dunder names are left to the parser, which
                 # explains those mistakes better.
                 continue
+            if used == "t" and t.name != "t":
+                continue  # the parser says that the independent variable was renamed
             params = sorted(n for n in symbols if n not in names)
             guess = nearest(used, set(names) | set(params) | {t.name})
+            parts = split_names(used, [*names, *params, t.name])
+            if parts:
+                raise ExpressionError(
+                    f"{used!r} on the right side of {label} is read as one name, and no state or "
+                    "parameter has that name",
+                    file=file,
+                    key=where,
+                    hint=f"write {'*'.join(parts)} for a product"
+                    + (f", or did you mean {guess!r}?" if guess else "")
+                    + f" (or declare [parameters.{used}])",
+                )
             raise ExpressionError(
                 f"{used!r} appears on the right side of {label} but has no equation of its own "
                 f"(states: {', '.join(names)}) and is not a declared parameter "
@@ -188,7 +259,9 @@ def parse_equations(
                 hint=(f"did you mean {guess!r}? " if guess else "")
                 + f"add an equation \"{used}' = ...\" or declare [parameters.{used}]",
             )
-        expr, found = parse_expression(rhs, symbols=table, key=where, file=file, limits=limits)
+        expr, found = parse_expression(
+            rhs, symbols=table, key=where, file=file, limits=limits, states=names, t=t
+        )
         notices.extend(found)
         row: list[sp.Expr] = []
         for j, x in enumerate(states):

@@ -2,15 +2,19 @@
 
 Strings become sympy objects here and nowhere else.  The route is
 
-1. a small tokenizer of our own, which rewrites ``^`` as ``**`` and inserts
-   ``*`` where multiplication is implied and unambiguous (``2t``,
-   ``3 sin(t)``, ``2(t+1)``, ``(a+b)(a-b)``, ``2 pi``);
+1. a small tokenizer of our own (:mod:`derive.tokens`), which refuses the
+   readings that go two ways (``u(t)`` with a parameter ``u``, ``x/2T``,
+   ``e^-2t``: see :func:`derive.tokens.call_problem` and
+   :func:`~derive.tokens.product_problem`), rewrites ``^`` as ``**`` and
+   inserts ``*`` where multiplication is implied and unambiguous (``2t``,
+   ``3 sin(t)``, ``2(t+1)``, ``(a+b)(a-b)``, ``2 pi``, ``k (t+1)``);
 2. ``ast.parse(mode="eval")``, which only builds a syntax tree and runs
    nothing;
 3. a tree walk that accepts a short whitelist of node types (numbers, declared
    names, ``+ - * / **``, unary signs, calls of the functions in
-   :data:`FUNCTIONS`) and builds sympy objects directly from already-built
-   sympy objects.  No string ever reaches sympy.
+   :data:`FUNCTIONS`, whose arguments are checked by
+   :mod:`derive.functions`) and builds sympy objects directly from
+   already-built sympy objects.  No string ever reaches sympy.
 
 Size limits are checked before the expensive thing they guard: the length
 before tokenizing, the nesting before ``ast.parse``, an exponent before the
@@ -21,11 +25,10 @@ power is built.  Every exception that leaves :func:`parse_expression` is a
 from __future__ import annotations
 
 import ast
-import difflib
 import keyword
 import math
 import re
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 from types import MappingProxyType
@@ -33,6 +36,9 @@ from types import MappingProxyType
 import sympy as sp
 
 from .errors import DeriveError, ExpressionError, LimitError
+from .functions import CONSTANTS, FUNCTIONS, RESERVED_NAMES, FunctionSpec
+from .names import name_problem, nearest, split_names, suggest_name
+from .tokens import TOKEN, Token, call_problem, character_problem, product_problem, tokenize
 
 __all__ = [
     "Limits",
@@ -44,7 +50,9 @@ __all__ = [
     "parse_expression",
     "expression_names",
     "name_problem",
+    "suggest_name",
     "nearest",
+    "split_names",
 ]
 
 
@@ -70,161 +78,33 @@ DEFAULT_LIMITS = Limits()
 
 
 # ---------------------------------------------------------------------------
-# The function whitelist
-# ---------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class FunctionSpec:
-    """One callable name: accepted argument counts, builder and a usage line."""
-
-    arities: tuple[int, ...]
-    build: Callable[..., sp.Expr]
-    usage: str
-
-
-def _step(x: sp.Expr, a: sp.Expr | None = None) -> sp.Expr:
-    return sp.Heaviside(x if a is None else x - a)
-
-
-def _ramp(x: sp.Expr, a: sp.Expr | None = None) -> sp.Expr:
-    arg = x if a is None else x - a
-    return arg * sp.Heaviside(arg)
-
-
-def _impulse(x: sp.Expr, a: sp.Expr | None = None) -> sp.Expr:
-    return sp.DiracDelta(x if a is None else x - a)
-
-
-def _pulse(x: sp.Expr, a: sp.Expr, b: sp.Expr) -> sp.Expr:
-    return sp.Heaviside(x - a) - sp.Heaviside(x - b)
-
-
-#: The only names that may be called.  ``step`` is sympy's ``Heaviside`` with
-#: its default H(0) = 1/2: the value at a single instant does not change the
-#: solution of x' = A x + f, and the default form is the one sympy's
-#: integrator handles best.
-FUNCTIONS: Mapping[str, FunctionSpec] = MappingProxyType(
-    {
-        "exp": FunctionSpec((1,), sp.exp, "exp(x)"),
-        "sin": FunctionSpec((1,), sp.sin, "sin(x)"),
-        "cos": FunctionSpec((1,), sp.cos, "cos(x)"),
-        "tan": FunctionSpec((1,), sp.tan, "tan(x)"),
-        "sinh": FunctionSpec((1,), sp.sinh, "sinh(x)"),
-        "cosh": FunctionSpec((1,), sp.cosh, "cosh(x)"),
-        "tanh": FunctionSpec((1,), sp.tanh, "tanh(x)"),
-        "sqrt": FunctionSpec((1,), sp.sqrt, "sqrt(x)"),
-        "log": FunctionSpec((1,), sp.log, "log(x) (natural logarithm)"),
-        "ln": FunctionSpec((1,), sp.log, "ln(x) (natural logarithm)"),
-        "abs": FunctionSpec((1,), sp.Abs, "abs(x)"),
-        "step": FunctionSpec((1, 2), _step, "step(t - a) or step(t, a)"),
-        "ramp": FunctionSpec((1, 2), _ramp, "ramp(t - a) or ramp(t, a)"),
-        "pulse": FunctionSpec((3,), _pulse, "pulse(t, a, b) (1 on a <= t < b)"),
-        "impulse": FunctionSpec((1, 2), _impulse, "impulse(t - a) or impulse(t, a)"),
-        "delta": FunctionSpec((1, 2), _impulse, "delta(t - a) or delta(t, a)"),
-    }
-)
-
-#: Constants available unless a declared symbol has the same name.
-CONSTANTS: Mapping[str, sp.Expr] = MappingProxyType({"pi": sp.pi, "e": sp.E})
-
-#: Names a state, parameter or independent variable may not take: they would
-#: shadow a function or constant, or cannot be written in an expression.
-RESERVED_NAMES: frozenset[str] = frozenset(FUNCTIONS) | frozenset(CONSTANTS) | frozenset(keyword.kwlist)
-
-_IDENTIFIER = re.compile(r"[A-Za-z][A-Za-z0-9_]*\Z")
-
-
-def name_problem(name: str) -> str | None:
-    """Why ``name`` cannot be a declared name, or ``None`` when it can.
-
-    >>> name_problem("T1") is None, name_problem("exp")
-    (True, "'exp' is reserved (a function name)")
-    """
-    if not _IDENTIFIER.match(name):
-        return (
-            f"{name!r} is not a valid name (expected a letter followed by letters, digits or underscores)"
-        )
-    if name in FUNCTIONS:
-        return f"{name!r} is reserved (a function name)"
-    if name in CONSTANTS:
-        return f"{name!r} is reserved (the constant {name})"
-    if keyword.iskeyword(name):
-        return f"{name!r} is reserved (a Python keyword)"
-    return None
-
-
-def nearest(word: str, candidates: Sequence[str] | set[str] | frozenset[str]) -> str | None:
-    """The candidate closest to ``word`` (difflib), or ``None``.
-
-    >>> nearest("tempp", ["temp", "time"])
-    'temp'
-    """
-    found = difflib.get_close_matches(word, sorted(candidates), n=1, cutoff=0.6)
-    return found[0] if found else None
-
-
-# ---------------------------------------------------------------------------
 # Tokenizer
 # ---------------------------------------------------------------------------
-
-_TOKEN = re.compile(
-    r"""
-    (?P<space>[ \t\r\n]+)
-  | (?P<number>(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)
-  | (?P<name>[A-Za-z_][A-Za-z0-9_]*)
-  | (?P<string>'[^'\n]*'|"[^"\n]*")
-  | (?P<op>\*\*|\^|[-+*/(),])
-  | (?P<other>.)
-    """,
-    re.VERBOSE | re.DOTALL,
-)
-
-_FORBIDDEN_CHAR = re.compile(r"[^ -~\t\r\n]")
 
 _NUMBER_PARTS = re.compile(r"(?P<mantissa>\d*\.?\d*)(?:[eE](?P<exp>[+-]?\d+))?\Z")
 
 
-@dataclass(frozen=True)
-class _Token:
-    kind: str  # number, name, string, op, other
-    text: str
-    column: int  # 0-based column in the original text
+def _tokens(text: str, where: _Where) -> tuple[Token, ...]:
+    problem = character_problem(text)
+    if problem is not None:
+        raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
+    return tokenize(text)
 
 
-def _tokens(text: str, where: _Where) -> tuple[_Token, ...]:
-    bad = _FORBIDDEN_CHAR.search(text)
-    if bad is not None:
-        # Non-ASCII is refused outright: Python folds some Unicode letters
-        # into ASCII names (NFKC), so a name could look different from what
-        # the walker checks, and ast columns would count bytes, not characters.
-        value = bad.group()
-        raise where.error(
-            ExpressionError,
-            f"character {value!r} (U+{ord(value):04X}) at column {bad.start() + 1} is not allowed; "
-            "expressions use ASCII letters, digits, + - * / ^ ( ) , and spaces",
-            column=bad.start() + 1,
-        )
-    out: list[_Token] = []
-    for m in _TOKEN.finditer(text):
-        kind = m.lastgroup or "other"
-        if kind != "space":
-            out.append(_Token(kind, m.group(), m.start()))
-    return tuple(out)
-
-
-def _is_value_name(tok: _Token, symbols: Mapping[str, sp.Symbol]) -> bool:
+def _is_value_name(tok: Token, symbols: Mapping[str, sp.Symbol]) -> bool:
     """A name that denotes a value (declared symbol or constant), not a call."""
     if tok.kind != "name" or keyword.iskeyword(tok.text) or tok.text in FUNCTIONS:
         return False
     return tok.text in symbols or tok.text in CONSTANTS
 
 
-def _implied_product(left: _Token, right: _Token, symbols: Mapping[str, sp.Symbol]) -> bool:
+def _implied_product(left: Token, right: Token, symbols: Mapping[str, sp.Symbol]) -> bool:
     """Whether ``left right`` means ``left * right``.
 
     Only cases that cannot be read another way: a number, a closing
-    parenthesis or a declared value name, followed by a name or ``(``.  A
+    parenthesis or a declared value name, followed by a name or ``(``
+    (``k(t + 1)`` never gets here: :func:`derive.tokens.call_problem`
+    refuses it first, since it is as often meant as a function of time).  A
     number on the right (``t 2``, ``(a)2``) is left alone: it is more often a
     typo than a product.  Keywords are never touched so that ``lambda`` and
     friends reach the tree walk and are refused by name.
@@ -237,14 +117,17 @@ def _implied_product(left: _Token, right: _Token, symbols: Mapping[str, sp.Symbo
     return right.kind == "name" and not keyword.iskeyword(right.text)
 
 
-def _rewrite(tokens: Sequence[_Token], symbols: Mapping[str, sp.Symbol]) -> tuple[str, tuple[int, ...]]:
+def _rewrite(tokens: Sequence[Token], symbols: Mapping[str, sp.Symbol], where: _Where) -> tuple[str, tuple[int, ...]]:
     """Join tokens into Python source; also map each source column to the original."""
     pieces: list[str] = []
     columns: list[int] = []
-    prev: _Token | None = None
-    for tok in tokens:
+    prev: Token | None = None
+    for i, tok in enumerate(tokens):
         if prev is not None:
             if _implied_product(prev, tok, symbols):
+                problem = product_problem(tokens, i, where.text)
+                if problem is not None:
+                    raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
                 pieces.append("*")
                 columns.append(tok.column)
             pieces.append(" ")
@@ -266,6 +149,9 @@ class _Where:
     text: str
     key: str | None
     file: str | None
+    #: the names that are states, and the independent variable, when the caller knows them
+    states: frozenset[str] = frozenset()
+    time: sp.Symbol | None = None
 
     def error(
         self,
@@ -512,7 +398,14 @@ class _Walker:
         if isinstance(node, ast.Call):
             return self.call(node, depth)
         what = _CONSTRUCT_NAMES.get(type(node), f"the construct {type(node).__name__}")
-        raise self.fail(node, f"{what} is not allowed in an expression")
+        comma = re.search(r"\d,\d", self.where.text) if isinstance(node, ast.Tuple) else None
+        hint = (
+            f"a decimal number is written with a point ({comma.group().replace(',', '.')}); a comma only "
+            "separates the arguments of a function"
+            if comma
+            else None
+        )
+        raise self.fail(node, f"{what} is not allowed in an expression", hint=hint)
 
     def constant(self, node: ast.Constant) -> _Built:
         value = node.value
@@ -536,7 +429,7 @@ class _Walker:
         offset = node.col_offset
         start = self.columns[offset] if 0 <= offset < len(self.columns) else None
         if start is not None:
-            m = _TOKEN.match(self.where.text, start)
+            m = TOKEN.match(self.where.text, start)
             if m is not None and m.lastgroup == "number":
                 return m.group()
         raise self.fail(node, "could not read this number literal")  # pragma: no cover
@@ -555,10 +448,22 @@ class _Walker:
                 f"{ident!r} is a function and needs parentheses",
                 hint=f"write {FUNCTIONS[ident].usage}",
             )
+        time = self.where.time
+        if time is not None and ident == "t" and time.name != "t":
+            raise self.fail(
+                node,
+                f"'t' is used here, but the independent variable of this case is {time.name!r} (system.t)",
+                hint=f"write {time.name} instead of t, or remove system.t to keep the name t",
+            )
         declared = sorted(self.symbols)
         listing = ", ".join(declared) if declared else "none"
         guess = nearest(ident, set(declared) | set(CONSTANTS))
+        parts = split_names(ident, declared)
         hint = f"did you mean {guess!r}?" if guess else "declare it as a parameter, or check the spelling"
+        if parts:
+            hint = f"{ident} is read as one name: write {'*'.join(parts)} for a product" + (
+                f", or did you mean {guess!r}?" if guess else ""
+            )
         raise self.fail(
             node,
             f"unknown name {ident!r}; the declared names are: {listing} (and the constants pi, e)",
@@ -699,6 +604,9 @@ class _Walker:
                 hint=f"write {spec.usage}",
             )
         args = [self.walk(a, depth + 1) for a in node.args]
+        problem = spec.check([a.expr for a in args], self.where.time)
+        if problem is not None:
+            raise self.fail(node.args[problem.index], f"{ident}: {problem.message}", hint=problem.hint)
         if ident == "exp":
             return self.exp_of(node, args[0])
         if ident == "sqrt":
@@ -740,7 +648,11 @@ def _prepare(
             # Checked before ast.parse, which would otherwise convert the
             # literal to a Python number first.
             _number_from_literal(tok.text, where, limits, tok.column + 1)
-    return _rewrite(tokens, symbols)
+    time = where.time.name if where.time is not None else None
+    problem = call_problem(tokens, where.text, set(symbols), states=where.states, time=time)
+    if problem is not None:
+        raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
+    return _rewrite(tokens, symbols, where)
 
 
 def parse_expression(
@@ -750,20 +662,25 @@ def parse_expression(
     key: str | None = None,
     file: str | None = None,
     limits: Limits = DEFAULT_LIMITS,
+    states: Collection[str] = (),
+    t: sp.Symbol | None = None,
 ) -> tuple[sp.Expr, tuple[str, ...]]:
     """Parse one expression string (or number) into a sympy Expr; returns (expr, notices).
 
     Floats become exact rationals, each with a notice.  Only the names in
     ``symbols`` and the constants ``pi`` and ``e`` may appear; only the
     functions in :data:`FUNCTIONS` may be called.  ``step`` is
-    ``Heaviside`` with H(0) = 1/2.
+    ``Heaviside`` with H(0) = 1/2.  A declared name directly followed by
+    ``(`` is refused (``u(t)`` is not read as ``u*t``).  ``states`` and ``t``
+    (the independent variable), when given, sharpen the messages and let the
+    switching helpers check that their arguments move with time.
 
     >>> t = sp.Symbol("t", real=True)
     >>> parse_expression("2t^2 + 0.5 sin(3t)", symbols={"t": t})
     (2*t**2 + sin(3*t)/2, ('0.5 read as the exact value 1/2',))
     """
     shown = text if isinstance(text, str) else repr(text)
-    where = _Where(shown, key, file)
+    where = _Where(shown, key, file, frozenset(states), t)
     try:
         return _parse(text, symbols=symbols, where=where, limits=limits)
     except DeriveError as err:
@@ -838,7 +755,7 @@ def expression_names(text: str | int | float) -> tuple[str, ...]:
     if not isinstance(text, str):
         return ()
     seen: dict[str, None] = {}
-    toks = [m for m in _TOKEN.finditer(text) if m.lastgroup != "space"]
+    toks = [m for m in TOKEN.finditer(text) if m.lastgroup != "space"]
     for i, m in enumerate(toks):
         if m.lastgroup != "name" or keyword.iskeyword(m.group()):
             continue

@@ -38,7 +38,9 @@ ACCEPTED = [
     ("2 pi", 2 * sp.pi),
     ("2 pi t", 2 * sp.pi * t),
     ("a b", a * b),
-    ("k(t - 1)", k * (t - 1)),
+    ("k*(t - 1)", k * (t - 1)),
+    ("k*(t - 1)(t + 1)", k * (t - 1) * (t + 1)),
+    ("k (t - 1)", k * (t - 1)),  # a space before "(": a product, as typeset
     ("(t+1)t", (t + 1) * t),
     ("t^2", t**2),
     ("t**2", t**2),
@@ -168,7 +170,7 @@ REFUSED = [
     ("\uff45xp(t)", "not allowed"),  # fullwidth letter that NFKC would fold to 'e'
     ("", "empty"),
     ("   ", "empty"),
-    ("sin t", "cannot be read"),
+    ("sin t", "needs its argument in parentheses"),
     ("(t + 1", "cannot be read"),
 ]
 
@@ -324,3 +326,83 @@ def test_random_token_soup_only_raises_derive_errors(text: str) -> None:
 def test_default_limits_values() -> None:
     assert (DEFAULT_LIMITS.max_length, DEFAULT_LIMITS.max_depth, DEFAULT_LIMITS.max_int_digits,
             DEFAULT_LIMITS.max_exponent, DEFAULT_LIMITS.max_dimension) == (2000, 40, 40, 200, 12)
+
+
+# --- a declared name followed by "(" is a call, never an implied product ------
+
+VALUE_CALLS = [
+    ("k(t - 1)", "k is a declared name", "write k*(t - 1) for a product"),
+    ("2 a(b)", "a is a declared name", "write a*b for a product"),
+    ("e(t)", "the constant e", "exp(t) for the exponential"),
+    ("pi(t + 1)", "the constant pi", "write pi*(t + 1) for a product"),
+]
+
+
+@pytest.mark.parametrize(("text", "message", "hint"), VALUE_CALLS)
+def test_declared_name_before_parenthesis_is_refused(text: str, message: str, hint: str) -> None:
+    with pytest.raises(ExpressionError) as info:
+        parse_expression(text, symbols=SYMBOLS, key="system.forcing[0]", file="c.toml")
+    err = info.value
+    assert message in err.message and hint in (err.hint or "")
+    assert err.key == "system.forcing[0]" and err.file == "c.toml" and err.column is not None
+
+
+def test_roles_sharpen_the_call_messages() -> None:
+    x = sp.Symbol("x", real=True)
+    table = {**SYMBOLS, "x": x}
+    with pytest.raises(ExpressionError) as state:
+        parse_expression("-x(t)", symbols=table, states=("x",), t=t)
+    assert state.value.hint == "write the state as x (it stands for x(t))"
+    with pytest.raises(ExpressionError) as delay:
+        parse_expression("-x(t - 1)", symbols=table, states=("x",), t=t)
+    assert "delay differential equation" in delay.value.message and delay.value.column == 2
+    with pytest.raises(ExpressionError) as call:
+        parse_expression("(k(t) - x)/2", symbols=table, states=("x",), t=t)
+    assert "write k for a constant input" in (call.value.hint or "") and call.value.column == 2
+    with pytest.raises(ExpressionError) as time:
+        parse_expression("t(t + 1)", symbols=table, t=t)
+    assert "independent variable" in time.value.message
+
+
+def test_a_renamed_time_variable_is_named_when_t_is_used() -> None:
+    tau = sp.Symbol("tau", real=True)
+    with pytest.raises(ExpressionError) as info:
+        parse_expression("sin(t)", symbols={"tau": tau}, t=tau, key="system.forcing[0]")
+    assert "'tau' (system.t)" in info.value.message and "write tau instead of t" in (info.value.hint or "")
+
+
+# --- switching helpers: arguments that are well-formed but mean nothing -------
+
+HELPER_ARGS = [
+    ("pulse(t, 3, 1)", 13, "comes before its start", "pulse(t, 1, 3)"),
+    ("pulse(t, 2, 2)", 13, "ends where it starts", "start a before the end b"),
+    ("pulse(t, a, b)", 13, "cannot be decided", "positive"),
+    ("pulse(t, k, k - 1)", 13, "comes before its start", "pulse(t, k - 1, k)"),
+    ("impulse(0*t)", 9, "zero time scale", "impulse(t - a)"),
+    ("delta(t, t)", 7, "zero time scale", "impulse(t - a)"),
+    ("step(k)", 6, "does not depend on t", "step(t - a)"),
+    ("ramp(a, 1)", 6, "does not depend on t", "ramp(t - a)"),
+    ("pulse(a, 1, 2)", 7, "does not depend on t", "pulse(t, a, b)"),
+]
+
+
+@pytest.mark.parametrize(("text", "column", "message", "hint"), HELPER_ARGS)
+def test_helper_arguments_are_checked(text: str, column: int, message: str, hint: str) -> None:
+    with pytest.raises(ExpressionError) as info:
+        parse_expression(text, symbols=SYMBOLS, t=t, key="system.forcing[1]")
+    err = info.value
+    assert message in err.message and hint in (err.hint or ""), (err.message, err.hint)
+    assert err.column == column and err.key == "system.forcing[1]"
+
+
+def test_pulse_with_an_ordered_symbolic_end_is_accepted() -> None:
+    w = sp.Symbol("w", positive=True)
+    expr, _ = parse_expression("pulse(t, a, a + w)", symbols={**SYMBOLS, "w": w}, t=t)
+    assert expr == sp.Heaviside(t - a) - sp.Heaviside(t - a - w)
+
+
+def test_a_switch_whose_time_is_in_the_second_argument_is_accepted() -> None:
+    # step(1, t) = H(1 - t): on until t = 1, then off
+    assert parse_expression("step(1, t)", symbols=SYMBOLS, t=t)[0] == sp.Heaviside(1 - t)
+    with pytest.raises(ExpressionError, match="sign of 0"):
+        parse_expression("step(t, t)", symbols=SYMBOLS, t=t)
