@@ -235,7 +235,10 @@ def test_verify_accepts_every_right_answer_and_refuses_perturbed_ones(data):
     assert verify(gen_system, general, constants=cs, eigenvalues=lams).ok
     # x + 1e-6 t is refused, and so is a wrong coefficient of one mode
     assert not verify(system, x + sp.Matrix([sp.Rational(1, 10**6) * t] * n)).ok
-    term = next(a for e in x for a in sp.Add.make_args(e) if a.has(t))
+    # a wrong coefficient of one mode; when x0 excites only the zero mode, x is constant
+    # and a wrong constant term is the slip to catch
+    terms = [a for e in x for a in sp.Add.make_args(e) if a != 0]
+    term = next((a for a in terms if a.has(t)), terms[0])
     wrong = x.applyfunc(lambda e: e.xreplace({term: term * sp.Rational(11, 10)}) if e.has(term) else e)
     assert wrong != x
     assert not verify(system, wrong).ok
