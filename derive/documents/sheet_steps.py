@@ -1,0 +1,446 @@
+"""The calculation sheet's derivation steps as blocks: one function per step kind.
+
+``STEP_BLOCKS`` maps every kind in ``derive.steps.STEP_KINDS`` to a function
+that describes a step of that kind in the format-neutral blocks of
+``derive.documents.blocks``.  Markdown, text and any new output format show
+a step only through this description; the LaTeX sheet has, in addition, a
+hand-set partial per kind (``templates/steps/<kind>.tex.j2``) and falls back
+to this description for a kind without one.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Callable, Sequence
+
+import sympy as sp
+
+from ..model import Solution
+from ..render.printing import MathFormatter, root_legend_rows
+from .blocks import Block, Eq, Heading, Inline, Items, Math, N, Name, P, Para
+
+__all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
+
+
+@dataclass(frozen=True)
+class StepContext:
+    """What a step's block function needs besides the step: the solution and its printer."""
+
+    solution: Solution
+    fmt: MathFormatter
+    lam: sp.Symbol
+
+    @property
+    def t(self) -> sp.Symbol:
+        return self.solution.system.t
+
+    def fn(self, sym: sp.Symbol, suffix: str = "") -> Name:
+        """``y_1(t)`` (optionally ``y_1'(t)``) as a Name."""
+        return Name(
+            f"{self.fmt.m(sym)}{suffix}({self.fmt.m(self.t)})",
+            f"{self.fmt.plain(sym)}{suffix}({self.fmt.plain(self.t)})",
+        )
+
+    def state_rows(self, vec: sp.MatrixBase, part: str = "") -> tuple[tuple[Name, Any], ...]:
+        states = self.solution.system.states
+        rows = []
+        for i in range(vec.rows):
+            lat = self.fmt.m(states[i]) + (rf"^{{\mathrm{{{part}}}}}" if part else "")
+            pl = self.fmt.plain(states[i]) + (f"_{part}" if part else "")
+            rows.append((Name(f"{{{lat}}}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})"), vec[i]))
+        return tuple(rows)
+
+    def legend(self, objs: Sequence[Any]) -> list[Block]:
+        present: set[sp.Basic] = set()
+        for obj in objs:
+            items = list(obj) if isinstance(obj, sp.MatrixBase) else [obj]
+            for e in items:
+                if isinstance(e, sp.Basic):
+                    present |= e.atoms(sp.CRootOf)
+        wanted = [r for r in self.fmt.roots if r.root in present]
+        out: list[Block] = []
+        for _, group in root_legend_rows(wanted):
+            parts: list[Inline] = []
+            for k, r in enumerate(group):
+                parts += [", " if k else "", Math(r.root)]
+            parts += [
+                " (indexed roots, kept exact) are the roots of ",
+                Math(sp.Eq(group[0].polynomial(self.lam), 0)),
+                ", numbered real roots ascending, then complex pairs: ",
+            ]
+            for k, r in enumerate(group):
+                parts += [", " if k else "", Math(r.root), f" ~ {r.decimal}"]
+            parts.append(".")
+            out.append(Para(tuple(parts)))
+        return out
+
+
+def _mat(name: str, plain: str, M: Any) -> Eq:
+    return Eq(((Name(name, plain), M),))
+
+
+# ---------------------------------------------------------------------------
+# One function per step kind
+
+
+def _equations(s: Any, c: StepContext) -> list[Block]:
+    out: list[Block] = [
+        Heading(3, "The system in matrix form"),
+        P("The coefficients of the states in each equation give the rows of A; the terms free of the states give the forcing f."),
+    ]
+    if s.equations:
+        out.append(Items(tuple((e,) for e in s.equations)))
+    out += [_mat("A", "A", s.A), _mat(f"f({c.fmt.m(s.t)})", f"f({c.fmt.plain(s.t)})", s.f)]
+    return out
+
+
+def _charpoly(s: Any, c: StepContext) -> list[Block]:
+    L = c.fmt.m(s.lam)
+    Lp = c.fmt.plain(s.lam)
+    return [
+        Heading(3, "Characteristic polynomial"),
+        P("The eigenvalues are the values where A - lambda I is singular, so its determinant is formed."),
+        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
+        Eq(
+            ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded), (N("", ""), s.factored))
+            if s.factored != s.expanded  # an irreducible polynomial is shown once
+            else ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded),)
+        ),
+        P(f"Irreducible factors over {s.domain}:"),
+        Items(tuple((Math(f), f", multiplicity {m}") for f, m in s.factors)),
+    ]
+
+
+def _eigenvalues(s: Any, c: StepContext) -> list[Block]:
+    items = []
+    for e in s.entries:
+        dec = "" if e.value.is_Integer else (c.fmt.decimal(e.value, latex=False) or e.decimal)
+        row: list[Inline] = [Math(e.value), (f" ~ {dec}" if dec else "") + f"; multiplicity {e.algebraic} (geometric {e.geometric}); {e.form}"]
+        if e.rule:
+            row.append(f"; {e.rule}")
+        items.append(tuple(row))
+    return [
+        Heading(3, "Eigenvalues"),
+        P("Each irreducible factor is set to zero. The eigenvalues, in the order of the columns of P:"),
+        Items(tuple(items)),
+        *c.legend([e.value for e in s.entries]),
+    ]
+
+
+def _instances(c: StepContext, instances: Any, L: str, Lp: str) -> list[Block]:
+    rows = []
+    for value, vecs in instances:
+        for k, v in enumerate(vecs, start=1):
+            sub = f"_{{{k}}}" if len(vecs) > 1 else ""
+            rows.append(
+                (Name(f"{c.fmt.root_value(value)}:\\quad v{sub}", f"{c.fmt.root_value_plain(value)}: v{sub.strip('_{}')}"), v)
+            )
+    return [P("For the individual roots:"), Eq(tuple(rows)), *c.legend([v for v, _ in instances])] if rows else []
+
+
+def _eigenvector(s: Any, c: StepContext) -> list[Block]:
+    L, Lp = c.fmt.m(s.lam), c.fmt.plain(s.lam)
+    if s.root_of is None:
+        head: list[Block] = [
+            Heading(3, f"Eigenvectors for {Lp} = {c.fmt.root_value_plain(s.eigenvalue)}"),
+            P("The eigenvectors for ", Math(sp.Eq(s.lam, s.eigenvalue, evaluate=False)),
+              f" (algebraic multiplicity {s.algebraic}) span the null space of A - {Lp} I, found by row reduction."),
+        ]
+    else:
+        head = [
+            Heading(3, f"Eigenvectors for the roots of q({Lp})"),
+            P(f"For each root {Lp} of ", Math(sp.Eq(s.root_of, 0)),
+              " the computation is the same, so it is done once for a generic root."),
+        ]
+    cols = lambda idx: ", ".join(str(int(i) + 1) for i in idx) or "none"  # noqa: E731
+    basis = tuple(
+        (Name(f"v_{{{k}}}" if len(s.basis) > 1 else "v", f"v_{k}" if len(s.basis) > 1 else "v"), v)
+        for k, v in enumerate(s.basis, start=1)
+    )
+    out = head + [
+        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
+        _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
+        P(f"Pivot columns {cols(s.pivots)}; free columns {cols(s.free)}. Each free unknown set to one in turn gives the basis:"),
+        Eq(basis),
+    ]
+    if s.root_of is not None:
+        out += _instances(c, s.instances, L, Lp)
+    return out
+
+
+def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
+    L, Lp = c.fmt.m(s.lam), c.fmt.plain(s.lam)
+    where = c.fmt.root_value_plain(s.eigenvalue) if s.root_of is None else f"each root of q({Lp})"
+    out: list[Block] = [
+        Heading(3, f"Jordan chain for {Lp} = {where}"),
+        P(f"Algebraic multiplicity {s.algebraic} but {s.geometric} independent eigenvector(s): A is not diagonalizable. "
+          f"Generalized eigenvectors solve (A - {Lp} I) v_(k+1) = v_k."),
+    ]
+    if s.root_of is not None:
+        out.append(P("The roots are those of ", Math(sp.Eq(s.root_of, 0)), "; the chain is computed once for a generic root."))
+    out.append(_mat(f"A - {L} I", f"A - {Lp} I", s.shifted))
+    for k, link in enumerate(s.links, start=1):
+        out += [
+            P(f"For v_{k + 1}: right side v_{k}; the augmented matrix reduces to"),
+            _mat(rf"\operatorname{{rref}}[A - {L} I \mid v_{{{k}}}]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
+            _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
+        ]
+    out.append(Eq(tuple((N(f"v_{{{k}}}", f"v_{k}"), v) for k, v in enumerate(s.vectors, start=1))))
+    if s.root_of is not None:
+        out += _instances(c, s.instances, L, Lp)
+    return out
+
+
+def _modal_matrix(s: Any, c: StepContext) -> list[Block]:
+    name = "D" if s.diagonal else "J"
+    out: list[Block] = [
+        Heading(3, "Modal matrix"),
+        P("The eigenvectors" + ("" if s.diagonal else " and chain vectors") + f" are the columns of P, in the order of the diagonal of {name}."),
+        _mat("P", "P", s.P),
+        _mat(name, name, s.D),
+    ]
+    if not s.diagonal:
+        out.append(Items(tuple((Math(v), f": Jordan block of size {k}") for v, k in s.blocks)))
+    return out
+
+
+def _inverse(s: Any, c: StepContext) -> list[Block]:
+    return [
+        Heading(3, "Inverse of the modal matrix"),
+        P("det P = ", Math(s.det), f", not zero, so P is invertible (method: {s.method}):"),
+        _mat("P^{-1}", "P^-1", s.P_inv),
+    ]
+
+
+def _similarity(s: Any, c: StepContext) -> list[Block]:
+    verdict = "This equals A: the decomposition holds exactly." if s.ok else "This does NOT equal A: the decomposition is wrong."
+    out: list[Block] = [
+        Heading(3, "Check of the decomposition"),
+        P("The product is multiplied out and compared with A before it is used:"),
+        _mat(r"P\,D\,P^{-1}", "P D P^-1", s.product),
+        P(verdict),
+    ]
+    if not s.ok:
+        out.append(_mat("A", "A", s.A))
+    return out
+
+
+def _decouple(s: Any, c: StepContext) -> list[Block]:
+    y = sp.ImmutableMatrix([[v] for v in s.y])
+    rhs = s.D * y + s.g
+    return [
+        Heading(3, "Decoupling"),
+        P("With x = P y and multiplying by P^-1: y' = D y + g, where g = P^-1 f:"),
+        _mat(f"g({c.fmt.m(s.t)})", f"g({c.fmt.plain(s.t)})", s.g),
+        Eq(tuple((c.fn(s.y[k], "'"), rhs[k]) for k in range(len(s.y)))),
+    ]
+
+
+def _scalar(s: Any, c: StepContext) -> list[Block]:
+    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
+    yp = c.fmt.plain(s.y)
+    head = Heading(3, f"Solution for {yp}")
+    if s.conjugate_of is not None:
+        return [
+            head,
+            P("The eigenvalue ", Math(s.eigenvalue), " is the conjugate of an earlier one; for real data the solution is the conjugate one:"),
+            Eq(((c.fn(s.y), s.solution),)),
+        ]
+    out: list[Block] = [
+        head,
+        P("Equation with eigenvalue ", Math(s.eigenvalue), ":"),
+        Eq(((c.fn(s.y, "'"), s.eigenvalue * s.y + s.rhs),)),
+    ]
+    if s.coupling is not None:
+        out.append(P("The next component of the Jordan block enters as forcing: ", Math(sp.Eq(s.coupling, s.coupling_value, evaluate=False)), "."))
+    out += [
+        P("Integrating factor (it makes the left side the exact derivative of mu y):"),
+        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor), (N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand))),
+    ]
+    if s.resonant:
+        out.append(P("Resonance: the forcing has the eigenvalue's exponent, so a polynomial factor appears."))
+    if c.solution.system.is_ivp:
+        lhs = N(rf"\int_{{{c.fmt.m(s.t0)}}}^{{{T}}} \mu\,h\,d{T}", f"integral from {c.fmt.plain(s.t0)} to {Tp} of mu h")
+    else:
+        lhs = N(rf"\int \mu\,h\,d{T}", "antiderivative of mu h")
+    out += [
+        Eq(((lhs, s.integral),)),
+        P("Dividing by mu, with the constant ", Math(s.constant), ":"),
+        Eq(((c.fn(s.y), s.solution),)),
+    ]
+    return out
+
+
+def _recombine(s: Any, c: StepContext) -> list[Block]:
+    terms = tuple((Math(f), " times ", Math(v)) for f, v in s.homogeneous_terms)
+    return [
+        Heading(3, "Recombination"),
+        P("x = P y: each y_k multiplies column k of P. The terms with constants form the homogeneous part:"),
+        Items(terms),
+        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
+        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
+    ]
+
+
+def _real_form(s: Any, c: StepContext) -> list[Block]:
+    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
+    out: list[Block] = [
+        Heading(3, "Real form"),
+        P("A and f are real, so each complex pair is rewritten with real functions and real constants."),
+    ]
+    for p in s.pairs:
+        out += [
+            P("Pair ", Math(p.re), " +- ", Math(p.im), f" {c.fmt.style.imaginary_unit} (from ", Math(p.eigenvalue), "):"),
+            Eq((
+                (N(r"\operatorname{Re} v", "Re v"), p.vector_re),
+                (N(r"\operatorname{Im} v", "Im v"), p.vector_im),
+                (N(rf"\operatorname{{Re}}(v e^{{\lambda {T}}})", f"Re(v exp(lambda {Tp}))"), p.real_part),
+                (N(rf"\operatorname{{Im}}(v e^{{\lambda {T}}})", f"Im(v exp(lambda {Tp}))"), p.imag_part),
+            )),
+            P("Complex constants ", Math(sp.Tuple(*p.complex_constants)), " replaced by real constants ", Math(sp.Tuple(*p.real_constants)), "."),
+        ]
+    out += [_mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous), _mat(r"x^{\mathrm{p}}", "x_p", s.particular)]
+    return out
+
+
+def _initial_values(s: Any, c: StepContext) -> list[Block]:
+    return [
+        Heading(3, "Constants from the initial values"),
+        P("Setting t = ", Math(s.t0), " and equating to x0 gives M c = r for the constants ", Math(sp.Tuple(*s.constants)), ":"),
+        Eq(((N("x_0", "x0"), s.x0), (N("M", "M"), s.matrix), (N("r", "r"), s.rhs))),
+        Eq(tuple((N(c.fmt.m(k), c.fmt.plain(k)), v) for k, v in s.values)),
+    ]
+
+
+def _result(s: Any, c: StepContext) -> list[Block]:
+    lead = "General solution, free constants " if s.constants else "With the constants substituted:"
+    parts: list[Inline] = [lead]
+    if s.constants:
+        parts += [Math(sp.Tuple(*s.constants)), ":"]
+    return [Heading(3, "Collected result"), Para(tuple(parts)), Eq(c.state_rows(s.x))]
+
+
+def _interval(s: Any, c: StepContext) -> list[Block]:
+    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
+    a, ap = c.fmt.m(s.start), c.fmt.plain(s.start)
+    end = "infinity" if s.end is None else c.fmt.plain(s.end)
+    origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
+    how = (
+        "The forcing is an exponential polynomial here: each decoupled equation is solved by its integrating factor from the start of the interval:"
+        if s.method == "closed form"
+        else "The forcing has no closed-form rule here: each decoupled equation is solved in convolution form (next):"
+    )
+    out: list[Block] = [
+        Heading(3, f"Interval {s.index}: {ap} <= {Tp} < {end}"),
+        P("Every step, pulse and piecewise branch has a fixed value on this interval, so the forcing and its decoupled form g = P^-1 f are:"),
+        _mat(f"f({T})", f"f({Tp})", s.f),
+        _mat(f"g({T})", f"g({Tp})", s.g),
+        P(f"It starts from {origin} (with any jump at {Tp} = {ap} applied), and y = P^-1 x there:"),
+        _mat(f"x({a})", f"x({ap})", s.x_start),
+        _mat(f"y({a})", f"y({ap})", s.y_start),
+        P(how),
+        _mat(f"y({T})", f"y({Tp})", s.y),
+        P("With x = P y, on this interval:"),
+        Eq(c.state_rows(s.x)),
+    ]
+    if s.x_end is not None:
+        out += [P("The state at the end, handed to the next interval:"), _mat(f"x({c.fmt.m(s.end)})", f"x({end})", s.x_end)]
+    else:
+        out.append(P("This interval has no end: the solution above holds for all later times."))
+    return out
+
+
+def _jump(s: Any, c: StepContext) -> list[Block]:
+    a, ap = c.fmt.m(s.at), c.fmt.plain(s.at)
+    Tp = c.fmt.plain(s.t)
+    return [
+        Heading(3, f"Impulse at {Tp} = {ap}"),
+        P(f"The forcing contains b delta({Tp} - {ap}). Integrating x' = A x + f across {Tp} = {ap}, only the impulse contributes, so the state jumps by b:"),
+        _mat("b", "b", s.weight),
+        _mat(f"x({a}^{{-}})", f"x({ap}-)", s.before),
+        _mat(f"x({a}^{{+}})", f"x({ap}+)", s.after),
+    ]
+
+
+def _convolution(s: Any, c: StepContext) -> list[Block]:
+    yp = c.fmt.plain(s.y)
+    out: list[Block] = [
+        Heading(3, f"Convolution form for {yp}"),
+        P("The equation with eigenvalue ", Math(s.eigenvalue), " and decoupled forcing g = ", Math(s.g),
+          " has no closed-form rule for the integrating-factor integral, so the solution is the convolution:"),
+        Eq(((c.fn(s.y), s.written),)),
+        P("Splitting e^(lambda (t - s)) at t0, it combines integrals whose integrands do not contain t:"),
+    ]
+    for integral, value in s.integrals:
+        if value == integral:
+            out += [Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), integral),)),
+                    P("No closed form found within the time limit: kept as a definite integral, evaluated by quadrature in the numeric check.")]
+        else:
+            out.append(Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), value),)))
+    out += [P("With these:"), Eq(((c.fn(s.y), s.solution),))]
+    return out
+
+
+def _steady_state(s: Any, c: StepContext) -> list[Block]:
+    basis = "decided exactly" if s.stability == "exact" else "decided at the given parameter values"
+    since = f", for the input from {c.fmt.plain(s.t)} = {c.fmt.plain(s.since)} on" if s.since is not None else ""
+    out: list[Block] = [
+        Heading(3, "Steady state and transient"),
+        P(f"Every eigenvalue has a negative real part ({basis}): the free response decays and the solution tends to the steady state{since}."),
+    ]
+    if s.constant is not None:
+        out += [P("For the constant part f0 of the input, x_ss = -A^-1 f0:"), _mat("f_0", "f0", s.constant), _mat("-A^{-1} f_0", "-A^-1 f0", s.x_constant)]
+    if s.omega is not None:
+        j = c.fmt.style.imaginary_unit
+        out += [
+            P(f"The sinusoidal part is Re(F e^({j} omega t)) with omega = ", Math(s.omega), f"; X = ({j} omega I - A)^-1 F:"),
+            _mat("F", "F", s.phasor_in),
+            _mat("X", "X", s.phasor),
+            P("Each state oscillates as |X_k| cos(omega t + arg X_k):"),
+            Items(tuple(
+                (Math(state), ": amplitude ", Math(amp), f" (~ {c.fmt.decimal(amp, latex=False)})" if c.fmt.decimal(amp, latex=False) else "",
+                 ", phase ", Math(ph), f" rad (~ {c.fmt.decimal(ph, latex=False)})" if c.fmt.decimal(ph, latex=False) else " rad")
+                for state, amp, ph in zip(c.solution.system.states, s.amplitude, s.phase)
+            )),
+        ]
+    out += [
+        P("Steady state and transient x - x_ss:"),
+        Eq(c.state_rows(s.x_ss, "ss")),
+        Eq(c.state_rows(s.transient, "tr")),
+        P("Substituting x_ss into x' = A x + f " + ("leaves a zero residual." if s.residual_zero else "does NOT leave a zero residual.")),
+    ]
+    return out
+
+
+#: Step kind -> blocks; every kind in ``derive.steps.STEP_KINDS`` has an entry.
+STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
+    "equations": _equations,
+    "charpoly": _charpoly,
+    "eigenvalues": _eigenvalues,
+    "eigenvector": _eigenvector,
+    "jordan_chain": _jordan_chain,
+    "modal_matrix": _modal_matrix,
+    "inverse": _inverse,
+    "similarity": _similarity,
+    "decouple": _decouple,
+    "scalar": _scalar,
+    "recombine": _recombine,
+    "real_form": _real_form,
+    "initial_values": _initial_values,
+    "result": _result,
+    "interval": _interval,
+    "jump": _jump,
+    "convolution": _convolution,
+    "steady_state": _steady_state,
+}
+
+
+
+def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
+    """The blocks of one step; ``OutputError`` names a kind that has no block function."""
+    from ..errors import OutputError
+
+    handler = STEP_BLOCKS.get(step.kind)
+    if handler is None:
+        raise OutputError(f"no rendering for step kind {step.kind!r}; expected one of {', '.join(STEP_BLOCKS)}", key="steps")
+    return handler(step, ctx)

@@ -1,0 +1,105 @@
+"""Blocks as LaTeX: the generic LaTeX rendering of any document.
+
+The layout of each block kind is in ``templates/blocks.tex.j2`` (one macro
+per kind); this module gives that template the few functions that print a
+block's parts: inline text and mathematics, displayed equations and the
+column specification of a table.  User text goes through ``tex_escape``,
+mathematics through the document's ``MathFormatter``.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any, Callable, Sequence
+
+import sympy as sp
+
+from ..errors import OutputError
+from ..documents.blocks import Block, Code, Inline, Math, Name, Strong, Table
+from .escape import tex_escape
+from .printing import MathFormatter
+from .templating import get_template
+
+__all__ = ["blocks_latex", "block_helpers", "tex_text"]
+
+# \path typesets these verbatim and breaks long ones at / . - _; only text of
+# those safe characters goes there, anything else is escaped into \texttt.
+_PATH_SAFE = re.compile(r"[A-Za-z0-9][A-Za-z0-9._/-]*")
+
+
+def tex_text(text: str) -> str:
+    """``tex_escape`` keeping one leading and one trailing space (inline text joins its neighbours).
+
+    >>> tex_text(" 50% of ")
+    ' 50\\\\% of '
+    """
+    inner = tex_escape(text)
+    if not inner:
+        return " " if text else ""
+    return (" " if text[:1].isspace() else "") + inner + (" " if text[-1:].isspace() else "")
+
+
+def _inline_part(part: Inline, fmt: MathFormatter) -> str:
+    if isinstance(part, Math):
+        return f"${fmt.m(part.obj)}$"
+    if isinstance(part, Name):
+        return f"${part.latex}$"
+    if isinstance(part, Strong):
+        return r"\textbf{%s}" % tex_escape(part.text)
+    if isinstance(part, Code):
+        if part.breakable and _PATH_SAFE.fullmatch(part.text):
+            return r"\path{%s}" % part.text
+        return r"\texttt{%s}" % tex_escape(part.text)
+    return tex_text(str(part))
+
+
+def _display(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> str:
+    """Displayed equations: scalar rows aligned together, each matrix on its own."""
+    out: list[str] = []
+    scalars: list[tuple[str, Any]] = []
+    for name, rhs in rows:
+        if isinstance(rhs, sp.MatrixBase) and rhs.rows * rhs.cols > 1:
+            if scalars:
+                out.append(fmt.display(scalars))
+                scalars = []
+            out.append(fmt.matrix_display(name.latex, rhs))
+        else:
+            scalars.append((name.latex, rhs[0] if isinstance(rhs, sp.MatrixBase) else rhs))
+    if scalars:
+        out.append(fmt.display(scalars))
+    return "\n".join(out)
+
+
+def _colspec(table: Table) -> str:
+    cols = []
+    for k in range(len(table.header)):
+        width = table.column_width(k)
+        if width is not None:
+            cols.append(r">{\raggedright\arraybackslash}p{%.2f\textwidth}" % width)
+        else:
+            cols.append(table.column_align(k))
+    return "@{}" + "".join(cols) + "@{}"
+
+
+def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
+    """The functions ``templates/blocks.tex.j2`` calls, bound to ``fmt``."""
+    def inline(parts: Sequence[Inline]) -> str:
+        return "".join(_inline_part(p, fmt) for p in parts)
+
+    return {
+        "inline": inline,
+        "cells": lambda row: " & ".join(inline(cell) for cell in row),
+        "display": lambda rows: _display(rows, fmt),
+        "colspec": _colspec,
+        "unknown_block": _unknown_block,
+    }
+
+
+def _unknown_block(block: Any) -> str:
+    raise OutputError(f"no LaTeX rendering for block kind {getattr(block, 'kind', type(block).__name__)!r}", key="blocks")
+
+
+def blocks_latex(blocks: Sequence[Block], fmt: MathFormatter) -> str:
+    """The LaTeX of ``blocks`` (no preamble), one macro of ``blocks.tex.j2`` per block."""
+    macros = get_template("blocks.tex.j2").make_module(block_helpers(fmt))
+    return "".join(str(macros.block(b)) for b in blocks)  # type: ignore[attr-defined]
