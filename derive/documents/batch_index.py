@@ -102,7 +102,7 @@ class BatchIndexDocument(Document):
             ("Case", "Outcome", "Spectrum", "Check", "Time [s]", "Sheet"),
             tuple(table_rows),
             align="llllrl",
-            widths=(0.22, 0.11, 0.13, 0.24, None, 0.14),
+            widths=(0.20, 0.10, 0.12, 0.22, None, 0.14),
             long=True,
         ))
         program = program_versions()[0]

@@ -45,7 +45,7 @@ def _inline_part(part: Inline, fmt: MathFormatter) -> str:
     if isinstance(part, Name):
         return f"${part.latex}$"
     if isinstance(part, Strong):
-        return r"\textbf{%s}" % tex_escape(part.text)
+        return r"\textbf{%s}" % tex_text(part.text)
     if isinstance(part, Code):
         if part.breakable and _PATH_SAFE.fullmatch(part.text):
             return r"\path{%s}" % part.text
