@@ -10,8 +10,12 @@ written by the one writer.
 from __future__ import annotations
 
 import json
+import math
+import shutil
+import subprocess
 from dataclasses import dataclass
 from pathlib import Path
+from typing import ClassVar
 
 import pytest
 import sympy as sp
@@ -19,7 +23,7 @@ import sympy as sp
 from derive.check import CAUTION, check
 from derive.documents.base import Document
 from derive.documents.batch_index import BatchIndexDocument, write_index
-from derive.documents.blocks import Code, Heading, Math, P, Para, Table
+from derive.documents.blocks import Caution, Code, Figure, Heading, Math, N, P, Para, Series, Table, Title
 from derive.documents.check_report import CheckReportDocument, render_check
 from derive.documents.sheet import SheetDocument
 from derive.model import SheetMeta
@@ -28,6 +32,7 @@ from derive.render import RENDERERS, render
 from derive.render.escape import md_escape, tex_escape
 from derive.render.latex_blocks import blocks_latex
 from derive.render.printing import MathFormatter
+from derive.steps import Step
 
 from test_render import make_solution
 
@@ -149,3 +154,79 @@ def test_blocks_hold_no_markup() -> None:
     assert any(isinstance(p, Math) for b in paras for p in b.parts)
     assert all("\\" not in p for b in paras for p in b.parts if isinstance(p, str))
     assert isinstance(P("x"), Para)
+
+
+# ---------------------------------------------------------------------------
+# A new document type needs only layout, record and frame; a figure is drawn by pylatex
+
+
+@dataclass(frozen=True)
+class ResponseDocument(Document):
+    """A made-up document type with a figure: x(t) = e^{-t} sampled for drawing."""
+
+    kind = "response"
+    samples: tuple[tuple[float, float], ...] = tuple((k / 4, math.exp(-k / 4)) for k in range(17))
+
+    def layout(self, *, style, fragment=False):
+        from derive.documents.base import Layout
+
+        blocks = (
+            Title("Free response of a decay"),
+            Para(("The state ", Math(sp.Symbol("x")), " decays from one.")),
+            Figure("Response of x over 0 <= t <= 4 s", N("t\\ \\mathrm{[s]}", "t [s]"), N("x"), (Series("x_1 & more", self.samples),)),
+            Caution("Drawn by software; check before use."),
+        )
+        return Layout(blocks, MathFormatter.for_roots((), style=style))
+
+    def record(self):
+        return {"samples": [list(p) for p in self.samples]}
+
+    def frame(self):
+        from derive.documents.base import Frame
+
+        return Frame(title="Free response", meta=SheetMeta(title="Free response"), key="derive-response-test")
+
+
+@pytest.mark.parametrize("fmt", sorted(RENDERERS))
+def test_a_new_document_type_renders_in_every_format(fmt: str) -> None:
+    text = render(ResponseDocument(), fmt)
+    if fmt == "json":
+        assert json.loads(text)["samples"][0] == [0.0, 1.0]
+    elif fmt == "latex":
+        assert r"\usepackage{pgfplots}" in text and r"\pgfplotsset{compat=1.18}" in text
+        assert r"\begin{axis}[" in text and r"xlabel={$t\ \mathrm{[s]}$}" in text
+        assert "\\addplot coordinates {%\n(0.0,1.0)%" in text
+        assert r"\addlegendentry{x\_1 \& more}" in text
+    else:
+        summary = "17 points, t [s] from 0 to 4, x from 0.0183 to 1"
+        assert (summary if fmt == "text" else md_escape(summary)) in text
+
+
+@pytest.mark.tex
+@pytest.mark.skipif(shutil.which("latexmk") is None or shutil.which("pdftotext") is None, reason="needs latexmk and pdftotext")
+def test_a_figure_compiles(tmp_path: Path) -> None:
+    paths = write_outputs(ResponseDocument(), tmp_path, stem="response", formats=("latex",), pdf=True)
+    assert [p.name for p in paths] == ["response.tex", "response.pdf"]
+    text = subprocess.run(["pdftotext", str(paths[-1]), "-"], capture_output=True, text=True, check=True).stdout
+    assert "Response of x over" in text and "Sheet 1 of 1" in text
+
+
+@dataclass(frozen=True)
+class GainStep(Step):
+    kind: ClassVar[str] = "gain_test"
+    gain: sp.Expr
+
+
+def test_a_step_kind_with_only_a_block_function_renders_in_every_format(monkeypatch: pytest.MonkeyPatch) -> None:
+    # a new step kind is described once, in STEP_BLOCKS; with no LaTeX partial the
+    # sheet sets it from those blocks
+    from derive.documents import sheet_steps
+
+    def gain_blocks(step, ctx):
+        return [Heading(3, "Static gain"), P("The static gain is ", Math(step.gain), ".")]
+
+    monkeypatch.setitem(sheet_steps.STEP_BLOCKS, "gain_test", gain_blocks)
+    sol = make_solution((GainStep(sp.Rational(1, 2)),))
+    tex = render(sol, "latex")
+    assert "\\derivesubsection{Static gain}\nThe static gain is $\\frac{1}{2}$." in tex
+    assert "Static gain" in render(sol, "markdown") and "The static gain is 1/2." in render(sol, "text")

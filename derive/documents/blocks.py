@@ -30,6 +30,8 @@ __all__ = [
     "Table",
     "Alert",
     "Caution",
+    "Series",
+    "Figure",
     "Block",
     "P",
     "N",
@@ -169,7 +171,30 @@ class Caution:
     text: str
 
 
-Block = Union[Title, Heading, Para, Eq, Items, Table, Alert, Caution]
+@dataclass(frozen=True)
+class Series:
+    """One curve of a figure: a label (plain text) and its (x, y) samples.
+
+    The samples are floats for drawing only; they are computed from the
+    exact result by the document type, never used in the algebra.
+    """
+
+    label: str
+    points: tuple[tuple[float, float], ...]
+
+
+@dataclass(frozen=True)
+class Figure:
+    """A plot of one or more curves against a common axis (a response over time, say)."""
+
+    kind: ClassVar[str] = "figure"
+    caption: str
+    xlabel: Name
+    ylabel: Name
+    series: tuple[Series, ...]
+
+
+Block = Union[Title, Heading, Para, Eq, Items, Table, Alert, Caution, Figure]
 
 
 def P(*parts: Inline) -> Para:

@@ -49,8 +49,8 @@ def structure_text(obj: Any) -> str:
     return type(obj).__name__ + "(" + ",".join(structure_text(a) for a in obj.args) + ")"
 
 
-def _fmt_float(x: float) -> str:
-    return f"{x:.3g}"
+def _fmt_float(x: float | None) -> str:
+    return "n/a" if x is None else f"{x:.3g}"
 
 
 def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment: bool = False) -> tuple[tuple[Block, ...], MathFormatter]:

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, ClassVar
+from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..documents.base import Document
@@ -55,8 +55,8 @@ class Renderer:
       such distinction ignore it.
     """
 
-    name: ClassVar[str] | str = "base"
-    suffix: ClassVar[str] | str = ".txt"
+    name: str = "base"
+    suffix: str = ".txt"
 
     def render(self, document: Any, *, fragment: bool = False) -> str:
         """Render ``document``; subclasses implement this."""

@@ -15,7 +15,8 @@ from typing import Any
 from ..documents.base import parameter_assumptions, program_versions
 from ..documents.sheet import SheetDocument
 from .base import Renderer, as_document
-from .latex_blocks import block_helpers, blocks_latex
+from ..documents.blocks import Figure
+from .latex_blocks import FIGURE_PREAMBLE, block_helpers, blocks_latex
 from .latex_sheet import render_sheet
 from .printing import MathStyle
 from .templating import FRAGMENT_PACKAGES, get_template, template_environment
@@ -56,5 +57,6 @@ class LatexRenderer(Renderer):
             program=versions[0],
             versions=versions,
             packages=FRAGMENT_PACKAGES + frame.packages + ("url",),
+            figure_preamble=FIGURE_PREAMBLE if any(isinstance(b, Figure) for b in layout.blocks) else "",
             **block_helpers(layout.fmt),
         )

@@ -15,12 +15,15 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..errors import OutputError
-from ..documents.blocks import Block, Code, Inline, Math, Name, Strong, Table
+from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Strong, Table
 from .escape import tex_escape
 from .printing import MathFormatter
 from .templating import get_template
 
-__all__ = ["blocks_latex", "block_helpers", "tex_text"]
+__all__ = ["blocks_latex", "block_helpers", "tex_text", "figure_latex", "FIGURE_PREAMBLE"]
+
+#: What a document with a figure adds to its preamble (pinned compat level, for reproducible builds).
+FIGURE_PREAMBLE = "\\usepackage{pgfplots}\n\\pgfplotsset{compat=1.18}"
 
 # \path typesets these verbatim and breaks long ones at / . - _; only text of
 # those safe characters goes there, anything else is escaped into \texttt.
@@ -81,6 +84,29 @@ def _colspec(table: Table) -> str:
     return "@{}" + "".join(cols) + "@{}"
 
 
+def figure_latex(figure: Figure) -> str:
+    """A figure as a pgfplots axis inside a TikZ picture, built with pylatex.
+
+    pylatex escapes text by default; the labels are program-made math
+    (``Name.latex``) or escaped here, so they go in as ``NoEscape``, and the
+    axis options are one raw string with the braced labels.
+    """
+    from pylatex import Axis, Plot, TikZ
+    from pylatex.utils import NoEscape
+
+    options = (
+        r"width=0.85\textwidth, height=0.4\textwidth, grid=major, "
+        r"legend pos=north east, legend cell align=left, "
+        f"xlabel={{${figure.xlabel.latex}$}}, ylabel={{${figure.ylabel.latex}$}}"
+    )
+    axis = Axis(options=NoEscape(options))
+    for series in figure.series:
+        axis.append(Plot(name=NoEscape(tex_escape(series.label)), coordinates=[(float(x), float(y)) for x, y in series.points]))
+    picture = TikZ()
+    picture.append(axis)
+    return picture.dumps()
+
+
 def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
     """The functions ``templates/blocks.tex.j2`` calls, bound to ``fmt``."""
     def inline(parts: Sequence[Inline]) -> str:
@@ -91,6 +117,7 @@ def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
         "cells": lambda row: " & ".join(inline(cell) for cell in row),
         "display": lambda rows: _display(rows, fmt),
         "colspec": _colspec,
+        "figure": figure_latex,
         "unknown_block": _unknown_block,
     }
 

@@ -13,9 +13,10 @@ from typing import Any, Sequence
 
 import sympy as sp
 
-from ..documents.blocks import Alert, Block, Caution, Code, Eq, Heading, Inline, Items, Math, Name, Para, Strong, Table, Title
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, Name, Para, Strong, Table, Title
 from .base import Renderer, as_document
 from .escape import md_escape
+from .text import figure_lines
 from .printing import MathFormatter, MathStyle
 
 __all__ = ["MarkdownRenderer", "md_escape", "blocks_to_markdown"]
@@ -73,6 +74,10 @@ def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             if blk.detail:
                 out += [">", f"> {_line(blk.detail, fmt)}"]
             out.append("")
+        elif isinstance(blk, Figure):
+            # Markdown has no plot; the caption and each curve's range stand in for it
+            lines = figure_lines(blk)
+            out += [f"*{md_escape(lines[0])}*", ""] + [f"- {md_escape(line.strip())}" for line in lines[1:]] + [""]
         elif isinstance(blk, Caution):
             out += [f"*Caution.* {md_escape(blk.text)}", ""]
     return "\n".join(out).rstrip("\n") + "\n"

@@ -13,12 +13,12 @@ from typing import Any, Sequence
 
 import sympy as sp
 
-from ..documents.blocks import Alert, Block, Caution, Code, Eq, Heading, Inline, Items, Math, Name, Para, Strong, Table, Title
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, Name, Para, Strong, Table, Title
 from .base import Renderer, as_document
 from .escape import squash
 from .printing import MathFormatter, MathStyle
 
-__all__ = ["TextRenderer", "blocks_to_text", "text_table"]
+__all__ = ["TextRenderer", "blocks_to_text", "text_table", "figure_lines"]
 
 WIDTH = 100
 
@@ -68,6 +68,26 @@ def text_table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> list[str
     return [line(header), line(["-" * w for w in widths]), *(line(r) for r in rows)]
 
 
+def figure_lines(figure: Figure) -> list[str]:
+    """A figure where no picture can be drawn: its caption and the range of each curve.
+
+    >>> from derive.documents.blocks import N, Series
+    >>> figure_lines(Figure("Response", N("t"), N("x"), (Series("x_1", ((0.0, 1.0), (2.0, 0.5))),)))
+    ['Figure: Response', '  x_1: 2 points, t from 0 to 2, x from 0.5 to 1']
+    """
+    out = [f"Figure: {squash(figure.caption)}"]
+    for s in figure.series:
+        xs = [x for x, _ in s.points]
+        ys = [y for _, y in s.points]
+        span = (
+            f", {figure.xlabel.plain} from {min(xs):.3g} to {max(xs):.3g}, {figure.ylabel.plain} from {min(ys):.3g} to {max(ys):.3g}"
+            if s.points
+            else ""
+        )
+        out.append(f"  {squash(s.label)}: {len(s.points)} points{span}")
+    return out
+
+
 def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
     """Blocks as plain text, 100 columns wide."""
     out: list[str] = []
@@ -98,6 +118,8 @@ def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             out += [bar, f"!!! {text} !!!", bar]
             if blk.detail:
                 out += textwrap.wrap(_plain(blk.detail, fmt), width=WIDTH, break_long_words=False)
+        elif isinstance(blk, Figure):
+            out += figure_lines(blk)
         elif isinstance(blk, Caution):
             # kept on one line, so the caution can be quoted and searched for verbatim
             out += ["", "Caution: " + squash(blk.text)]
