@@ -91,7 +91,7 @@ class CheckReportDocument(Document):
             b += self._inputs(fmt)
         b.append(Heading(2, "Summary"))
         b.append(Table(
-            ("#", "step", "item", "result", "decided"),
+            ("#", "Step", "Item", "Result", "Decided"),
             tuple(((str(k),), (_step(it.step),), (it.name,), (_verdict(it.ok),), (it.method or "-",))
                   for k, it in enumerate(items, start=1)),
             align="rllll",
