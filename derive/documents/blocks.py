@@ -62,9 +62,12 @@ class Name:
 
 @dataclass(frozen=True)
 class Strong:
-    """Text to stand out (a failure); shown bold where the format can."""
+    """Text to stand out (a failure); shown bold where the format can.
 
-    text: str
+    ``text`` is plain text, or inline parts when the bold words hold mathematics.
+    """
+
+    text: "str | tuple[Inline, ...]"
 
 
 @dataclass(frozen=True)
@@ -97,19 +100,39 @@ class Title:
 
 @dataclass(frozen=True)
 class Heading:
-    """A section heading: level 1 the title line, 2 a section, 3 a subsection."""
+    """A section heading: level 1 the title line, 2 a section, 3 a subsection.
+
+    ``math`` ends the heading with a formula (``Solution for y_1``);
+    ``bookmark`` is the words that stand for it where no formula can go (PDF
+    bookmarks).
+    """
 
     kind: ClassVar[str] = "heading"
     level: int
     text: str
+    math: Name | None = None
+    bookmark: str = ""
+
+    def plain(self) -> str:
+        """The heading as plain text.
+
+        >>> Heading(3, "Solution for ", N("y_{1}", "y_1")).plain()
+        'Solution for y_1'
+        """
+        return self.text + (self.math.plain if self.math is not None else "")
 
 
 @dataclass(frozen=True)
 class Para:
-    """A paragraph of running text."""
+    """A paragraph of running text.
+
+    ``runs_on``: the text continues the paragraph before it (LaTeX sets both
+    in one paragraph; the compact formats still start a new line).
+    """
 
     kind: ClassVar[str] = "para"
     parts: tuple[Inline, ...]
+    runs_on: bool = False
 
 
 @dataclass(frozen=True)
@@ -197,13 +220,13 @@ class Figure:
 Block = Union[Title, Heading, Para, Eq, Items, Table, Alert, Caution, Figure]
 
 
-def P(*parts: Inline) -> Para:
+def P(*parts: Inline, runs_on: bool = False) -> Para:
     """A paragraph from its parts.
 
     >>> P("x = ", Math(1)).parts
     ('x = ', Math(obj=1))
     """
-    return Para(tuple(parts))
+    return Para(tuple(parts), runs_on)
 
 
 def N(latex: str, plain: str | None = None) -> Name:

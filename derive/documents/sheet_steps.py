@@ -16,8 +16,8 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..model import Solution
-from ..render.printing import MathFormatter, root_legend_rows
-from .blocks import Block, Eq, Heading, Inline, Items, Math, N, Name, P, Para
+from ..render.printing import MathFormatter, domain_tex, root_legend_rows
+from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, N, Name, P, Para, Strong
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
 
@@ -40,6 +40,18 @@ class StepContext:
             f"{self.fmt.m(sym)}{suffix}({self.fmt.m(self.t)})",
             f"{self.fmt.plain(sym)}{suffix}({self.fmt.plain(self.t)})",
         )
+
+    def m_list(self, items: Sequence[Any]) -> str:
+        """Items as LaTeX, separated by commas."""
+        return ", ".join(self.fmt.m(e) for e in items)
+
+    def plain_list(self, items: Sequence[Any]) -> str:
+        """Items as plain text, separated by commas."""
+        return ", ".join(self.fmt.plain(e) for e in items)
+
+    def root_value(self, value: Any) -> Name:
+        """An eigenvalue by its root name where it has one (``lambda_3``), else its value."""
+        return Name(self.fmt.root_value(value), self.fmt.root_value_plain(value))
 
     def state_rows(self, vec: sp.MatrixBase, part: str = "") -> tuple[tuple[Name, Any], ...]:
         states = self.solution.system.states
@@ -84,30 +96,37 @@ def _mat(name: str, plain: str, M: Any) -> Eq:
 
 
 def _equations(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
     out: list[Block] = [
         Heading(3, "The system in matrix form"),
-        P("The coefficients of the states in each equation give the rows of A; the terms free of the states give the forcing f."),
+        P("The equations are brought to the form ", N(rf"x' = A\,x + f({T})", f"x' = A x + f({Tp})"),
+          ": the coefficient of each state in each equation gives a row of ", N("A"),
+          ", and the terms free of the states give the forcing ", N("f"), "."),
     ]
     if s.equations:
-        out.append(Items(tuple((e,) for e in s.equations)))
-    out += [_mat("A", "A", s.A), _mat(f"f({c.fmt.m(s.t)})", f"f({c.fmt.plain(s.t)})", s.f)]
+        out += [P("As written:", runs_on=True), Items(tuple((Code(e),) for e in s.equations))]
+    out += [
+        P("With the state vector ", N(f"x = ({c.m_list(s.states)})^{{T}}", f"x = ({c.plain_list(s.states)})^T"), ":"),
+        _mat("A", "A", s.A),
+        _mat(f"f({T})", f"f({Tp})", s.f),
+    ]
     return out
 
 
 def _charpoly(s: Any, c: StepContext) -> list[Block]:
-    L = c.fmt.m(s.lam)
-    Lp = c.fmt.plain(s.lam)
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    det = N(rf"\det(A - {L} I)", f"det(A - {Lp} I)")
     return [
         Heading(3, "Characteristic polynomial"),
-        P("The eigenvalues are the values where A - lambda I is singular, so its determinant is formed."),
+        P("The eigenvalues are the values of ", Math(s.lam), " for which ", N(f"A - {L} I", f"A - {Lp} I"),
+          " is singular, so its determinant is formed:"),
         _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
-        Eq(
-            ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded), (N("", ""), s.factored))
-            if s.factored != s.expanded  # an irreducible polynomial is shown once
-            else ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded),)
-        ),
-        P(f"Irreducible factors over {s.domain}:"),
-        Items(tuple((Math(f), f", multiplicity {m}") for f, m in s.factors)),
+        # an irreducible polynomial is shown once
+        Eq(((det, s.expanded), (N(""), s.factored)) if f.m(s.factored) != f.m(s.expanded) else ((det, s.expanded),)),
+        P("Factored over ", N(domain_tex(s.domain), str(s.domain)), ", the irreducible factors and their multiplicities are:"),
+        Items(tuple((Math(factor), f", multiplicity {mult}") for factor, mult in s.factors)),
     ]
 
 
@@ -195,44 +214,58 @@ def _modal_matrix(s: Any, c: StepContext) -> list[Block]:
     name = "D" if s.diagonal else "J"
     out: list[Block] = [
         Heading(3, "Modal matrix"),
-        P("The eigenvectors" + ("" if s.diagonal else " and chain vectors") + f" are the columns of P, in the order of the diagonal of {name}."),
+        P("The " + ("eigenvectors" if s.diagonal else "eigenvectors and chain vectors") + " are placed as the columns of ",
+          N("P"), ", in the order of the eigenvalues on the diagonal of ", N(name), ":"),
         _mat("P", "P", s.P),
         _mat(name, name, s.D),
     ]
     if not s.diagonal:
-        out.append(Items(tuple((Math(v), f": Jordan block of size {k}") for v, k in s.blocks)))
+        out += [
+            P("The Jordan blocks, in order:"),
+            Items(tuple((c.root_value(v), f", block of size {k}") for v, k in s.blocks)),
+        ]
     return out
 
 
 def _inverse(s: Any, c: StepContext) -> list[Block]:
     return [
         Heading(3, "Inverse of the modal matrix"),
-        P("det P = ", Math(s.det), f", not zero, so P is invertible (method: {s.method}):"),
+        P("The decoupling needs ", N("P^{-1}", "P^-1"), ". Since ",
+          N(rf"\det P = {c.fmt.m(s.det)} \neq 0", f"det P = {c.fmt.plain(s.det)} != 0"),
+          " the columns of ", N("P"), f" are independent and the inverse exists (method: {s.method}):"),
         _mat("P^{-1}", "P^-1", s.P_inv),
     ]
 
 
 def _similarity(s: Any, c: StepContext) -> list[Block]:
-    verdict = "This equals A: the decomposition holds exactly." if s.ok else "This does NOT equal A: the decomposition is wrong."
     out: list[Block] = [
         Heading(3, "Check of the decomposition"),
-        P("The product is multiplied out and compared with A before it is used:"),
+        P("Before the decomposition is used, the product is multiplied out and compared with ", N("A"), ":"),
         _mat(r"P\,D\,P^{-1}", "P D P^-1", s.product),
-        P(verdict),
     ]
-    if not s.ok:
-        out.append(_mat("A", "A", s.A))
+    if s.ok:
+        out.append(P("This equals ", N("A"), " entry by entry, so ", N(r"A = P\,D\,P^{-1}", "A = P D P^-1"), " holds exactly."))
+    else:
+        out += [
+            P(Strong(("This does not equal ", N("A"), ":")), " the decomposition is wrong and the result below must not be used."),
+            _mat("A", "A", s.A),
+        ]
     return out
 
 
 def _decouple(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
     y = sp.ImmutableMatrix([[v] for v in s.y])
     rhs = s.D * y + s.g
     return [
         Heading(3, "Decoupling"),
-        P("With x = P y and multiplying by P^-1: y' = D y + g, where g = P^-1 f:"),
-        _mat(f"g({c.fmt.m(s.t)})", f"g({c.fmt.plain(s.t)})", s.g),
-        Eq(tuple((c.fn(s.y[k], "'"), rhs[k]) for k in range(len(s.y)))),
+        P("Substituting ", N(r"x = P\,y", "x = P y"), " into ", N(r"x' = A\,x + f", "x' = A x + f"), " and multiplying by ",
+          N("P^{-1}", "P^-1"), " gives ", N(r"y' = P^{-1} A P\,y + P^{-1} f = D\,y + g", "y' = P^-1 A P y + P^-1 f = D y + g"),
+          ", with ", N(f"y = ({c.m_list(s.y)})^{{T}}", f"y = ({c.plain_list(s.y)})^T"), " and the transformed forcing"),
+        _mat(f"g({T}) = P^{{-1}} f({T})", f"g({Tp}) = P^-1 f({Tp})", s.g),
+        P("Row by row, the equations to solve are:"),
+        Eq(tuple((N(f"{f.m(s.y[k])}'({T})", f"{f.plain(s.y[k])}'({Tp})"), rhs[k]) for k in range(len(s.y)))),
     ]
 
 
@@ -304,20 +337,33 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
 
 
 def _initial_values(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    t = c.solution.system.t
     return [
         Heading(3, "Constants from the initial values"),
-        P("Setting t = ", Math(s.t0), " and equating to x0 gives M c = r for the constants ", Math(sp.Tuple(*s.constants)), ":"),
-        Eq(((N("x_0", "x0"), s.x0), (N("M", "M"), s.matrix), (N("r", "r"), s.rhs))),
-        Eq(tuple((N(c.fmt.m(k), c.fmt.plain(k)), v) for k, v in s.values)),
+        P("Setting ", N(f"{f.m(t)} = {f.m(s.t0)}", f"{f.plain(t)} = {f.plain(s.t0)}"),
+          " in the general solution and equating it to ", N("x_0", "x0"), " gives a linear system ", N(r"M\,c = r", "M c = r"),
+          " for the constants ", N(f"c = ({c.m_list(s.constants)})^{{T}}", f"c = ({c.plain_list(s.constants)})^T"), ":"),
+        _mat("x_0", "x0", s.x0),
+        _mat("M", "M", s.matrix),
+        _mat("r", "r", s.rhs),
+        P("Its solution:"),
+        Eq(tuple((N(f.m(k), f.plain(k)), v) for k, v in s.values)),
     ]
 
 
 def _result(s: Any, c: StepContext) -> list[Block]:
-    lead = "General solution, free constants " if s.constants else "With the constants substituted:"
-    parts: list[Inline] = [lead]
-    if s.constants:
-        parts += [Math(sp.Tuple(*s.constants)), ":"]
-    return [Heading(3, "Collected result"), Para(tuple(parts)), Eq(c.state_rows(s.x))]
+    lead = (
+        P("The general solution, with the free constants ", N(c.m_list(s.constants), c.plain_list(s.constants)), ", is")
+        if s.constants
+        else P("Substituting the constants gives")
+    )
+    return [
+        Heading(3, "Collected result"),
+        lead,
+        Eq(c.state_rows(s.x)),
+        P("This is the result stated, with its parts, in the Result section."),
+    ]
 
 
 def _interval(s: Any, c: StepContext) -> list[Block]:
@@ -351,14 +397,17 @@ def _interval(s: Any, c: StepContext) -> list[Block]:
 
 
 def _jump(s: Any, c: StepContext) -> list[Block]:
-    a, ap = c.fmt.m(s.at), c.fmt.plain(s.at)
-    Tp = c.fmt.plain(s.t)
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    a, ap = f.m(s.at), f.plain(s.at)
     return [
-        Heading(3, f"Impulse at {Tp} = {ap}"),
-        P(f"The forcing contains b delta({Tp} - {ap}). Integrating x' = A x + f across {Tp} = {ap}, only the impulse contributes, so the state jumps by b:"),
+        Heading(3, "Impulse at ", N(f"{T} = {a}", f"{Tp} = {ap}"), "the switch"),
+        P("The forcing contains an impulse ", N(rf"b\,\delta({T} - {a})", f"b delta({Tp} - {ap})"), " with"),
         _mat("b", "b", s.weight),
+        P("Integrating ", N(r"x' = A\,x + f", "x' = A x + f"), " over a vanishing interval around ", N(f"{T} = {a}", f"{Tp} = {ap}"),
+          ", only the impulse contributes, so the state jumps by ", N("b"), ":"),
         _mat(f"x({a}^{{-}})", f"x({ap}-)", s.before),
-        _mat(f"x({a}^{{+}})", f"x({ap}+)", s.after),
+        _mat(f"x({a}^{{+}}) = x({a}^{{-}}) + b", f"x({ap}+) = x({ap}-) + b", s.after),
     ]
 
 

@@ -15,7 +15,7 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..errors import OutputError
-from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Strong, Table
+from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Para, Strong, Table
 from .escape import tex_escape
 from .printing import MathFormatter
 from .templating import get_template
@@ -48,7 +48,8 @@ def _inline_part(part: Inline, fmt: MathFormatter) -> str:
     if isinstance(part, Name):
         return f"${part.latex}$"
     if isinstance(part, Strong):
-        return r"\textbf{%s}" % tex_text(part.text)
+        inner = tex_text(part.text) if isinstance(part.text, str) else "".join(_inline_part(p, fmt) for p in part.text)
+        return r"\textbf{%s}" % inner
     if isinstance(part, Code):
         if part.breakable and _PATH_SAFE.fullmatch(part.text):
             return r"\path{%s}" % part.text
@@ -57,20 +58,28 @@ def _inline_part(part: Inline, fmt: MathFormatter) -> str:
 
 
 def _display(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> str:
-    """Displayed equations: scalar rows aligned together, each matrix on its own."""
+    """Displayed equations: consecutive scalar rows aligned in one display, each matrix in its own."""
     out: list[str] = []
     scalars: list[tuple[str, Any]] = []
     for name, rhs in rows:
-        if isinstance(rhs, sp.MatrixBase) and rhs.rows * rhs.cols > 1:
+        if isinstance(rhs, sp.MatrixBase):
             if scalars:
                 out.append(fmt.display(scalars))
                 scalars = []
             out.append(fmt.matrix_display(name.latex, rhs))
         else:
-            scalars.append((name.latex, rhs[0] if isinstance(rhs, sp.MatrixBase) else rhs))
+            scalars.append((name.latex, rhs))
     if scalars:
         out.append(fmt.display(scalars))
     return "\n".join(out)
+
+
+def _heading(heading: Any) -> str:
+    text = tex_text(heading.text)
+    if heading.math is None:
+        return text.strip()
+    bookmark = tex_escape(heading.bookmark or heading.math.plain)
+    return r"%s\texorpdfstring{$%s$}{%s}" % (text, heading.math.latex, bookmark)
 
 
 def _colspec(table: Table) -> str:
@@ -118,6 +127,7 @@ def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
         "display": lambda rows: _display(rows, fmt),
         "colspec": _colspec,
         "figure": figure_latex,
+        "heading": _heading,
         "unknown_block": _unknown_block,
     }
 
@@ -127,6 +137,16 @@ def _unknown_block(block: Any) -> str:
 
 
 def blocks_latex(blocks: Sequence[Block], fmt: MathFormatter) -> str:
-    """The LaTeX of ``blocks`` (no preamble), one macro of ``blocks.tex.j2`` per block."""
+    """The LaTeX of ``blocks`` (no preamble, no final newline), one macro of ``blocks.tex.j2`` per block.
+
+    Blocks are set line after line; only two paragraphs in a row are parted by
+    a blank line, so a sentence that leads into a display and the one that
+    follows it stay in one paragraph, as in hand-set LaTeX.
+    """
     macros = get_template("blocks.tex.j2").make_module(block_helpers(fmt))
-    return "".join(str(macros.block(b)) for b in blocks)  # type: ignore[attr-defined]
+    out: list[str] = []
+    for k, block in enumerate(blocks):
+        if k and isinstance(block, Para) and not block.runs_on and isinstance(blocks[k - 1], Para):
+            out.append("")
+        out.append(str(macros.block(block)).strip("\n"))  # type: ignore[attr-defined]
+    return "\n".join(out)

@@ -25,7 +25,7 @@ from ..errors import OutputError
 from ..model import SheetMeta, Solution
 from .escape import tex_escape
 from .latex_blocks import blocks_latex
-from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows
+from .printing import MathFormatter, MathStyle, RootName, collect_roots, domain_tex, root_legend_rows
 from .templating import FRAGMENT_PACKAGES, get_template, has_template
 
 __all__ = ["sheet_context", "render_sheet"]
@@ -138,7 +138,7 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
         "vector": lambda items: sp.ImmutableMatrix([[e] for e in items]),
         "param_assumptions": parameter_assumptions,
-        "domain_tex": _domain_tex,
+        "domain_tex": domain_tex,
     }
 
 
@@ -155,21 +155,6 @@ def _relation_tex(relation: str) -> str:
             rest_tex = rest if all(c in "0123456789.-+ " for c in rest) else r"\text{%s}" % tex_escape(rest)
             return f" {tex} {rest_tex}"
     return r"\ \text{%s}" % tex_escape(text)
-
-
-_DOMAINS = {"QQ": r"\mathbb{Q}", "ZZ": r"\mathbb{Z}", "RR": r"\mathbb{R}", "CC": r"\mathbb{C}", "QQ_I": r"\mathbb{Q}(i)", "ZZ_I": r"\mathbb{Z}[i]"}
-
-
-def _domain_tex(domain: str) -> str:
-    """A sympy domain name as mathematics (``QQ(k, m)`` -> Q(k, m)); unknown ones as text."""
-    domain = str(domain)
-    for key in ("QQ_I", "ZZ_I", "QQ", "ZZ", "RR", "CC"):
-        if domain == key:
-            return _DOMAINS[key]
-        if domain.startswith(key + "(") or domain.startswith(key + "[") or domain.startswith(key + "<"):
-            rest = domain[len(key):]
-            return r"%s\text{%s}" % (_DOMAINS[key], tex_escape(rest))
-    return r"\text{%s}" % tex_escape(domain)
 
 
 def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> dict[str, Any]:

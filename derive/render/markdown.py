@@ -28,7 +28,8 @@ def _inline(part: Inline, fmt: MathFormatter) -> str:
     if isinstance(part, Name):
         return f"${part.latex}$"
     if isinstance(part, Strong):
-        return f"**{md_escape(part.text)}**"
+        inner = md_escape(part.text) if isinstance(part.text, str) else _line(part.text, fmt)
+        return f"**{inner}**"
     if isinstance(part, Code):
         # a code span shows its text verbatim; a backtick would end it and a bar a table cell
         return "`" + " ".join(part.text.replace("`", "'").replace("|", "\\|").split()) + "`"
@@ -48,7 +49,8 @@ def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             if blk.fields:
                 out += ["; ".join(f"**{md_escape(label)}:** {md_escape(value or '--')}" for label, value in blk.fields), ""]
         elif isinstance(blk, Heading):
-            out += ["#" * min(blk.level, 6) + " " + md_escape(blk.text), ""]
+            math = f"${blk.math.latex}$" if blk.math is not None else ""
+            out += ["#" * min(blk.level, 6) + " " + md_escape(blk.text) + math, ""]
         elif isinstance(blk, Para):
             out += [_line(blk.parts, fmt), ""]
         elif isinstance(blk, Eq):

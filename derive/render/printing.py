@@ -52,6 +52,7 @@ __all__ = [
     "format_decimal",
     "tex_escape",
     "tex_paragraphs",
+    "domain_tex",
 ]
 
 
@@ -751,6 +752,25 @@ class MathFormatter:
             pad + "[ " + "  ".join(cells[i][j].rjust(widths[j]) for j in range(M.cols)) + " ]"
             for i in range(M.rows)
         ]
+
+
+_DOMAINS = {"QQ": r"\mathbb{Q}", "ZZ": r"\mathbb{Z}", "RR": r"\mathbb{R}", "CC": r"\mathbb{C}", "QQ_I": r"\mathbb{Q}(i)", "ZZ_I": r"\mathbb{Z}[i]"}
+
+
+def domain_tex(domain: str) -> str:
+    """A sympy domain name as mathematics (``QQ(k, m)`` -> Q(k, m)); unknown ones as text.
+
+    >>> domain_tex("QQ")
+    '\\\\mathbb{Q}'
+    """
+    domain = str(domain)
+    for key in ("QQ_I", "ZZ_I", "QQ", "ZZ", "RR", "CC"):
+        if domain == key:
+            return _DOMAINS[key]
+        if domain.startswith(key + "(") or domain.startswith(key + "[") or domain.startswith(key + "<"):
+            rest = domain[len(key):]
+            return r"%s\text{%s}" % (_DOMAINS[key], tex_escape(rest))
+    return r"\text{%s}" % tex_escape(domain)
 
 
 def root_legend_rows(roots: Sequence[RootName]) -> list[tuple[sp.Expr, tuple[RootName, ...]]]:

@@ -28,7 +28,9 @@ def _plain_inline(part: Inline, fmt: MathFormatter) -> str:
         return fmt.plain(part.obj)
     if isinstance(part, Name):
         return part.plain
-    if isinstance(part, (Strong, Code)):
+    if isinstance(part, Strong):
+        return squash(part.text) if isinstance(part.text, str) else _plain(part.text, fmt)
+    if isinstance(part, Code):
         return squash(part.text)
     return squash(str(part))
 
@@ -97,7 +99,7 @@ def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             out += textwrap.wrap("; ".join(f"{label}: {value or '--'}" for label, value in blk.fields), width=WIDTH)
             out.append("")
         elif isinstance(blk, Heading):
-            text = blk.text.upper() if blk.level <= 2 else blk.text
+            text = blk.plain().upper() if blk.level <= 2 else blk.plain()
             rule = {1: "=", 2: "=", 3: "-"}.get(blk.level, "-")
             out += ["", text, rule * min(len(text), WIDTH)]
         elif isinstance(blk, Para):
