@@ -57,9 +57,9 @@ class StepContext:
         states = self.solution.system.states
         rows = []
         for i in range(vec.rows):
-            lat = self.fmt.m(states[i]) + (rf"^{{\mathrm{{{part}}}}}" if part else "")
+            mark = rf"^{{\mathrm{{{part}}}}}" if part else ""
             pl = self.fmt.plain(states[i]) + (f"_{part}" if part else "")
-            rows.append((Name(f"{{{lat}}}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})"), vec[i]))
+            rows.append((Name(f"{{{self.fmt.m(states[i])}}}{mark}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})"), vec[i]))
         return tuple(rows)
 
     def legend(self, objs: Sequence[Any]) -> list[Block]:
@@ -316,23 +316,36 @@ def _recombine(s: Any, c: StepContext) -> list[Block]:
 
 
 def _real_form(s: Any, c: StepContext) -> list[Block]:
-    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    j = f.style.imaginary_unit
+    re_v = rf"\operatorname{{Re}}\bigl(v e^{{\lambda {T}}}\bigr)"
+    im_v = rf"\operatorname{{Im}}\bigl(v e^{{\lambda {T}}}\bigr)"
     out: list[Block] = [
         Heading(3, "Real form"),
-        P("A and f are real, so each complex pair is rewritten with real functions and real constants."),
+        P(N("A"), " and ", N("f"), " are real, so each complex pair of terms is rewritten with real functions and real constants."),
     ]
     for p in s.pairs:
+        c1, c2 = p.real_constants[0], p.real_constants[1]
         out += [
-            P("Pair ", Math(p.re), " +- ", Math(p.im), f" {c.fmt.style.imaginary_unit} (from ", Math(p.eigenvalue), "):"),
-            Eq((
-                (N(r"\operatorname{Re} v", "Re v"), p.vector_re),
-                (N(r"\operatorname{Im} v", "Im v"), p.vector_im),
-                (N(rf"\operatorname{{Re}}(v e^{{\lambda {T}}})", f"Re(v exp(lambda {Tp}))"), p.real_part),
-                (N(rf"\operatorname{{Im}}(v e^{{\lambda {T}}})", f"Im(v exp(lambda {Tp}))"), p.imag_part),
-            )),
-            P("Complex constants ", Math(sp.Tuple(*p.complex_constants)), " replaced by real constants ", Math(sp.Tuple(*p.real_constants)), "."),
+            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"lambda = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
+              " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
+              N(rf"v = \operatorname{{Re}} v + {j} \operatorname{{Im}} v", f"v = Re v + {j} Im v"), ":", runs_on=True),
+            _mat(r"\operatorname{Re} v", "Re v", p.vector_re),
+            _mat(r"\operatorname{Im} v", "Im v", p.vector_im),
+            P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(lambda {Tp})"), " are two real solutions:"),
+            _mat(re_v, f"Re(v exp(lambda {Tp}))", p.real_part),
+            _mat(im_v, f"Im(v exp(lambda {Tp}))", p.imag_part),
+            P("The complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
+              " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
+              ", the pair contributing ",
+              N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(lambda {Tp})) + {f.plain(c2)} Im(v exp(lambda {Tp}))"), "."),
         ]
-    out += [_mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous), _mat(r"x^{\mathrm{p}}", "x_p", s.particular)]
+    out += [
+        P("In real form:", runs_on=True),
+        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
+        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
+    ]
     return out
 
 
@@ -367,30 +380,37 @@ def _result(s: Any, c: StepContext) -> list[Block]:
 
 
 def _interval(s: Any, c: StepContext) -> list[Block]:
-    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
-    a, ap = c.fmt.m(s.start), c.fmt.plain(s.start)
-    end = "infinity" if s.end is None else c.fmt.plain(s.end)
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    a, ap = f.m(s.start), f.plain(s.start)
+    end, endp = (r"\infty", "infinity") if s.end is None else (f.m(s.end), f.plain(s.end))
     origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
     how = (
-        "The forcing is an exponential polynomial here: each decoupled equation is solved by its integrating factor from the start of the interval:"
+        P("The forcing is an exponential polynomial here, so each decoupled equation is solved by its integrating factor "
+          "with the integral taken from ", Math(s.start), " to ", N(T, Tp), ", which gives")
         if s.method == "closed form"
-        else "The forcing has no closed-form rule here: each decoupled equation is solved in convolution form (next):"
+        else P("The forcing has no closed-form rule here; each decoupled equation is solved in convolution form (shown next), which gives")
     )
     out: list[Block] = [
-        Heading(3, f"Interval {s.index}: {ap} <= {Tp} < {end}"),
-        P("Every step, pulse and piecewise branch has a fixed value on this interval, so the forcing and its decoupled form g = P^-1 f are:"),
+        Heading(3, f"Interval {s.index}: ", N(rf"{a} \le {T} < {end}", f"{ap} <= {Tp} < {endp}"), f"interval {s.index}"),
+        P("On this interval every step, pulse and piecewise branch of the input has a fixed value, so the forcing is"),
         _mat(f"f({T})", f"f({Tp})", s.f),
+        P("and, decoupled with ", N("g = P^{-1} f", "g = P^-1 f"), ","),
         _mat(f"g({T})", f"g({Tp})", s.g),
-        P(f"It starts from {origin} (with any jump at {Tp} = {ap} applied), and y = P^-1 x there:"),
+        P(f"The interval starts from {origin} (with any jump at ", N(f"{T} = {a}", f"{Tp} = {ap}"), " applied):"),
         _mat(f"x({a})", f"x({ap})", s.x_start),
+        P("so the decoupled equations start from ", N(rf"y({a}) = P^{{-1}}\,x({a})", f"y({ap}) = P^-1 x({ap})"), ":"),
         _mat(f"y({a})", f"y({ap})", s.y_start),
-        P(how),
+        how,
         _mat(f"y({T})", f"y({Tp})", s.y),
-        P("With x = P y, on this interval:"),
+        P("and, with ", N(r"x = P\,y", "x = P y"), ", on this interval"),
         Eq(c.state_rows(s.x)),
     ]
     if s.x_end is not None:
-        out += [P("The state at the end, handed to the next interval:"), _mat(f"x({c.fmt.m(s.end)})", f"x({end})", s.x_end)]
+        out += [
+            P("At ", N(f"{T} = {end}", f"{Tp} = {endp}"), " the state, handed to the next interval, is"),
+            _mat(f"x({end})", f"x({endp})", s.x_end),
+        ]
     else:
         out.append(P("This interval has no end: the solution above holds for all later times."))
     return out
@@ -412,21 +432,27 @@ def _jump(s: Any, c: StepContext) -> list[Block]:
 
 
 def _convolution(s: Any, c: StepContext) -> list[Block]:
-    yp = c.fmt.plain(s.y)
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    S, Sp = f.m(s.s), f.plain(s.s)
+    t0, t0p = f.m(s.t0), f.plain(s.t0)
     out: list[Block] = [
-        Heading(3, f"Convolution form for {yp}"),
-        P("The equation with eigenvalue ", Math(s.eigenvalue), " and decoupled forcing g = ", Math(s.g),
-          " has no closed-form rule for the integrating-factor integral, so the solution is the convolution:"),
+        Heading(3, "Convolution form for ", N(f.m(s.y), f.plain(s.y)), "y"),
+        P("The equation for ", Math(s.y), ", with eigenvalue ", c.root_value(s.eigenvalue), " and decoupled forcing ",
+          N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"),
+          ", has no closed-form rule for the integral of the integrating factor, so its solution is written as a "
+          "convolution (the free part plus the response to the input from ", Math(s.t0), " to ", N(T, Tp), "):"),
         Eq(((c.fn(s.y), s.written),)),
-        P("Splitting e^(lambda (t - s)) at t0, it combines integrals whose integrands do not contain t:"),
+        P("Since ", N(rf"e^{{\lambda({T} - {S})}} = e^{{\lambda({T} - {t0})}}\,e^{{-\lambda({S} - {t0})}}",
+                      f"exp(lambda ({Tp} - {Sp})) = exp(lambda ({Tp} - {t0p})) exp(-lambda ({Sp} - {t0p}))"),
+          ", the convolution is a combination of integrals whose integrands do not contain ", N(T, Tp), ":"),
     ]
     for integral, value in s.integrals:
+        out.append(Eq(((N(f.m(integral), f.plain(integral)), value),)))
         if value == integral:
-            out += [Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), integral),)),
-                    P("No closed form found within the time limit: kept as a definite integral, evaluated by quadrature in the numeric check.")]
-        else:
-            out.append(Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), value),)))
-    out += [P("With these:"), Eq(((c.fn(s.y), s.solution),))]
+            out.append(P("no closed form was found within the time limit: it is kept as a definite integral and "
+                         "evaluated by quadrature in the numeric check."))
+    out += [P("With these,", runs_on=True), Eq(((c.fn(s.y), s.solution),))]
     return out
 
 
