@@ -26,6 +26,8 @@ __all__ = [
     "Heading",
     "Para",
     "Eq",
+    "MathRows",
+    "TermSum",
     "Items",
     "Table",
     "Alert",
@@ -144,6 +146,23 @@ class Eq:
 
 
 @dataclass(frozen=True)
+class MathRows:
+    """Formulas aligned in columns: each row is ``lhs = rhs`` followed by notes (``approx 1.5``, ...)."""
+
+    kind: ClassVar[str] = "mathrows"
+    rows: tuple[tuple[Name, ...], ...]
+
+
+@dataclass(frozen=True)
+class TermSum:
+    """``lhs`` as a sum of products ``(scalar) vector``, one term per line, unmultiplied."""
+
+    kind: ClassVar[str] = "termsum"
+    lhs: Name
+    terms: tuple[tuple[Any, Any], ...]
+
+
+@dataclass(frozen=True)
 class Items:
     """A bulleted (or numbered) list."""
 
@@ -162,7 +181,7 @@ class Table:
     """
 
     kind: ClassVar[str] = "table"
-    header: tuple[str, ...]
+    header: "tuple[str | tuple[Inline, ...], ...]"
     rows: tuple[tuple[tuple[Inline, ...], ...], ...]
     align: str = ""
     widths: tuple[float | None, ...] = ()
@@ -217,7 +236,7 @@ class Figure:
     series: tuple[Series, ...]
 
 
-Block = Union[Title, Heading, Para, Eq, Items, Table, Alert, Caution, Figure]
+Block = Union[Title, Heading, Para, Eq, MathRows, TermSum, Items, Table, Alert, Caution, Figure]
 
 
 def P(*parts: Inline, runs_on: bool = False) -> Para:

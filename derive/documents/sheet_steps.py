@@ -16,8 +16,9 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..model import Solution
+from ..render.escape import tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows
-from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, N, Name, P, Para, Strong
+from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
 
@@ -63,28 +64,42 @@ class StepContext:
         return tuple(rows)
 
     def legend(self, objs: Sequence[Any]) -> list[Block]:
+        """A paragraph naming the indexed roots that occur in ``objs`` (empty when none do)."""
         present: set[sp.Basic] = set()
         for obj in objs:
-            items = list(obj) if isinstance(obj, sp.MatrixBase) else [obj]
+            items = list(obj) if isinstance(obj, (tuple, list, sp.MatrixBase)) else [obj]
             for e in items:
                 if isinstance(e, sp.Basic):
                     present |= e.atoms(sp.CRootOf)
         wanted = [r for r in self.fmt.roots if r.root in present]
-        out: list[Block] = []
+        f = self.fmt
+        L, Lp = f.m(self.lam), f.plain(self.lam)
+        parts: list[Inline] = []
         for _, group in root_legend_rows(wanted):
-            parts: list[Inline] = []
+            one = len(group) == 1
+            if parts:
+                parts.append(" ")
             for k, r in enumerate(group):
                 parts += [", " if k else "", Math(r.root)]
+            poly = group[0].polynomial(self.lam)
             parts += [
-                " (indexed roots, kept exact) are the roots of ",
-                Math(sp.Eq(group[0].polynomial(self.lam), 0)),
-                ", numbered real roots ascending, then complex pairs: ",
+                f" {'is a root' if one else 'are roots'} of ",
+                N(f"q({L}) = {f.m(poly)} = 0", f"q({Lp}) = {f.plain(poly)} = 0"),
+                f", which has no root in radicals of reasonable size; {'it is' if one else 'they are'} kept exact as "
+                "indexed roots (numbered in sympy's order: real roots ascending, then complex pairs), with ",
             ]
             for k, r in enumerate(group):
-                parts += [", " if k else "", Math(r.root), f" ~ {r.decimal}"]
+                parts += [", " if k else "", N(rf"{f.m(r.root)} \approx {r.decimal}", f"{f.plain(r.root)} ~ {r.decimal}")]
             parts.append(".")
-            out.append(Para(tuple(parts)))
-        return out
+        # the LaTeX sheet keeps the line of an empty legend
+        return [Para(tuple(p for p in parts if p != ""), runs_on=True)]
+
+    def conjugate_name(self, step: Any) -> Name:
+        """The y of the scalar step whose eigenvalue ``step``'s mirrors."""
+        for other in self.solution.steps:
+            if getattr(other, "kind", "") == "scalar" and other.index == step.conjugate_of and other is not step:
+                return Name(self.fmt.m(other.y), self.fmt.plain(other.y))
+        return Name(f"y_{{{step.conjugate_of}}}", f"y_{step.conjugate_of}")
 
 
 def _mat(name: str, plain: str, M: Any) -> Eq:
@@ -131,82 +146,115 @@ def _charpoly(s: Any, c: StepContext) -> list[Block]:
 
 
 def _eigenvalues(s: Any, c: StepContext) -> list[Block]:
-    items = []
-    for e in s.entries:
-        dec = "" if e.value.is_Integer else (c.fmt.decimal(e.value, latex=False) or e.decimal)
-        row: list[Inline] = [Math(e.value), (f" ~ {dec}" if dec else "") + f"; multiplicity {e.algebraic} (geometric {e.geometric}); {e.form}"]
-        if e.rule:
-            row.append(f"; {e.rule}")
-        items.append(tuple(row))
-    return [
-        Heading(3, "Eigenvalues"),
-        P("Each irreducible factor is set to zero. The eigenvalues, in the order of the columns of P:"),
-        Items(tuple(items)),
-        *c.legend([e.value for e in s.entries]),
-    ]
-
-
-def _instances(c: StepContext, instances: Any, L: str, Lp: str) -> list[Block]:
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
     rows = []
+    for e in s.entries:
+        dec = f.decimal(e.value) if not e.value.is_Integer else ""
+        dec_plain = f.decimal(e.value, latex=False) if dec else ""
+        rows.append((
+            N(L, Lp),
+            N(f.m(e.value), f.plain(e.value)),
+            N(rf"\approx {dec}" if dec else "", f"~ {dec_plain}" if dec else ""),
+            N(rf"\text{{mult.\ {e.algebraic} (geom.\ {e.geometric})}}", f"mult. {e.algebraic} (geom. {e.geometric})"),
+            N(rf"\text{{{tex_escape(e.form)}}}", str(e.form)),
+        ))
+    out: list[Block] = [
+        Heading(3, "Eigenvalues"),
+        P("Each irreducible factor is set to zero. The eigenvalues, in the order used for the columns of ", N("P"), ", are:"),
+        MathRows(tuple(rows)),
+    ]
+    out += [P("Form of ", Math(e.value), f": {e.rule}.", runs_on=True) for e in s.entries if e.rule]
+    out += c.legend([e.value for e in s.entries])
+    return out
+
+
+def _instances(c: StepContext, instances: Any, L: str, Lp: str, *, single: bool) -> list[Block]:
+    """The vectors of each individual root; ``single``: a root with one vector names it v, not v_1."""
+    out: list[Block] = [P("For the individual roots:", runs_on=True)]
     for value, vecs in instances:
+        if single and len(vecs) == 1:
+            out.append(_mat(f"{L} = {c.fmt.root_value(value)}:\\quad v", f"{Lp} = {c.fmt.root_value_plain(value)}: v", vecs[0]))
+            continue
+        if single:
+            out.append(P(runs_on=True))  # the sheet keeps the empty line of a root with several vectors
         for k, v in enumerate(vecs, start=1):
-            sub = f"_{{{k}}}" if len(vecs) > 1 else ""
-            rows.append(
-                (Name(f"{c.fmt.root_value(value)}:\\quad v{sub}", f"{c.fmt.root_value_plain(value)}: v{sub.strip('_{}')}"), v)
-            )
-    return [P("For the individual roots:"), Eq(tuple(rows)), *c.legend([v for v, _ in instances])] if rows else []
+            out.append(_mat(f"{L} = {c.fmt.root_value(value)}:\\quad v_{{{k}}}", f"{Lp} = {c.fmt.root_value_plain(value)}: v_{k}", v))
+    return out + c.legend([value for value, _ in instances])
+
+
+def _cols(idx: Any) -> str:
+    return ", ".join(str(int(i) + 1) for i in idx) or "none"
 
 
 def _eigenvector(s: Any, c: StepContext) -> list[Block]:
-    L, Lp = c.fmt.m(s.lam), c.fmt.plain(s.lam)
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    shifted = N(f"A - {L} I", f"A - {Lp} I")
     if s.root_of is None:
-        head: list[Block] = [
-            Heading(3, f"Eigenvectors for {Lp} = {c.fmt.root_value_plain(s.eigenvalue)}"),
-            P("The eigenvectors for ", Math(sp.Eq(s.lam, s.eigenvalue, evaluate=False)),
-              f" (algebraic multiplicity {s.algebraic}) span the null space of A - {Lp} I, found by row reduction."),
+        at = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}")
+        out: list[Block] = [
+            Heading(3, "Eigenvectors for ", at, "an eigenvalue"),
+            P("The eigenvectors for ", at, f" (algebraic multiplicity {s.algebraic}) span the null space of ", shifted,
+              ", found by row reduction:"),
         ]
     else:
-        head = [
-            Heading(3, f"Eigenvectors for the roots of q({Lp})"),
-            P(f"For each root {Lp} of ", Math(sp.Eq(s.root_of, 0)),
-              " the computation is the same, so it is done once for a generic root."),
+        q = N(f"q({L})", f"q({Lp})")
+        out = [
+            Heading(3, "Eigenvectors for the roots of ", q, "q"),
+            P("For each root ", N(L, Lp), " of ", N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0"),
+              " the computation is the same, so it is done once for a generic root, using ", N(f"q({L}) = 0", f"q({Lp}) = 0"),
+              " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction:"),
         ]
-    cols = lambda idx: ", ".join(str(int(i) + 1) for i in idx) or "none"  # noqa: E731
-    basis = tuple(
-        (Name(f"v_{{{k}}}" if len(s.basis) > 1 else "v", f"v_{k}" if len(s.basis) > 1 else "v"), v)
-        for k, v in enumerate(s.basis, start=1)
-    )
-    out = head + [
+    out += [
         _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
         _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
-        P(f"Pivot columns {cols(s.pivots)}; free columns {cols(s.free)}. Each free unknown set to one in turn gives the basis:"),
-        Eq(basis),
+        P(f"The pivot columns are {_cols(s.pivots)}; the free columns are {_cols(s.free)}. Setting each free unknown "
+          "to one in turn (and scaling to small integers) gives the basis"),
     ]
-    if s.root_of is not None:
-        out += _instances(c, s.instances, L, Lp)
+    many = len(s.basis) > 1
+    out += [_mat(f"v_{{{k}}}" if many else "v", f"v_{k}" if many else "v", v) for k, v in enumerate(s.basis, start=1)]
+    if s.root_of is not None and s.instances:
+        out += _instances(c, s.instances, L, Lp, single=True)
     return out
 
 
 def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
-    L, Lp = c.fmt.m(s.lam), c.fmt.plain(s.lam)
-    where = c.fmt.root_value_plain(s.eigenvalue) if s.root_of is None else f"each root of q({Lp})"
-    out: list[Block] = [
-        Heading(3, f"Jordan chain for {Lp} = {where}"),
-        P(f"Algebraic multiplicity {s.algebraic} but {s.geometric} independent eigenvector(s): A is not diagonalizable. "
-          f"Generalized eigenvectors solve (A - {Lp} I) v_(k+1) = v_k."),
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    plural = "s" if s.geometric != 1 else ""
+    if s.root_of is None:
+        at = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}")
+        out: list[Block] = [
+            Heading(3, "Jordan chain for ", at, "a defective eigenvalue"),
+            P("The eigenvalue ", at, f" has algebraic multiplicity {s.algebraic} but only {s.geometric} independent "
+              f"eigenvector{plural}, so ", N("A"), " is not diagonalizable."),
+        ]
+    else:
+        out = [
+            Heading(3, "Jordan chains for the roots of ", N(f"q({L})", f"q({Lp})"), "q"),
+            P("For each root ", N(L, Lp), " of ", N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0"),
+              f" the algebraic multiplicity is {s.algebraic} but there {'is' if s.geometric == 1 else 'are'} only "
+              f"{s.geometric} independent eigenvector{plural}; the chain is computed once for a generic root."),
+        ]
+    out += [
+        P("A chain of generalized eigenvectors completes the basis: each solves ",
+          N(rf"(A - {L} I)\,v_{{k+1}} = v_k", f"(A - {Lp} I) v_(k+1) = v_k"), ", starting from the eigenvector ", N("v_1"), ".",
+          runs_on=True),
+        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
     ]
-    if s.root_of is not None:
-        out.append(P("The roots are those of ", Math(sp.Eq(s.root_of, 0)), "; the chain is computed once for a generic root."))
-    out.append(_mat(f"A - {L} I", f"A - {Lp} I", s.shifted))
     for k, link in enumerate(s.links, start=1):
         out += [
-            P(f"For v_{k + 1}: right side v_{k}; the augmented matrix reduces to"),
-            _mat(rf"\operatorname{{rref}}[A - {L} I \mid v_{{{k}}}]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
+            P("For ", N(f"v_{{{k + 1}}}", f"v_{k + 1}"), ": the right side is ",
+              N(f"v_{{{k}}} = {f.m(link.rhs.T)}^{{T}}", f"v_{k} = {f.plain(link.rhs.T)}^T"), " and the augmented matrix reduces to"),
+            _mat(rf"\operatorname{{rref}}\bigl[A - {L} I \mid v_{{{k}}}\bigr]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
+            P("so that (free unknowns set to zero)"),
             _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
         ]
-    out.append(Eq(tuple((N(f"v_{{{k}}}", f"v_{k}"), v) for k, v in enumerate(s.vectors, start=1))))
-    if s.root_of is not None:
-        out += _instances(c, s.instances, L, Lp)
+    out.append(P("The chain:"))
+    out += [_mat(f"v_{{{k}}}", f"v_{k}", v) for k, v in enumerate(s.vectors, start=1)]
+    if s.root_of is not None and s.instances:
+        out += _instances(c, s.instances, L, Lp, single=False)
     return out
 
 
@@ -270,47 +318,63 @@ def _decouple(s: Any, c: StepContext) -> list[Block]:
 
 
 def _scalar(s: Any, c: StepContext) -> list[Block]:
-    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
-    yp = c.fmt.plain(s.y)
-    head = Heading(3, f"Solution for {yp}")
+    f = c.fmt
+    Y, Yp = f.m(s.y), f.plain(s.y)
+    T, Tp = f.m(s.t), f.plain(s.t)
+    out: list[Block] = [Heading(3, "Solution for ", N(Y, Yp), "y")]
     if s.conjugate_of is not None:
-        return [
-            head,
-            P("The eigenvalue ", Math(s.eigenvalue), " is the conjugate of an earlier one; for real data the solution is the conjugate one:"),
+        other = c.conjugate_name(s)
+        return out + [
+            P("The eigenvalue ", c.root_value(s.eigenvalue), " is the complex conjugate of the one of ", other,
+              ". Since ", N("A"), " and ", N("f"), " are real, ", N(Y, Yp), " is the complex conjugate of ", other,
+              " (with its own constant ", Math(s.constant), "):"),
             Eq(((c.fn(s.y), s.solution),)),
         ]
-    out: list[Block] = [
-        head,
-        P("Equation with eigenvalue ", Math(s.eigenvalue), ":"),
-        Eq(((c.fn(s.y, "'"), s.eigenvalue * s.y + s.rhs),)),
+    out += [
+        P("The equation for ", N(Y, Yp), ", with eigenvalue ", c.root_value(s.eigenvalue), ", is"),
+        Eq(((N(f"{Y}'({T})", f"{Yp}'({Tp})"), s.eigenvalue * s.y + s.rhs),)),
     ]
     if s.coupling is not None:
-        out.append(P("The next component of the Jordan block enters as forcing: ", Math(sp.Eq(s.coupling, s.coupling_value, evaluate=False)), "."))
+        out += [
+            P("Its forcing includes the next component of the same Jordan block, already solved, ",
+              N(f"{f.m(s.coupling)} = {f.m(s.coupling_value)}", f"{f.plain(s.coupling)} = {f.plain(s.coupling_value)}"),
+              "; with ", N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"), " the right side is"),
+            Eq(((N(f"h({T})", f"h({Tp})"), s.rhs),)),
+        ]
     out += [
-        P("Integrating factor (it makes the left side the exact derivative of mu y):"),
-        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor), (N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand))),
+        P("Multiplying by the integrating factor"),
+        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor),)),
+        P("makes the left side an exact derivative, ",
+          N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,h", f"d/d{Tp} (mu {Yp}) = mu h"), ", with"),
+        Eq(((N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand),)),
     ]
     if s.resonant:
-        out.append(P("Resonance: the forcing has the eigenvalue's exponent, so a polynomial factor appears."))
+        out.append(P("The forcing has the same exponent as the eigenvalue (resonance): the exponentials cancel in the "
+                     "integrand, and the integral brings a polynomial factor in ", N(T, Tp), "."))
     if c.solution.system.is_ivp:
-        lhs = N(rf"\int_{{{c.fmt.m(s.t0)}}}^{{{T}}} \mu\,h\,d{T}", f"integral from {c.fmt.plain(s.t0)} to {Tp} of mu h")
+        t0, t0p = f.m(s.t0), f.plain(s.t0)
+        out += [
+            P("Integrating from ", N(f"{T}_0 = {t0}", f"{Tp}0 = {t0p}"), " to ", N(T, Tp), ":", runs_on=True),
+            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu\,h \, d{T}", f"integral from {t0p} to {Tp} of mu h"), s.integral),)),
+        ]
     else:
-        lhs = N(rf"\int \mu\,h\,d{T}", "antiderivative of mu h")
+        out += [P("An antiderivative is", runs_on=True), Eq(((N(rf"\int \mu\,h \, d{T}", "antiderivative of mu h"), s.integral),))]
     out += [
-        Eq(((lhs, s.integral),)),
-        P("Dividing by mu, with the constant ", Math(s.constant), ":"),
+        P("Dividing by ", N(r"\mu", "mu"), ", with the constant ", Math(s.constant), ":"),
         Eq(((c.fn(s.y), s.solution),)),
     ]
     return out
 
 
 def _recombine(s: Any, c: StepContext) -> list[Block]:
-    terms = tuple((Math(f), " times ", Math(v)) for f, v in s.homogeneous_terms)
     return [
         Heading(3, "Recombination"),
-        P("x = P y: each y_k multiplies column k of P. The terms with constants form the homogeneous part:"),
-        Items(terms),
+        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
+          "-th column of ", N("P"), ". The terms carrying the constants form the homogeneous part,"),
+        TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
+        P("that is,"),
         _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
+        P("and the remaining terms the particular part,"),
         _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
     ]
 
@@ -457,32 +521,55 @@ def _convolution(s: Any, c: StepContext) -> list[Block]:
 
 
 def _steady_state(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    j = f.style.imaginary_unit
     basis = "decided exactly" if s.stability == "exact" else "decided at the given parameter values"
-    since = f", for the input from {c.fmt.plain(s.t)} = {c.fmt.plain(s.since)} on" if s.since is not None else ""
+    since: tuple[Inline, ...] = (", here the input from ", N(f"{T} = {f.m(s.since)}", f"{Tp} = {f.plain(s.since)}"), " on") if s.since is not None else ()
     out: list[Block] = [
         Heading(3, "Steady state and transient"),
-        P(f"Every eigenvalue has a negative real part ({basis}): the free response decays and the solution tends to the steady state{since}."),
+        P(f"Every eigenvalue has a negative real part ({basis}), so the free response decays and the solution tends to "
+          "the steady state, the particular solution of the form of the input", *since, "."),
     ]
     if s.constant is not None:
-        out += [P("For the constant part f0 of the input, x_ss = -A^-1 f0:"), _mat("f_0", "f0", s.constant), _mat("-A^{-1} f_0", "-A^-1 f0", s.x_constant)]
-    if s.omega is not None:
-        j = c.fmt.style.imaginary_unit
         out += [
-            P(f"The sinusoidal part is Re(F e^({j} omega t)) with omega = ", Math(s.omega), f"; X = ({j} omega I - A)^-1 F:"),
+            P("For the constant part ", N("f_0", "f0"), " of the input, ", N(r"x_{\mathrm{ss}}' = 0", "x_ss' = 0"), " gives ",
+              N(r"x_{\mathrm{ss}} = -A^{-1} f_0", "x_ss = -A^-1 f0"), ":", runs_on=True),
+            _mat("f_0", "f0", s.constant),
+            _mat("-A^{-1} f_0", "-A^-1 f0", s.x_constant),
+        ]
+    if s.omega is not None:
+        def approx(value: Any) -> tuple[str, str]:
+            dec = f.decimal(value)
+            if dec and not value.is_Rational:
+                return rf" \approx {dec}", f" ~ {f.decimal(value, latex=False)}"
+            return "", ""
+
+        rows = []
+        for state, amp, ph in zip(c.solution.system.states, s.amplitude, s.phase):
+            a_tex, a_plain = approx(amp)
+            p_tex, p_plain = approx(ph)
+            rows.append((
+                (Math(state),),
+                (N(f.m(amp) + a_tex, f.plain(amp) + a_plain),),
+                (N(f.m(ph) + p_tex, f.plain(ph) + p_plain),),
+            ))
+        out += [
+            P("The sinusoidal part is ", N(rf"\operatorname{{Re}}(F\,e^{{{j} \omega {T}}})", f"Re(F exp({j} omega {Tp}))"),
+              " with ", N(rf"\omega = {f.m(s.omega)}", f"omega = {f.plain(s.omega)}"), "; trying ",
+              N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} omega {Tp}))"), " gives ",
+              N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} omega I - A)^-1 F"), ":", runs_on=True),
             _mat("F", "F", s.phasor_in),
             _mat("X", "X", s.phasor),
-            P("Each state oscillates as |X_k| cos(omega t + arg X_k):"),
-            Items(tuple(
-                (Math(state), ": amplitude ", Math(amp), f" (~ {c.fmt.decimal(amp, latex=False)})" if c.fmt.decimal(amp, latex=False) else "",
-                 ", phase ", Math(ph), f" rad (~ {c.fmt.decimal(ph, latex=False)})" if c.fmt.decimal(ph, latex=False) else " rad")
-                for state, amp, ph in zip(c.solution.system.states, s.amplitude, s.phase)
-            )),
+            P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(omega {Tp} + arg X_k)"), ":"),
+            Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"),
         ]
     out += [
-        P("Steady state and transient x - x_ss:"),
+        P("The steady state and the transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), ", which decays:", runs_on=True),
         Eq(c.state_rows(s.x_ss, "ss")),
         Eq(c.state_rows(s.transient, "tr")),
-        P("Substituting x_ss into x' = A x + f " + ("leaves a zero residual." if s.residual_zero else "does NOT leave a zero residual.")),
+        P("Substituting ", N(r"x_{\mathrm{ss}}", "x_ss"), " into ", N(r"x' = A\,x + f", "x' = A x + f"),
+          *((" leaves a zero residual.",) if s.residual_zero else (" does ", Strong("not"), " leave a zero residual."))),
     ]
     return out
 

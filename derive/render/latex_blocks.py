@@ -74,6 +74,16 @@ def _display(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> str:
     return "\n".join(out)
 
 
+def _mathrows(rows: Sequence[Sequence[Name]]) -> str:
+    lines = [f"{r[0].latex} &= {r[1].latex}" + "".join(f" && {c.latex}" for c in r[2:]) for r in rows]
+    return "\\begin{align*}\n" + " \\\\\n".join(lines) + "\n\\end{align*}"
+
+
+def _termsum(block: Any, fmt: MathFormatter) -> str:
+    terms = " \\\\\n&\\quad + ".join(rf"\left({fmt.m(c)}\right) {fmt.m(v)}" for c, v in block.terms)
+    return "\\begin{align*}\n" + f"{block.lhs.latex} &= {terms}" + "\n\\end{align*}"
+
+
 def _heading(heading: Any) -> str:
     text = tex_text(heading.text)
     if heading.math is None:
@@ -128,6 +138,9 @@ def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
         "colspec": _colspec,
         "figure": figure_latex,
         "heading": _heading,
+        "mathrows": _mathrows,
+        "termsum": lambda block: _termsum(block, fmt),
+        "header": lambda table: " & ".join(tex_escape(h) if isinstance(h, str) else inline(h) for h in table.header),
         "unknown_block": _unknown_block,
     }
 

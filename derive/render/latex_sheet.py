@@ -1,12 +1,13 @@
 """The calculation sheet in LaTeX: its hand-set templates, fed by ``printing``.
 
-The sheet is the one document type with a LaTeX layout of its own
-(``templates/sheet.tex.j2``, ``fragment.tex.j2``, ``body.tex.j2`` and a
-partial per step kind in ``templates/steps/``); this module supplies those
-templates with the solution and with functions that print mathematics, so
-no template ever builds LaTeX for an expression itself and no algebra ever
-writes LaTeX.  A step kind without a partial is set from its blocks
-(``derive.documents.sheet_steps``) by the generic block templates.  User text
+The sheet is the one document type with a LaTeX layout of its own around
+its derivation (``templates/sheet.tex.j2``, ``fragment.tex.j2``,
+``body.tex.j2`` and the section templates they include); this module
+supplies those templates with the solution and with functions that print
+mathematics, so no template ever builds LaTeX for an expression itself and
+no algebra ever writes LaTeX.  The derivation steps are set from their
+blocks (``derive.documents.sheet_steps``, one function per step kind, the
+same description Markdown and text show) by the generic block templates.  User text
 (titles, names, notes, descriptions, assumptions, references) reaches the
 page only through the ``tex`` filter.
 """
@@ -25,8 +26,8 @@ from ..errors import OutputError
 from ..model import SheetMeta, Solution
 from .escape import tex_escape
 from .latex_blocks import blocks_latex
-from .printing import MathFormatter, MathStyle, RootName, collect_roots, domain_tex, root_legend_rows
-from .templating import FRAGMENT_PACKAGES, get_template, has_template
+from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows
+from .templating import FRAGMENT_PACKAGES, get_template
 
 __all__ = ["sheet_context", "render_sheet"]
 
@@ -87,31 +88,14 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
     fmt = ctx.fmt
     t = solution.system.t
 
-    def fn(sym: Any, arg: Any = None) -> str:
-        """``x_1(t)``: a symbol written as a function of t (or of ``arg``)."""
-        return f"{fmt.m(sym)}({fmt.m(t if arg is None else arg)})"
-
     def rows_for_states(vec: sp.MatrixBase, part: str = "") -> list[tuple[str, Any]]:
         """(``x_1(t)``, entry) rows; ``part`` marks a homogeneous or particular part."""
         mark = rf"^{{\mathrm{{{part}}}}}" if part else ""
         names = [fmt.m(s) for s in solution.system.states]
         return [(f"{{{names[i]}}}{mark}({fmt.m(t)})", vec[i]) for i in range(vec.rows)]
 
-    def decoupled_rows(step: Any) -> list[tuple[str, Any]]:
-        """``y_k'(t) = (D y + g)_k`` for each row of a decoupled system."""
-        y = sp.ImmutableMatrix([[s] for s in step.y])
-        rhs = step.D * y + step.g
-        return [(f"{fmt.m(step.y[k])}'({fmt.m(step.t)})", rhs[k]) for k in range(len(step.y))]
-
-    def conjugate_name(step: Any) -> str:
-        """The y symbol of the scalar step whose eigenvalue ``step`` mirrors."""
-        for other in solution.steps:
-            if getattr(other, "kind", "") == "scalar" and other.index == step.conjugate_of and other is not step:
-                return fmt.m(other.y)
-        return rf"y_{{{step.conjugate_of}}}"
-
     def step_latex(step: Any) -> str:
-        """A step of a kind with no partial, set from its blocks."""
+        """A derivation step, set from its blocks (``derive.documents.sheet_steps``)."""
         return blocks_latex(step_blocks(step, StepContext(solution=solution, fmt=fmt, lam=ctx.lam)), fmt)
 
     def m_list(items: Any) -> str:
@@ -119,26 +103,17 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
 
     return {
         "m": fmt.m,
-        "disp": lambda *pairs: fmt.display([tuple(p) for p in pairs]),
         "displist": lambda pairs: fmt.display([tuple(p) for p in pairs]),
         "mat": fmt.matrix_display,
-        "rv": fmt.root_value,
-        "dec": fmt.decimal,
         "num": _float,
-        "fn": fn,
         "rows_for_states": rows_for_states,
         "m_list": m_list,
-        "has_partial": lambda kind: has_template(_step_partial(kind)),
         "step_latex": step_latex,
-        "decoupled_rows": decoupled_rows,
-        "conjugate_name": conjugate_name,
-        "cols": lambda idx: ", ".join(str(int(i) + 1) for i in idx) or "none",
         "relation_tex": _relation_tex,
         "legend": ctx.legend,
         "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
         "vector": lambda items: sp.ImmutableMatrix([[e] for e in items]),
         "param_assumptions": parameter_assumptions,
-        "domain_tex": domain_tex,
     }
 
 
@@ -213,17 +188,13 @@ def _shared_body(solution: Solution, style: "MathStyle", make: Callable[[], str]
     return body
 
 
-def _step_partial(kind: str) -> str:
-    return f"steps/{kind}.tex.j2"
-
-
 def render_sheet(solution: Solution, *, style: MathStyle, fragment: bool) -> str:
     """The sheet as LaTeX source; ``fragment`` gives the body for a host report."""
-    missing = sorted({s.kind for s in solution.steps if not has_template(_step_partial(s.kind)) and s.kind not in STEP_BLOCKS})
+    missing = sorted({s.kind for s in solution.steps if s.kind not in STEP_BLOCKS})
     if missing:
         raise OutputError(
-            f"no LaTeX template or block function for step kind(s) {', '.join(missing)}; expected "
-            f"templates/steps/<kind>.tex.j2 or an entry in derive.documents.sheet_steps.STEP_BLOCKS",
+            f"no block function for step kind(s) {', '.join(missing)}; expected an entry in "
+            f"derive.documents.sheet_steps.STEP_BLOCKS",
             key="steps",
         )
     template = get_template("fragment.tex.j2" if fragment else "sheet.tex.j2")

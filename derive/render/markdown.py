@@ -13,7 +13,7 @@ from typing import Any, Sequence
 
 import sympy as sp
 
-from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, Name, Para, Strong, Table, Title
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, MathRows, Name, Para, Strong, Table, TermSum, Title
 from .base import Renderer, as_document
 from .escape import md_escape
 from .text import figure_lines
@@ -52,7 +52,14 @@ def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             math = f"${blk.math.latex}$" if blk.math is not None else ""
             out += ["#" * min(blk.level, 6) + " " + md_escape(blk.text) + math, ""]
         elif isinstance(blk, Para):
-            out += [_line(blk.parts, fmt), ""]
+            if blk.parts:
+                out += [_line(blk.parts, fmt), ""]
+        elif isinstance(blk, MathRows):
+            rows = [f"{r[0].latex} &= {r[1].latex}" + "".join(f" && {c.latex}" for c in r[2:]) for r in blk.rows]
+            out += ["$$", "\\begin{aligned}", " \\\\\n".join(rows), "\\end{aligned}", "$$", ""]
+        elif isinstance(blk, TermSum):
+            terms = " \\\\\n&\\quad + ".join(rf"\left({fmt.m(c)}\right) {fmt.m(v)}" for c, v in blk.terms)
+            out += ["$$", "\\begin{aligned}", f"{blk.lhs.latex} &= {terms}", "\\end{aligned}", "$$", ""]
         elif isinstance(blk, Eq):
             rows = []
             for name, rhs in blk.rows:
@@ -67,7 +74,7 @@ def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
                 out.append(f"{mark} " + _line(item, fmt))
             out.append("")
         elif isinstance(blk, Table):
-            out.append("| " + " | ".join(md_escape(h) for h in blk.header) + " |")
+            out.append("| " + " | ".join(md_escape(h) if isinstance(h, str) else _line(h, fmt) for h in blk.header) + " |")
             out.append("|" + "|".join("---:" if blk.column_align(k) == "r" else "---" for k in range(len(blk.header))) + "|")
             out += ["| " + " | ".join(_line(cell, fmt) for cell in row) + " |" for row in blk.rows]
             out.append("")

@@ -13,7 +13,7 @@ from typing import Any, Sequence
 
 import sympy as sp
 
-from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, Name, Para, Strong, Table, Title
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, MathRows, Name, Para, Strong, Table, TermSum, Title
 from .base import Renderer, as_document
 from .escape import squash
 from .printing import MathFormatter, MathStyle
@@ -103,9 +103,16 @@ def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             rule = {1: "=", 2: "=", 3: "-"}.get(blk.level, "-")
             out += ["", text, rule * min(len(text), WIDTH)]
         elif isinstance(blk, Para):
-            out += textwrap.wrap(_plain(blk.parts, fmt), width=WIDTH, break_long_words=False) or [""]
+            if blk.parts:
+                out += textwrap.wrap(_plain(blk.parts, fmt), width=WIDTH, break_long_words=False) or [""]
         elif isinstance(blk, Eq):
             out += _plain_eq_rows(blk.rows, fmt)
+        elif isinstance(blk, MathRows):
+            out += ["  " + "   ".join([f"{r[0].plain} = {r[1].plain}", *(c.plain for c in r[2:] if c.plain)]) for r in blk.rows]
+        elif isinstance(blk, TermSum):
+            lead = f"  {blk.lhs.plain} = "
+            for k, (coeff, vec) in enumerate(blk.terms):
+                out.append((lead if k == 0 else " " * (len(lead) - 2) + "+ ") + f"({fmt.plain(coeff)}) {fmt.plain(vec)}")
         elif isinstance(blk, Items):
             for k, item in enumerate(blk.items, start=1):
                 mark = f"{k}. " if blk.numbered else "- "
@@ -113,7 +120,8 @@ def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
                 out.append(mark + lines[0])
                 out += [" " * len(mark) + line for line in lines[1:]]
         elif isinstance(blk, Table):
-            out += text_table(blk.header, [[_plain(cell, fmt) for cell in row] for row in blk.rows])
+            header = [h if isinstance(h, str) else _plain(h, fmt) for h in blk.header]
+            out += text_table(header, [[_plain(cell, fmt) for cell in row] for row in blk.rows])
         elif isinstance(blk, Alert):
             text = _plain(blk.text, fmt)
             bar = "!" * (len(text) + 8)
