@@ -343,7 +343,7 @@ def check_command(
         with time_limit(timeout, what=f"the check of {claim_file}"):
             report = check(**claim.kwargs)
         report = replace(report, notices=tuple(dict.fromkeys(case.notices + claim.notices + report.notices)))
-        click.echo(render_check(report, "text", meta=case.meta), nl=False)
+        click.echo(render_check(report, "text", meta=case.meta, brief=True), nl=False)
         sources = ((str(case_file), case.source_hash), (str(claim_file), claim.source_hash))
         paths = write_check_outputs(
             report, out_dir, stem=f"{case.name}-check", formats=formats, pdf=pdf, meta=case.meta, sources=sources

@@ -1,4 +1,4 @@
-"""Writing a solution's outputs to disk, safely, and compiling the PDF.
+"""Writing any document's outputs to disk, safely, and compiling the PDF: the one writer.
 
 Every output is rendered in memory first, so a rendering error writes
 nothing; each file is then written to a temporary name in the output folder
@@ -18,10 +18,9 @@ import signal
 import subprocess
 import tempfile
 from pathlib import Path
-from typing import Sequence
+from typing import Any, Sequence
 
 from .errors import InputError, OutputError
-from .model import Solution
 
 __all__ = ["write_outputs", "latex_available", "compile_pdf", "check_stem"]
 
@@ -201,11 +200,8 @@ def compile_pdf(tex_path: Path, *, timeout: float = 120.0) -> Path:
         shutil.rmtree(build, ignore_errors=True)
 
 
-_SUFFIX = {"latex": ".tex", "markdown": ".md", "text": ".txt", "json": ".json"}
-
-
 def write_outputs(
-    solution: Solution,
+    document: Any,
     out_dir: str | os.PathLike[str],
     *,
     stem: str,
@@ -213,17 +209,22 @@ def write_outputs(
     pdf: bool | None = None,
     tex_timeout: float = 120.0,
 ) -> tuple[Path, ...]:
-    """Write <stem>.tex, <stem>-body.tex (fragment) and the other formats; compile
-    the PDF when pdf is True, or when pdf is None and latexmk is on the PATH.
+    """Write a document (a ``Solution`` stands for its sheet) in each format, atomically,
+    and compile the PDF when pdf is True, or when pdf is None and latexmk is on the PATH.
 
-    Returns the paths written, in order.
+    Writes <stem>.tex (and <stem>-body.tex, the fragment for a host report,
+    when the document type has one) and <stem>.<suffix> for the other formats.
+    Everything is rendered before the disk is touched, so a failing renderer
+    writes nothing.  Returns the paths written, in order.
 
     >>> write_outputs(sol, "out", stem="calc-001", formats=("latex", "json"))  # doctest: +SKIP
     (PosixPath('out/calc-001.tex'), PosixPath('out/calc-001-body.tex'), PosixPath('out/calc-001.json'), ...)
     """
     from .render import RENDERERS
+    from .render.base import as_document
 
     check_stem(stem)
+    doc = as_document(document)
     formats = tuple(dict.fromkeys(formats))
     unknown = [f for f in formats if f not in RENDERERS]
     if unknown:
@@ -242,10 +243,9 @@ def write_outputs(
     pending: list[tuple[Path, str]] = []
     for fmt in formats:
         renderer = RENDERERS[fmt]
-        suffix = getattr(renderer, "suffix", _SUFFIX.get(fmt, "." + fmt))
-        pending.append((folder / f"{stem}{suffix}", renderer.render(solution)))
-        if fmt == "latex":
-            pending.append((folder / f"{stem}-body{suffix}", renderer.render(solution, fragment=True)))
+        pending.append((folder / f"{stem}{renderer.suffix}", renderer.render(doc)))
+        if fmt == "latex" and doc.body_file:
+            pending.append((folder / f"{stem}-body{renderer.suffix}", renderer.render(doc, fragment=True)))
 
     try:
         folder.mkdir(parents=True, exist_ok=True)

@@ -1,20 +1,39 @@
-"""The batch index as a document: one row per case, as index.tex (+ -body.tex, .pdf)."""
+"""The index of a batch of calculation sheets as a document: one row per case.
+
+``BatchIndexDocument`` describes a batch's results once, in blocks; the one
+renderer registry writes it in any format, and ``write_index`` writes
+index.tex, index-body.tex (for a report's appendix) and index.pdf through
+the one writer, ``derive.output.write_outputs``.
+"""
 
 from __future__ import annotations
 
-import re
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Sequence
+from typing import Any, Mapping, Sequence
 
-from ..output import atomic_write_text
+import sympy as sp
 
-__all__ = ["write_index", "index_rows"]
+from ..model import SheetMeta
+from ..render.printing import MathFormatter, MathStyle
+from .base import Document, Frame, Layout, label_key, program_versions
+from .blocks import Alert, Block, Caution, Code, Heading, Inline, N, P, Strong, Table
 
+__all__ = ["BatchIndexDocument", "write_index", "index_rows", "TITLE"]
 
-_PLAIN = re.compile(r"[A-Za-z0-9][A-Za-z0-9._/-]*")
+TITLE = "Index of calculation sheets"
+
+CAUTION = (
+    "The sheets listed were produced by software ({program}, with sympy {sympy}). Each must be checked and "
+    "approved under the user's own quality procedures before it is relied on. The models -- their linearity, "
+    "their constant coefficients and the parameter values -- are the user's responsibility, and applicable "
+    "codes and licensed professional practice govern the use of the results. A case marked other than "
+    "\"ok\" has no verified result and must not be used."
+)
 
 
 def index_rows(results: Sequence[Any]) -> list[dict[str, Any]]:
+    """One row of plain values per case result: name, outcome, spectrum, check, time, sheet."""
     rows = []
     for r in results:
         sheet = next((o for o in r.outputs if o.endswith(".pdf")), "") or next(
@@ -28,41 +47,97 @@ def index_rows(results: Sequence[Any]) -> list[dict[str, Any]]:
             check = r.message.splitlines()[0][:90] if r.message else ""
         rows.append(
             {
-                "r": r,
-                "sheet": sheet.rsplit("/", 1)[-1],
-                # \path typesets these verbatim and breaks long ones at / . - _; only
-                # text of those safe characters goes there, anything else is escaped.
-                "plain_name": r.name if _PLAIN.fullmatch(r.name) else "",
-                "plain_sheet": sheet.rsplit("/", 1)[-1] if _PLAIN.fullmatch(sheet) else "",
+                "case": r.name,
+                "status": str(r.status),
+                "ok": bool(r.ok),
+                "cached": bool(r.cached),
+                "spectrum": r.spectrum or "",
                 "check": check,
                 "seconds": f"{r.seconds:.2f}",
+                "sheet": sheet.rsplit("/", 1)[-1],
             }
         )
     return rows
+
+
+@dataclass(frozen=True)
+class BatchIndexDocument(Document):
+    """The index of a batch: ``results`` (case results), ``counts`` (status -> number),
+    ``total`` cases asked for, and whether the batch was ``interrupted``.
+
+    >>> BatchIndexDocument((), {"ok": 0}, total=0).record()["total"]
+    0
+    """
+
+    kind = "index"
+    body_file = True
+    results: tuple[Any, ...]
+    counts: Mapping[str, int]
+    interrupted: bool = False
+    total: int = 0
+
+    def layout(self, *, style: MathStyle, fragment: bool = False) -> Layout:
+        """The index's blocks: counts, one table row per case, the caution."""
+        rows = index_rows(self.results)
+        b: list[Block] = [Heading(2, TITLE)]
+        if self.interrupted:
+            b.append(Alert((f"The batch was interrupted: {len(rows)} of {self.total} cases finished; only those are listed.",)))
+        others = "".join(f"; {n} {status}" for status, n in self.counts.items() if status != "ok" and n)
+        b.append(P(f"{self.total} case{'' if self.total == 1 else 's'}: {self.counts.get('ok', 0)} solved and verified{others}."))
+        b.append(P("Each line names the case, its outcome, the kind of spectrum of ", N("A"),
+                   ", the independent check and the file of its sheet, which is in the folder ",
+                   Code("cases/<case>/", breakable=True), " beside this index."))
+        table_rows: list[tuple[tuple[Inline, ...], ...]] = []
+        for row in rows:
+            outcome: Inline = row["status"] if row["ok"] else Strong(row["status"])
+            table_rows.append((
+                (Code(row["case"], breakable=True),),
+                (outcome, " (reused)" if row["cached"] else ""),
+                (row["spectrum"] or "--",),
+                (row["check"] or "--",),
+                (row["seconds"],),
+                (Code(row["sheet"], breakable=True),) if row["sheet"] else ("--",),
+            ))
+        b.append(Table(
+            ("Case", "Outcome", "Spectrum", "Check", "Time [s]", "Sheet"),
+            tuple(table_rows),
+            align="llllrl",
+            widths=(0.20, 0.10, 0.12, 0.22, None, 0.14),
+            long=True,
+        ))
+        program = program_versions()[0]
+        b.append(Caution(CAUTION.format(program=f"{program[0]} {program[1]}", sympy=sp.__version__)))
+        return Layout(tuple(b), MathFormatter.for_roots((), style=style))
+
+    def record(self) -> dict[str, Any]:
+        """The index as plain data."""
+        return {
+            "title": TITLE,
+            "total": self.total,
+            "interrupted": self.interrupted,
+            "counts": dict(self.counts),
+            "cases": index_rows(self.results),
+        }
+
+    def frame(self) -> Frame:
+        """The running header and footers of the index."""
+        program = program_versions()[0]
+        names = "|".join(str(getattr(r, "name", "")) for r in self.results)
+        return Frame(
+            title=TITLE,
+            meta=SheetMeta(title=TITLE, subject=TITLE),
+            key=label_key("derive-index", names, str(self.total)),
+            footer_left=f"Produced by {program[0]} {program[1]} (sympy {sp.__version__})",
+            footer_right=("To be checked and approved before use",),
+            packages=("longtable",),
+        )
 
 
 def write_index(
     out_dir: Path, results: Sequence[Any], *, counts: Any, pdf: bool, interrupted: bool, total: int
 ) -> tuple[Path, ...]:
     """index.tex (standalone) and index-body.tex (for \\input), and index.pdf when asked."""
-    from ..output import compile_pdf
-    from ..render.latex import FRAGMENT_PACKAGES, program_versions, template_environment
+    from ..output import write_outputs
 
-    env = template_environment()
-    template = env.get_template("index.tex.j2")
-    context = {
-        "rows": index_rows(results),
-        "counts": counts,
-        "total": total,
-        "interrupted": interrupted,
-        "versions": program_versions(),
-        "program": program_versions()[0],
-        "packages": FRAGMENT_PACKAGES + ("longtable", "url"),
-    }
-    written = []
-    for name, fragment in (("index.tex", False), ("index-body.tex", True)):
-        atomic_write_text(out_dir / name, template.render(fragment=fragment, **context))
-        written.append(out_dir / name)
-    if pdf:
-        written.append(compile_pdf(out_dir / "index.tex"))
-    return tuple(written)
+    document = BatchIndexDocument(tuple(results), counts, interrupted=interrupted, total=total)
+    return write_outputs(document, out_dir, stem="index", formats=("latex",), pdf=bool(pdf))

@@ -1,56 +1,25 @@
-"""Renderers: a solved system as LaTeX, Markdown, plain text or JSON.
+"""Renderers: any document (sheet, check report, batch index) as LaTeX, Markdown, text or JSON.
 
 ``RENDERERS`` maps a format name to a renderer; ``render`` looks one up.
-Every renderer receives the same ``Solution`` and its step records and must
-render every step kind in ``derive.steps.STEP_KINDS`` (the contract test in
-``tests/test_render.py`` checks this), so a new output format never touches
-the algebra.
+Every renderer receives a document (``derive.documents``) and reads it only
+through its blocks, its record and its frame, so a new output format is one
+renderer class registered here and it works for every document type; the
+contract test in ``tests/test_documents.py`` runs every document type
+through every renderer.  A ``Solution`` stands for its calculation sheet.
 """
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, ClassVar
+from typing import Any
 
 from ..errors import InputError
+from .base import Renderer
+from .jsonout import JsonRenderer
+from .latex import LatexRenderer
+from .markdown import MarkdownRenderer
+from .text import TextRenderer
 
-if TYPE_CHECKING:  # pragma: no cover
-    from ..model import Solution
-
-__all__ = ["Renderer", "RENDERERS", "render", "formats"]
-
-
-class Renderer:
-    """Base of all renderers; this docstring is the contract.
-
-    A renderer has a ``name`` (the format name users type), a ``suffix``
-    (the file name ending, with the dot) and one method, ``render``, that
-    turns a ``Solution`` into text:
-
-    * it is pure: the same solution gives the same text, and nothing is
-      written anywhere (``derive.output`` writes files);
-    * it shows every step in ``solution.steps``, whatever its kind, and raises
-      ``derive.errors.OutputError`` for a kind it cannot show rather than
-      leaving it out;
-    * user text (titles, names, notes, assumptions, references) is escaped
-      for the format, mathematics is printed by ``derive.render.printing``;
-    * it shows the verification, and says plainly when it failed;
-    * ``fragment=True`` gives a part for inclusion in a larger document
-      (LaTeX: no preamble; other formats: no title block); renderers with no
-      such distinction ignore it.
-    """
-
-    name: ClassVar[str] | str = "base"
-    suffix: ClassVar[str] | str = ".txt"
-
-    def render(self, solution: "Solution", *, fragment: bool = False) -> str:
-        """Render ``solution``; subclasses implement this."""
-        raise NotImplementedError(f"renderer {type(self).__name__} does not implement render()")
-
-
-from .jsonout import JsonRenderer  # noqa: E402  (the base class must exist first)
-from .latex import LatexRenderer  # noqa: E402
-from .markdown import MarkdownRenderer  # noqa: E402
-from .text import TextRenderer  # noqa: E402
+__all__ = ["Renderer", "RENDERERS", "render", "formats", "renderer_for"]
 
 #: Format name -> renderer, in the order help texts list them.
 RENDERERS: dict[str, Renderer] = {
@@ -70,17 +39,25 @@ def formats() -> tuple[str, ...]:
     return tuple(RENDERERS)
 
 
-def render(solution: "Solution", format: str = "latex", *, fragment: bool = False) -> str:
-    """Render a Solution's derivation as text in the named format.
+def renderer_for(format: str) -> Renderer:
+    """The renderer registered for ``format``; ``InputError`` lists the known ones.
 
-    >>> render(solution, "json")  # doctest: +SKIP
-    '{"case": ...'
+    >>> renderer_for("text").suffix
+    '.txt'
     """
     try:
-        renderer = RENDERERS[format]
+        return RENDERERS[format]
     except (KeyError, TypeError):
         raise InputError(
             f"unknown output format {format!r}; expected one of {', '.join(RENDERERS)}",
             key="format",
         ) from None
-    return renderer.render(solution, fragment=fragment)
+
+
+def render(document: Any, format: str = "latex", *, fragment: bool = False) -> str:
+    """Render a document (or a Solution's sheet) as text in the named format.
+
+    >>> render(solution, "json")  # doctest: +SKIP
+    '{"case": ...'
+    """
+    return renderer_for(format).render(document, fragment=fragment)

@@ -1,345 +1,38 @@
-"""The calculation sheet in LaTeX: jinja2 templates fed by ``printing``.
+"""Any document as LaTeX: the calculation sheet's own templates, or the generic block templates.
 
-The templates (``templates/*.tex.j2``, one partial per step kind in
-``templates/steps/``) hold the words and the layout; this module supplies
-them with the solution and with functions that print mathematics, so no
-template ever builds LaTeX for an expression itself and no algebra ever
-writes LaTeX.  User text (titles, names, notes, descriptions, assumptions,
-references) reaches the page only through the ``tex`` filter.
-
-Templates use ``\\BLOCK{...}``, ``\\VAR{...}`` and ``\\#{...}`` so they read
-as LaTeX and never collide with braces; there is no line-statement prefix
-because ``%%`` starts ordinary LaTeX comments.
+The sheet has a hand-set layout (``derive.render.latex_sheet``); every other
+document type (check report, batch index, and any new one) is set from its
+blocks by ``templates/blocks.tex.j2`` inside ``templates/document.tex.j2``,
+which shares the sheet's preamble and running header, so every document
+looks like the sheets it accompanies.
 """
 
 from __future__ import annotations
 
-import functools
-import hashlib
-import importlib.resources
-import platform
 from dataclasses import dataclass, field
-from typing import Any, Callable
+from typing import Any
 
-import jinja2
-import sympy as sp
+from ..documents.base import parameter_assumptions, program_versions
+from ..documents.sheet import SheetDocument
+from .base import Renderer, as_document
+from ..documents.blocks import Figure
+from .latex_blocks import FIGURE_PREAMBLE, block_helpers, blocks_latex
+from .latex_sheet import render_sheet
+from .printing import MathStyle
+from .templating import FRAGMENT_PACKAGES, get_template, template_environment
 
-from ..errors import OutputError
-from ..model import Parameter, SheetMeta, Solution
-from . import Renderer
-from .printing import (
-    MathFormatter,
-    MathStyle,
-    RootName,
-    collect_roots,
-    root_legend_rows,
-    tex_escape,
-    tex_paragraphs,
-)
-
-__all__ = ["LatexRenderer", "template_environment", "program_versions", "FRAGMENT_PACKAGES"]
-
-#: Packages the body of a sheet needs from a host document.
-FRAGMENT_PACKAGES: tuple[str, ...] = ("amsmath", "amssymb", "mathtools", "booktabs", "array", "refcount")
-
-
-@functools.lru_cache(maxsize=1)
-def _template_root():
-    """Where the templates are: the installed package data, or in a source
-    checkout that is imported directly (its top-level templates/ folder)."""
-    try:
-        return importlib.resources.files("derive.templates")
-    except ModuleNotFoundError:
-        import pathlib
-
-        source = pathlib.Path(__file__).resolve().parents[2] / "templates"
-        if source.is_dir():
-            return source
-        raise
-
-
-def _load_template(name: str) -> str | None:
-    """Template source from the installed ``derive.templates`` package, or None."""
-    parts = name.split("/")
-    if any(p in ("", ".", "..") or "\\" in p for p in parts):
-        return None
-    node = _template_root()
-    for part in parts:
-        node = node.joinpath(part)
-    if not node.is_file():
-        return None
-    return node.read_text(encoding="utf-8")
-
-
-@functools.lru_cache(maxsize=1)
-def template_environment() -> jinja2.Environment:
-    """The jinja2 environment for LaTeX templates (cached; templates are package data).
-
-    >>> template_environment().variable_start_string
-    '\\\\VAR{'
-    """
-    env = jinja2.Environment(
-        loader=jinja2.FunctionLoader(_load_template),
-        block_start_string=r"\BLOCK{",
-        block_end_string="}",
-        variable_start_string=r"\VAR{",
-        variable_end_string="}",
-        comment_start_string=r"\#{",
-        comment_end_string="}",
-        line_statement_prefix=None,
-        line_comment_prefix=None,
-        autoescape=False,
-        undefined=jinja2.StrictUndefined,
-        trim_blocks=True,
-        lstrip_blocks=True,
-        keep_trailing_newline=True,
-    )
-    env.filters["tex"] = tex_escape
-    env.filters["texpar"] = tex_paragraphs
-    return env
-
-
-def program_versions() -> tuple[tuple[str, str], ...]:
-    """(name, version) of this program, sympy and Python, for the record."""
-    try:
-        from .. import __version__ as version  # type: ignore[attr-defined]
-    except ImportError:
-        version = "0.1.0"
-    return (("derive", str(version)), ("sympy", sp.__version__), ("Python", platform.python_version()))
-
-
-_ASSUMPTION_WORDS = ("positive", "negative", "nonnegative", "nonpositive", "nonzero", "real", "integer")
-_IMPLIED = {
-    "positive": ("nonnegative", "nonzero", "real"),
-    "negative": ("nonpositive", "nonzero", "real"),
-    "nonnegative": ("real",),
-    "nonpositive": ("real",),
-    "nonzero": (),
-    "integer": ("real",),
-    "real": (),
-}
-
-
-def parameter_assumptions(param: Parameter) -> tuple[str, ...]:
-    """The sign and domain assumptions declared on a parameter, weakest implied ones dropped.
-
-    >>> parameter_assumptions(Parameter(sp.Symbol("k", positive=True)))
-    ('positive',)
-    """
-    held = [w for w in _ASSUMPTION_WORDS if getattr(param.symbol, f"is_{w}") is True]
-    implied = {i for w in held for i in _IMPLIED[w]}
-    return tuple(w for w in held if w not in implied)
-
-
-def _float(value: float, digits: int = 3) -> str:
-    """A float for the verification table, as LaTeX math text."""
-    if value != value:  # NaN
-        return r"\text{n/a}"
-    if value in (float("inf"), float("-inf")):
-        return r"\infty" if value > 0 else r"-\infty"
-    if value == 0:
-        return "0"
-    text = f"{value:.{digits}g}"
-    if "e" in text:
-        mant, exp = text.split("e")
-        return r"%s \times 10^{%d}" % (mant, int(exp))
-    return text
-
-
-@dataclass(frozen=True)
-class _Context:
-    """Everything templates see besides the solution: printing helpers."""
-
-    fmt: MathFormatter
-    roots: tuple[RootName, ...]
-    lam: sp.Symbol
-
-    def legend(self, *objs: Any) -> str:
-        """Sentence naming the indexed roots that occur in ``objs`` (all when none given)."""
-        wanted = self.roots
-        if objs:
-            present: set[sp.Basic] = set()
-            for obj in objs:
-                items = list(obj) if isinstance(obj, (tuple, list, sp.MatrixBase)) else [obj]
-                for item in items:
-                    if isinstance(item, sp.Basic):
-                        present |= item.atoms(sp.CRootOf)
-            wanted = tuple(r for r in self.roots if r.root in present)
-        if not wanted:
-            return ""
-        parts = []
-        for root, group in root_legend_rows(wanted):
-            names = ", ".join(f"${self.fmt.m(r.root)}$" for r in group)
-            poly = self.fmt.m(group[0].polynomial(self.lam))
-            values = ", ".join(f"${self.fmt.m(r.root)} \\approx {r.decimal}$" for r in group)
-            one = len(group) == 1
-            parts.append(
-                f"{names} {'is a root' if one else 'are roots'} of "
-                f"$q({self.fmt.m(self.lam)}) = {poly} = 0$, which has no root in radicals "
-                f"of reasonable size; {'it is' if one else 'they are'} kept exact as "
-                f"indexed roots (numbered in sympy's order: real roots ascending, then "
-                f"complex pairs), with {values}."
-            )
-        return " ".join(parts)
-
-
-def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any]]:
-    fmt = ctx.fmt
-    t = solution.system.t
-
-    def fn(sym: Any, arg: Any = None) -> str:
-        """``x_1(t)``: a symbol written as a function of t (or of ``arg``)."""
-        return f"{fmt.m(sym)}({fmt.m(t if arg is None else arg)})"
-
-    def rows_for_states(vec: sp.MatrixBase, part: str = "") -> list[tuple[str, Any]]:
-        """(``x_1(t)``, entry) rows; ``part`` marks a homogeneous or particular part."""
-        mark = rf"^{{\mathrm{{{part}}}}}" if part else ""
-        names = [fmt.m(s) for s in solution.system.states]
-        return [(f"{{{names[i]}}}{mark}({fmt.m(t)})", vec[i]) for i in range(vec.rows)]
-
-    def decoupled_rows(step: Any) -> list[tuple[str, Any]]:
-        """``y_k'(t) = (D y + g)_k`` for each row of a decoupled system."""
-        y = sp.ImmutableMatrix([[s] for s in step.y])
-        rhs = step.D * y + step.g
-        return [(f"{fmt.m(step.y[k])}'({fmt.m(step.t)})", rhs[k]) for k in range(len(step.y))]
-
-    def conjugate_name(step: Any) -> str:
-        """The y symbol of the scalar step whose eigenvalue ``step`` mirrors."""
-        for other in solution.steps:
-            if getattr(other, "kind", "") == "scalar" and other.index == step.conjugate_of and other is not step:
-                return fmt.m(other.y)
-        return rf"y_{{{step.conjugate_of}}}"
-
-    def m_list(items: Any) -> str:
-        return ", ".join(fmt.m(e) for e in items)
-
-    return {
-        "m": fmt.m,
-        "disp": lambda *pairs: fmt.display([tuple(p) for p in pairs]),
-        "displist": lambda pairs: fmt.display([tuple(p) for p in pairs]),
-        "mat": fmt.matrix_display,
-        "rv": fmt.root_value,
-        "dec": fmt.decimal,
-        "num": _float,
-        "fn": fn,
-        "rows_for_states": rows_for_states,
-        "m_list": m_list,
-        "decoupled_rows": decoupled_rows,
-        "conjugate_name": conjugate_name,
-        "cols": lambda idx: ", ".join(str(int(i) + 1) for i in idx) or "none",
-        "relation_tex": _relation_tex,
-        "legend": ctx.legend,
-        "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
-        "vector": lambda items: sp.ImmutableMatrix([[e] for e in items]),
-        "param_assumptions": parameter_assumptions,
-        "domain_tex": _domain_tex,
-    }
-
-
-_RELATIONS = (("!=", r"\neq"), (">=", r"\geq"), ("<=", r"\leq"), ("==", "="), (">", ">"), ("<", "<"))
-
-
-def _relation_tex(relation: str) -> str:
-    """A condition's relation (``"!= 0"``) as LaTeX (`` \\neq 0``); other text escaped."""
-    text = str(relation).strip()
-    for op, tex in _RELATIONS:
-        if text.startswith(op):
-            rest = text[len(op):].strip()
-            # the right side is program-made ("0"); digits and signs pass, anything else is escaped
-            rest_tex = rest if all(c in "0123456789.-+ " for c in rest) else r"\text{%s}" % tex_escape(rest)
-            return f" {tex} {rest_tex}"
-    return r"\ \text{%s}" % tex_escape(text)
-
-
-_DOMAINS = {"QQ": r"\mathbb{Q}", "ZZ": r"\mathbb{Z}", "RR": r"\mathbb{R}", "CC": r"\mathbb{C}", "QQ_I": r"\mathbb{Q}(i)", "ZZ_I": r"\mathbb{Z}[i]"}
-
-
-def _domain_tex(domain: str) -> str:
-    """A sympy domain name as mathematics (``QQ(k, m)`` -> Q(k, m)); unknown ones as text."""
-    domain = str(domain)
-    for key in ("QQ_I", "ZZ_I", "QQ", "ZZ", "RR", "CC"):
-        if domain == key:
-            return _DOMAINS[key]
-        if domain.startswith(key + "(") or domain.startswith(key + "[") or domain.startswith(key + "<"):
-            rest = domain[len(key):]
-            return r"%s\text{%s}" % (_DOMAINS[key], tex_escape(rest))
-    return r"\text{%s}" % tex_escape(domain)
-
-
-def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> dict[str, Any]:
-    """The variables every LaTeX template is rendered with."""
-    case = solution.case
-    meta = case.meta if case is not None else SheetMeta()
-    lam = next(
-        (getattr(s, "lam") for s in solution.steps if isinstance(getattr(s, "lam", None), sp.Symbol)),
-        sp.Symbol("lambda"),
-    )
-    roots = collect_roots(solution.eigenvalues, solution.steps, solution.x, digits=style.digits)
-    fmt = MathFormatter.for_roots(roots, style=style)
-    ctx = _Context(fmt=fmt, roots=roots, lam=lam)
-    versions = program_versions()
-    # A label key unique to this sheet, so two sheets \input into one report
-    # keep separate "Sheet X of Y" counts.
-    seed = "|".join((meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", _structure(solution.x)))
-    key = "derive-" + hashlib.sha256(seed.encode("utf-8")).hexdigest()[:10]
-    notices = tuple(dict.fromkeys((*(case.notices if case else ()), *solution.notices)))
-    kinds = {s.kind for s in solution.steps}
-    return {
-        "sol": solution,
-        "system": solution.system,
-        "steps": solution.steps,
-        "meta": meta,
-        "case": case,
-        "ver": solution.verification,
-        "failed": not solution.verification.ok,
-        "fragment": fragment,
-        "key": key,
-        "versions": versions,
-        "program": versions[0],
-        "notices": notices,
-        "lam": lam,
-        "has_real_form": "real_form" in kinds,
-        "has_intervals": "interval" in kinds,
-        "has_jumps": "jump" in kinds,
-        "has_convolution": "convolution" in kinds,
-        "has_steady_state": "steady_state" in kinds,
-        "packages": FRAGMENT_PACKAGES,
-        "imaginary_unit": style.imaginary_unit,
-        **_functions(ctx, solution),
-    }
-
-
-def _structure(obj: Any) -> str:
-    """A deterministic text of an expression's tree, for a key.  The printers
-    (srepr too) order the terms of a sum, which evaluates indexed roots again
-    and again; the tree's own argument order needs no ordering."""
-    if isinstance(obj, sp.MatrixBase):
-        return "[" + ",".join(_structure(e) for e in obj) + "]"
-    if not obj.args:
-        return sp.srepr(obj)
-    return type(obj).__name__ + "(" + ",".join(_structure(a) for a in obj.args) + ")"
-
-
-#: (solution, style, body) of the last sheet rendered.  The body holds all the
-#: mathematics and does not depend on its wrapper, so the standalone sheet and
-#: the fragment written together print it once.  The solution itself is kept,
-#: so an identity match cannot be a different object at a reused address.
-_last_body: tuple[Solution, "MathStyle", str] | None = None
-
-
-def _shared_body(solution: Solution, style: "MathStyle", make: Callable[[], str]) -> str:
-    global _last_body
-    last = _last_body
-    if last is not None and last[0] is solution and last[1] == style:
-        return last[2]
-    body = make()
-    _last_body = (solution, style, body)
-    return body
+__all__ = [
+    "LatexRenderer",
+    "template_environment",
+    "program_versions",
+    "parameter_assumptions",
+    "FRAGMENT_PACKAGES",
+]
 
 
 @dataclass(frozen=True)
 class LatexRenderer(Renderer):
-    """The LaTeX calculation sheet (standalone document, or a fragment for \\input).
+    """Any document as LaTeX (a standalone document, or a fragment for \\input).
 
     >>> LatexRenderer().suffix
     '.tex'
@@ -349,22 +42,21 @@ class LatexRenderer(Renderer):
     suffix: str = ".tex"
     style: MathStyle = field(default_factory=MathStyle)
 
-    def render(self, solution: Solution, *, fragment: bool = False) -> str:
-        """The sheet as LaTeX source; ``fragment`` gives the body for a host report."""
-        env = template_environment()
-        name = "fragment.tex.j2" if fragment else "sheet.tex.j2"
-        missing = sorted({s.kind for s in solution.steps if _load_template(f"steps/{s.kind}.tex.j2") is None})
-        if missing:
-            raise OutputError(
-                f"no LaTeX template for step kind(s) {', '.join(missing)}; "
-                f"expected templates/steps/<kind>.tex.j2 in the installed package",
-                key="steps",
-            )
-        try:
-            template = env.get_template(name)
-            body_template = env.get_template("body.tex.j2")
-        except jinja2.TemplateNotFound as exc:
-            raise OutputError(f"LaTeX template {exc.name} is missing from the installed package") from exc
-        context = sheet_context(solution, style=self.style, fragment=fragment)
-        context["body"] = _shared_body(solution, self.style, lambda: body_template.render(**context))
-        return template.render(**context)
+    def render(self, document: Any, *, fragment: bool = False) -> str:
+        """The document as LaTeX source; ``fragment`` gives the body for a host report."""
+        doc = as_document(document)
+        if isinstance(doc, SheetDocument):
+            return render_sheet(doc.solution, style=self.style, fragment=fragment)
+        layout = doc.layout(style=self.style, fragment=fragment)
+        frame = doc.frame()
+        versions = program_versions()
+        return get_template("document.tex.j2").render(
+            frame=frame,
+            fragment=fragment,
+            body=blocks_latex(layout.blocks, layout.fmt),
+            program=versions[0],
+            versions=versions,
+            packages=FRAGMENT_PACKAGES + frame.packages + ("url",),
+            figure_preamble=FIGURE_PREAMBLE if any(isinstance(b, Figure) for b in layout.blocks) else "",
+            **block_helpers(layout.fmt),
+        )

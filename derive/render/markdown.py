@@ -1,37 +1,25 @@
-"""The sheet as Markdown: the blocks of ``derive.render.text`` with ``$...$`` LaTeX.
+"""Any document as Markdown: the blocks of ``derive.documents.blocks`` with ``$...$`` LaTeX.
 
 Mathematics is written with the same LaTeX printer as the PDF sheet, for
 Markdown viewers that render ``$...$`` and ``$$...$$`` (MathJax, KaTeX);
-user text is escaped so it cannot start a heading, a link, HTML or math.
+user text is escaped by ``derive.render.escape.md_escape`` so it cannot
+start a heading, a link, HTML, a table cell or math.
 """
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass, field
-from typing import Sequence
+from typing import Any, Sequence
 
 import sympy as sp
 
-from ..model import Solution
-from . import Renderer
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, MathRows, Name, Para, Strong, Table, TermSum, Title
+from .base import Renderer, as_document
+from .escape import md_escape
+from .text import figure_lines
 from .printing import MathFormatter, MathStyle
-from .text import _squash, Block, Eq, Heading, Inline, Items, Math, Name, Para, Warning_, sheet_blocks
 
 __all__ = ["MarkdownRenderer", "md_escape", "blocks_to_markdown"]
-
-# Enough to stop emphasis, links, HTML, tables, headings and math; "." and
-# "-" matter only at the start of a line, which user text never is here.
-_MD_SPECIALS = re.compile(r"([\\`*_{}\[\]#|<>$~^])")
-
-
-def md_escape(text: object) -> str:
-    """Escape user text for Markdown (every punctuation mark with a meaning).
-
-    >>> md_escape("x_1 <b>*")
-    'x\\\\_1 \\\\<b\\\\>\\\\*'
-    """
-    return _MD_SPECIALS.sub(r"\\\1", _squash(str(text)))
 
 
 def _inline(part: Inline, fmt: MathFormatter) -> str:
@@ -39,17 +27,39 @@ def _inline(part: Inline, fmt: MathFormatter) -> str:
         return f"${fmt.m(part.obj)}$"
     if isinstance(part, Name):
         return f"${part.latex}$"
+    if isinstance(part, Strong):
+        inner = md_escape(part.text) if isinstance(part.text, str) else _line(part.text, fmt)
+        return f"**{inner}**"
+    if isinstance(part, Code):
+        # a code span shows its text verbatim; a backtick would end it and a bar a table cell
+        return "`" + " ".join(part.text.replace("`", "'").replace("|", "\\|").split()) + "`"
     return md_escape(part)
+
+
+def _line(parts: Sequence[Inline], fmt: MathFormatter) -> str:
+    return "".join(_inline(p, fmt) for p in parts)
 
 
 def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
     """Blocks as Markdown text."""
     out: list[str] = []
     for blk in blocks:
-        if isinstance(blk, Heading):
-            out += ["#" * min(blk.level, 6) + " " + md_escape(blk.text), ""]
+        if isinstance(blk, Title):
+            out += [f"# {md_escape(blk.text)}", ""]
+            if blk.fields:
+                out += ["; ".join(f"**{md_escape(label)}:** {md_escape(value or '--')}" for label, value in blk.fields), ""]
+        elif isinstance(blk, Heading):
+            math = f"${blk.math.latex}$" if blk.math is not None else ""
+            out += ["#" * min(blk.level, 6) + " " + md_escape(blk.text) + math, ""]
         elif isinstance(blk, Para):
-            out += ["".join(_inline(p, fmt) for p in blk.parts), ""]
+            if blk.parts:
+                out += [_line(blk.parts, fmt), ""]
+        elif isinstance(blk, MathRows):
+            rows = [f"{r[0].latex} &= {r[1].latex}" + "".join(f" && {c.latex}" for c in r[2:]) for r in blk.rows]
+            out += ["$$", "\\begin{aligned}", " \\\\\n".join(rows), "\\end{aligned}", "$$", ""]
+        elif isinstance(blk, TermSum):
+            terms = " \\\\\n&\\quad + ".join(rf"\left({fmt.m(c)}\right) {fmt.m(v)}" for c, v in blk.terms)
+            out += ["$$", "\\begin{aligned}", f"{blk.lhs.latex} &= {terms}", "\\end{aligned}", "$$", ""]
         elif isinstance(blk, Eq):
             rows = []
             for name, rhs in blk.rows:
@@ -61,16 +71,30 @@ def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
         elif isinstance(blk, Items):
             for k, item in enumerate(blk.items, start=1):
                 mark = f"{k}." if blk.numbered else "-"
-                out.append(f"{mark} " + "".join(_inline(p, fmt) for p in item))
+                out.append(f"{mark} " + _line(item, fmt))
             out.append("")
-        elif isinstance(blk, Warning_):
-            out += [f"> **{md_escape(blk.text)}**", ""]
+        elif isinstance(blk, Table):
+            out.append("| " + " | ".join(md_escape(h) if isinstance(h, str) else _line(h, fmt) for h in blk.header) + " |")
+            out.append("|" + "|".join("---:" if blk.column_align(k) == "r" else "---" for k in range(len(blk.header))) + "|")
+            out += ["| " + " | ".join(_line(cell, fmt) for cell in row) + " |" for row in blk.rows]
+            out.append("")
+        elif isinstance(blk, Alert):
+            out += [f"> **{_line(blk.text, fmt)}**"]
+            if blk.detail:
+                out += [">", f"> {_line(blk.detail, fmt)}"]
+            out.append("")
+        elif isinstance(blk, Figure):
+            # Markdown has no plot; the caption and each curve's range stand in for it
+            lines = figure_lines(blk)
+            out += [f"*{md_escape(lines[0])}*", ""] + [f"- {md_escape(line.strip())}" for line in lines[1:]] + [""]
+        elif isinstance(blk, Caution):
+            out += [f"*Caution.* {md_escape(blk.text)}", ""]
     return "\n".join(out).rstrip("\n") + "\n"
 
 
 @dataclass(frozen=True)
 class MarkdownRenderer(Renderer):
-    """The sheet as Markdown with LaTeX mathematics.
+    """Any document as Markdown with LaTeX mathematics.
 
     >>> MarkdownRenderer().suffix
     '.md'
@@ -80,7 +104,7 @@ class MarkdownRenderer(Renderer):
     suffix: str = ".md"
     style: MathStyle = field(default_factory=MathStyle)
 
-    def render(self, solution: Solution, *, fragment: bool = False) -> str:
-        """Markdown of the sheet; ``fragment`` leaves out the title block."""
-        blocks, fmt = sheet_blocks(solution, style=self.style, fragment=fragment)
-        return blocks_to_markdown(blocks, fmt)
+    def render(self, document: Any, *, fragment: bool = False) -> str:
+        """Markdown of the document; ``fragment`` leaves out the title block."""
+        layout = as_document(document).layout(style=self.style, fragment=fragment)
+        return blocks_to_markdown(layout.blocks, layout.fmt)

@@ -37,6 +37,8 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
+from .escape import tex_escape, tex_paragraphs
+
 __all__ = [
     "plain_text",
     "MathStyle",
@@ -50,81 +52,8 @@ __all__ = [
     "format_decimal",
     "tex_escape",
     "tex_paragraphs",
+    "domain_tex",
 ]
-
-
-# ---------------------------------------------------------------------------
-# User text
-
-
-_TEX_SPECIALS = {
-    "&": r"\&",
-    "%": r"\%",
-    "$": r"\$",
-    "#": r"\#",
-    "_": r"\_",
-    "{": r"\{",
-    "}": r"\}",
-    "~": r"\textasciitilde{}",
-    "^": r"\textasciicircum{}",
-    "\\": r"\textbackslash{}",
-}
-
-# pdflatex's utf8 input covers Latin-1 text; Greek letters are common in
-# engineers' descriptions ("damping ratio ζ") and would stop the run, so they
-# are set in math mode.  Anything else outside Latin-1 is shown by code point
-# rather than failing the whole sheet.
-_GREEK = {
-    "α": "alpha", "β": "beta", "γ": "gamma", "δ": "delta", "ε": "epsilon",
-    "ζ": "zeta", "η": "eta", "θ": "theta", "ι": "iota", "κ": "kappa",
-    "λ": "lambda", "μ": "mu", "ν": "nu", "ξ": "xi", "π": "pi", "ρ": "rho",
-    "σ": "sigma", "τ": "tau", "υ": "upsilon", "φ": "phi", "χ": "chi",
-    "ψ": "psi", "ω": "omega", "Γ": "Gamma", "Δ": "Delta", "Θ": "Theta",
-    "Λ": "Lambda", "Ξ": "Xi", "Π": "Pi", "Σ": "Sigma", "Φ": "Phi",
-    "Ψ": "Psi", "Ω": "Omega",
-}
-_TEXT_SYMBOLS = {
-    "–": "--", "—": "---", "‘": "`", "’": "'", "“": "``", "”": "''",
-    "…": r"\dots{}", "≤": r"\ensuremath{\leq}", "≥": r"\ensuremath{\geq}",
-    "≠": r"\ensuremath{\neq}", "≈": r"\ensuremath{\approx}",
-    "−": "-", "·": r"\ensuremath{\cdot}", "√": r"\ensuremath{\surd}",
-}
-
-
-def tex_escape(text: object) -> str:
-    """Escape user text for LaTeX: the ten specials, control characters, non-Latin-1.
-
-    Whitespace runs (including newlines) collapse to one space, so the result
-    is safe in a table cell or a header as well as in running text.
-
-    >>> tex_escape(r"50% of $x_1 \\input{a}")
-    '50\\\\% of \\\\$x\\\\_1 \\\\textbackslash{}input\\\\{a\\\\}'
-    """
-    out: list[str] = []
-    for ch in " ".join(str(text).split()):
-        if ch in _TEX_SPECIALS:
-            out.append(_TEX_SPECIALS[ch])
-        elif ch in _GREEK:
-            out.append(r"\ensuremath{\%s}" % _GREEK[ch])
-        elif ch in _TEXT_SYMBOLS:
-            out.append(_TEXT_SYMBOLS[ch])
-        elif ord(ch) < 32 or ord(ch) == 127:
-            continue
-        elif ord(ch) > 255:
-            out.append("[U+%04X]" % ord(ch))
-        else:
-            out.append(ch)
-    return "".join(out)
-
-
-def tex_paragraphs(text: object) -> str:
-    """Escape user text keeping its blank-line paragraph breaks (as ``\\par``).
-
-    >>> tex_paragraphs("one\\n\\ntwo & three")
-    'one\\\\par two \\\\& three'
-    """
-    parts = [p for p in re.split(r"\n\s*\n", str(text)) if p.strip()]
-    return "\\par ".join(tex_escape(p) for p in parts)
 
 
 # ---------------------------------------------------------------------------
@@ -823,6 +752,25 @@ class MathFormatter:
             pad + "[ " + "  ".join(cells[i][j].rjust(widths[j]) for j in range(M.cols)) + " ]"
             for i in range(M.rows)
         ]
+
+
+_DOMAINS = {"QQ": r"\mathbb{Q}", "ZZ": r"\mathbb{Z}", "RR": r"\mathbb{R}", "CC": r"\mathbb{C}", "QQ_I": r"\mathbb{Q}(i)", "ZZ_I": r"\mathbb{Z}[i]"}
+
+
+def domain_tex(domain: str) -> str:
+    """A sympy domain name as mathematics (``QQ(k, m)`` -> Q(k, m)); unknown ones as text.
+
+    >>> domain_tex("QQ")
+    '\\\\mathbb{Q}'
+    """
+    domain = str(domain)
+    for key in ("QQ_I", "ZZ_I", "QQ", "ZZ", "RR", "CC"):
+        if domain == key:
+            return _DOMAINS[key]
+        if domain.startswith(key + "(") or domain.startswith(key + "[") or domain.startswith(key + "<"):
+            rest = domain[len(key):]
+            return r"%s\text{%s}" % (_DOMAINS[key], tex_escape(rest))
+    return r"\text{%s}" % tex_escape(domain)
 
 
 def root_legend_rows(roots: Sequence[RootName]) -> list[tuple[sp.Expr, tuple[RootName, ...]]]:

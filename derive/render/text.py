@@ -1,682 +1,26 @@
-"""Plain-text sheet, and the block model it shares with the Markdown sheet.
+"""Any document as plain text: the blocks of ``derive.documents.blocks``, 100 columns wide.
 
-The compact formats carry the same sections as the LaTeX sheet.  Their
-content is built once, as a tuple of small blocks (headings, paragraphs,
-equations, lists) holding sympy objects and user text separately; the text
-and Markdown renderers only decide how a block looks.  User text stays
-``str`` in the blocks so each format can escape it its own way, and
-mathematics stays sympy so each format can print it its own way.
+Mathematics is printed in sympy's plain notation by ``derive.render.printing``;
+user text is only squashed (``derive.render.escape.squash``), since plain
+text has nothing to escape.
 """
 
 from __future__ import annotations
 
 import textwrap
 from dataclasses import dataclass, field
-from typing import Any, Callable, Sequence, Union
+from typing import Any, Sequence
 
 import sympy as sp
 
-from ..errors import OutputError
-from ..model import SheetMeta, Solution
-from . import Renderer
-from .printing import MathFormatter, MathStyle, collect_roots, root_legend_rows
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, MathRows, Name, Para, Strong, Table, TermSum, Title
+from .base import Renderer, as_document
+from .escape import squash
+from .printing import MathFormatter, MathStyle
 
-__all__ = [
-    "Math",
-    "Name",
-    "Heading",
-    "Para",
-    "Eq",
-    "Items",
-    "Warning_",
-    "Block",
-    "sheet_blocks",
-    "STEP_BLOCKS",
-    "TextRenderer",
-]
+__all__ = ["TextRenderer", "blocks_to_text", "text_table", "figure_lines"]
 
-
-@dataclass(frozen=True)
-class Math:
-    """Inline mathematics: a sympy expression or matrix."""
-
-    obj: Any
-
-
-@dataclass(frozen=True)
-class Name:
-    """A named quantity written differently per format (``P^{-1}`` / ``P^-1``)."""
-
-    latex: str
-    plain: str
-
-
-Inline = Union[str, Math, Name]
-
-
-@dataclass(frozen=True)
-class Heading:
-    level: int
-    text: str
-
-
-@dataclass(frozen=True)
-class Para:
-    parts: tuple[Inline, ...]
-
-
-@dataclass(frozen=True)
-class Eq:
-    """Displayed equations ``lhs = rhs``, one per row."""
-
-    rows: tuple[tuple[Name, Any], ...]
-
-
-@dataclass(frozen=True)
-class Items:
-    items: tuple[tuple[Inline, ...], ...]
-    numbered: bool = False
-
-
-@dataclass(frozen=True)
-class Warning_:
-    """A prominent warning (verification failed)."""
-
-    text: str
-
-
-Block = Union[Heading, Para, Eq, Items, Warning_]
-
-FAILED = "VERIFICATION FAILED: do not use this result."
-
-
-def P(*parts: Inline) -> Para:
-    return Para(tuple(parts))
-
-
-def N(latex: str, plain: str | None = None) -> Name:
-    return Name(latex, latex if plain is None else plain)
-
-
-@dataclass(frozen=True)
-class _Ctx:
-    solution: Solution
-    fmt: MathFormatter
-    lam: sp.Symbol
-
-    @property
-    def t(self) -> sp.Symbol:
-        return self.solution.system.t
-
-    def fn(self, sym: sp.Symbol, suffix: str = "") -> Name:
-        """``y_1(t)`` (optionally ``y_1'(t)``) as a Name."""
-        return Name(
-            f"{self.fmt.m(sym)}{suffix}({self.fmt.m(self.t)})",
-            f"{self.fmt.plain(sym)}{suffix}({self.fmt.plain(self.t)})",
-        )
-
-    def state_rows(self, vec: sp.MatrixBase, part: str = "") -> tuple[tuple[Name, Any], ...]:
-        states = self.solution.system.states
-        rows = []
-        for i in range(vec.rows):
-            lat = self.fmt.m(states[i]) + (rf"^{{\mathrm{{{part}}}}}" if part else "")
-            pl = self.fmt.plain(states[i]) + (f"_{part}" if part else "")
-            rows.append((Name(f"{{{lat}}}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})"), vec[i]))
-        return tuple(rows)
-
-    def legend(self, objs: Sequence[Any]) -> list[Block]:
-        present: set[sp.Basic] = set()
-        for obj in objs:
-            items = list(obj) if isinstance(obj, sp.MatrixBase) else [obj]
-            for e in items:
-                if isinstance(e, sp.Basic):
-                    present |= e.atoms(sp.CRootOf)
-        wanted = [r for r in self.fmt.roots if r.root in present]
-        out: list[Block] = []
-        for _, group in root_legend_rows(wanted):
-            parts: list[Inline] = []
-            for k, r in enumerate(group):
-                parts += [", " if k else "", Math(r.root)]
-            parts += [
-                " (indexed roots, kept exact) are the roots of ",
-                Math(sp.Eq(group[0].polynomial(self.lam), 0)),
-                ", numbered real roots ascending, then complex pairs: ",
-            ]
-            for k, r in enumerate(group):
-                parts += [", " if k else "", Math(r.root), f" ~ {r.decimal}"]
-            parts.append(".")
-            out.append(Para(tuple(parts)))
-        return out
-
-
-def _mat(name: str, plain: str, M: Any) -> Eq:
-    return Eq(((Name(name, plain), M),))
-
-
-# ---------------------------------------------------------------------------
-# One function per step kind
-
-
-def _equations(s: Any, c: _Ctx) -> list[Block]:
-    out: list[Block] = [
-        Heading(3, "The system in matrix form"),
-        P("The coefficients of the states in each equation give the rows of A; the terms free of the states give the forcing f."),
-    ]
-    if s.equations:
-        out.append(Items(tuple((e,) for e in s.equations)))
-    out += [_mat("A", "A", s.A), _mat(f"f({c.fmt.m(s.t)})", f"f({c.fmt.plain(s.t)})", s.f)]
-    return out
-
-
-def _charpoly(s: Any, c: _Ctx) -> list[Block]:
-    L = c.fmt.m(s.lam)
-    Lp = c.fmt.plain(s.lam)
-    return [
-        Heading(3, "Characteristic polynomial"),
-        P("The eigenvalues are the values where A - lambda I is singular, so its determinant is formed."),
-        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
-        Eq(
-            ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded), (N("", ""), s.factored))
-            if s.factored != s.expanded  # an irreducible polynomial is shown once
-            else ((N(rf"\det(A - {L} I)", f"det(A - {Lp} I)"), s.expanded),)
-        ),
-        P(f"Irreducible factors over {s.domain}:"),
-        Items(tuple((Math(f), f", multiplicity {m}") for f, m in s.factors)),
-    ]
-
-
-def _eigenvalues(s: Any, c: _Ctx) -> list[Block]:
-    items = []
-    for e in s.entries:
-        dec = "" if e.value.is_Integer else (c.fmt.decimal(e.value, latex=False) or e.decimal)
-        row: list[Inline] = [Math(e.value), (f" ~ {dec}" if dec else "") + f"; multiplicity {e.algebraic} (geometric {e.geometric}); {e.form}"]
-        if e.rule:
-            row.append(f"; {e.rule}")
-        items.append(tuple(row))
-    return [
-        Heading(3, "Eigenvalues"),
-        P("Each irreducible factor is set to zero. The eigenvalues, in the order of the columns of P:"),
-        Items(tuple(items)),
-        *c.legend([e.value for e in s.entries]),
-    ]
-
-
-def _instances(c: _Ctx, instances: Any, L: str, Lp: str) -> list[Block]:
-    rows = []
-    for value, vecs in instances:
-        for k, v in enumerate(vecs, start=1):
-            sub = f"_{{{k}}}" if len(vecs) > 1 else ""
-            rows.append(
-                (Name(f"{c.fmt.root_value(value)}:\\quad v{sub}", f"{c.fmt.root_value_plain(value)}: v{sub.strip('_{}')}"), v)
-            )
-    return [P("For the individual roots:"), Eq(tuple(rows)), *c.legend([v for v, _ in instances])] if rows else []
-
-
-def _eigenvector(s: Any, c: _Ctx) -> list[Block]:
-    L, Lp = c.fmt.m(s.lam), c.fmt.plain(s.lam)
-    if s.root_of is None:
-        head: list[Block] = [
-            Heading(3, f"Eigenvectors for {Lp} = {c.fmt.root_value_plain(s.eigenvalue)}"),
-            P("The eigenvectors for ", Math(sp.Eq(s.lam, s.eigenvalue, evaluate=False)),
-              f" (algebraic multiplicity {s.algebraic}) span the null space of A - {Lp} I, found by row reduction."),
-        ]
-    else:
-        head = [
-            Heading(3, f"Eigenvectors for the roots of q({Lp})"),
-            P(f"For each root {Lp} of ", Math(sp.Eq(s.root_of, 0)),
-              " the computation is the same, so it is done once for a generic root."),
-        ]
-    cols = lambda idx: ", ".join(str(int(i) + 1) for i in idx) or "none"  # noqa: E731
-    basis = tuple(
-        (Name(f"v_{{{k}}}" if len(s.basis) > 1 else "v", f"v_{k}" if len(s.basis) > 1 else "v"), v)
-        for k, v in enumerate(s.basis, start=1)
-    )
-    out = head + [
-        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
-        _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
-        P(f"Pivot columns {cols(s.pivots)}; free columns {cols(s.free)}. Each free unknown set to one in turn gives the basis:"),
-        Eq(basis),
-    ]
-    if s.root_of is not None:
-        out += _instances(c, s.instances, L, Lp)
-    return out
-
-
-def _jordan_chain(s: Any, c: _Ctx) -> list[Block]:
-    L, Lp = c.fmt.m(s.lam), c.fmt.plain(s.lam)
-    where = c.fmt.root_value_plain(s.eigenvalue) if s.root_of is None else f"each root of q({Lp})"
-    out: list[Block] = [
-        Heading(3, f"Jordan chain for {Lp} = {where}"),
-        P(f"Algebraic multiplicity {s.algebraic} but {s.geometric} independent eigenvector(s): A is not diagonalizable. "
-          f"Generalized eigenvectors solve (A - {Lp} I) v_(k+1) = v_k."),
-    ]
-    if s.root_of is not None:
-        out.append(P("The roots are those of ", Math(sp.Eq(s.root_of, 0)), "; the chain is computed once for a generic root."))
-    out.append(_mat(f"A - {L} I", f"A - {Lp} I", s.shifted))
-    for k, link in enumerate(s.links, start=1):
-        out += [
-            P(f"For v_{k + 1}: right side v_{k}; the augmented matrix reduces to"),
-            _mat(rf"\operatorname{{rref}}[A - {L} I \mid v_{{{k}}}]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
-            _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
-        ]
-    out.append(Eq(tuple((N(f"v_{{{k}}}", f"v_{k}"), v) for k, v in enumerate(s.vectors, start=1))))
-    if s.root_of is not None:
-        out += _instances(c, s.instances, L, Lp)
-    return out
-
-
-def _modal_matrix(s: Any, c: _Ctx) -> list[Block]:
-    name = "D" if s.diagonal else "J"
-    out: list[Block] = [
-        Heading(3, "Modal matrix"),
-        P("The eigenvectors" + ("" if s.diagonal else " and chain vectors") + f" are the columns of P, in the order of the diagonal of {name}."),
-        _mat("P", "P", s.P),
-        _mat(name, name, s.D),
-    ]
-    if not s.diagonal:
-        out.append(Items(tuple((Math(v), f": Jordan block of size {k}") for v, k in s.blocks)))
-    return out
-
-
-def _inverse(s: Any, c: _Ctx) -> list[Block]:
-    return [
-        Heading(3, "Inverse of the modal matrix"),
-        P("det P = ", Math(s.det), f", not zero, so P is invertible (method: {s.method}):"),
-        _mat("P^{-1}", "P^-1", s.P_inv),
-    ]
-
-
-def _similarity(s: Any, c: _Ctx) -> list[Block]:
-    verdict = "This equals A: the decomposition holds exactly." if s.ok else "This does NOT equal A: the decomposition is wrong."
-    out: list[Block] = [
-        Heading(3, "Check of the decomposition"),
-        P("The product is multiplied out and compared with A before it is used:"),
-        _mat(r"P\,D\,P^{-1}", "P D P^-1", s.product),
-        P(verdict),
-    ]
-    if not s.ok:
-        out.append(_mat("A", "A", s.A))
-    return out
-
-
-def _decouple(s: Any, c: _Ctx) -> list[Block]:
-    y = sp.ImmutableMatrix([[v] for v in s.y])
-    rhs = s.D * y + s.g
-    return [
-        Heading(3, "Decoupling"),
-        P("With x = P y and multiplying by P^-1: y' = D y + g, where g = P^-1 f:"),
-        _mat(f"g({c.fmt.m(s.t)})", f"g({c.fmt.plain(s.t)})", s.g),
-        Eq(tuple((c.fn(s.y[k], "'"), rhs[k]) for k in range(len(s.y)))),
-    ]
-
-
-def _scalar(s: Any, c: _Ctx) -> list[Block]:
-    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
-    yp = c.fmt.plain(s.y)
-    head = Heading(3, f"Solution for {yp}")
-    if s.conjugate_of is not None:
-        return [
-            head,
-            P("The eigenvalue ", Math(s.eigenvalue), " is the conjugate of an earlier one; for real data the solution is the conjugate one:"),
-            Eq(((c.fn(s.y), s.solution),)),
-        ]
-    out: list[Block] = [
-        head,
-        P("Equation with eigenvalue ", Math(s.eigenvalue), ":"),
-        Eq(((c.fn(s.y, "'"), s.eigenvalue * s.y + s.rhs),)),
-    ]
-    if s.coupling is not None:
-        out.append(P("The next component of the Jordan block enters as forcing: ", Math(sp.Eq(s.coupling, s.coupling_value, evaluate=False)), "."))
-    out += [
-        P("Integrating factor (it makes the left side the exact derivative of mu y):"),
-        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor), (N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand))),
-    ]
-    if s.resonant:
-        out.append(P("Resonance: the forcing has the eigenvalue's exponent, so a polynomial factor appears."))
-    if c.solution.system.is_ivp:
-        lhs = N(rf"\int_{{{c.fmt.m(s.t0)}}}^{{{T}}} \mu\,h\,d{T}", f"integral from {c.fmt.plain(s.t0)} to {Tp} of mu h")
-    else:
-        lhs = N(rf"\int \mu\,h\,d{T}", "antiderivative of mu h")
-    out += [
-        Eq(((lhs, s.integral),)),
-        P("Dividing by mu, with the constant ", Math(s.constant), ":"),
-        Eq(((c.fn(s.y), s.solution),)),
-    ]
-    return out
-
-
-def _recombine(s: Any, c: _Ctx) -> list[Block]:
-    terms = tuple((Math(f), " times ", Math(v)) for f, v in s.homogeneous_terms)
-    return [
-        Heading(3, "Recombination"),
-        P("x = P y: each y_k multiplies column k of P. The terms with constants form the homogeneous part:"),
-        Items(terms),
-        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
-        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
-    ]
-
-
-def _real_form(s: Any, c: _Ctx) -> list[Block]:
-    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
-    out: list[Block] = [
-        Heading(3, "Real form"),
-        P("A and f are real, so each complex pair is rewritten with real functions and real constants."),
-    ]
-    for p in s.pairs:
-        out += [
-            P("Pair ", Math(p.re), " +- ", Math(p.im), f" {c.fmt.style.imaginary_unit} (from ", Math(p.eigenvalue), "):"),
-            Eq((
-                (N(r"\operatorname{Re} v", "Re v"), p.vector_re),
-                (N(r"\operatorname{Im} v", "Im v"), p.vector_im),
-                (N(rf"\operatorname{{Re}}(v e^{{\lambda {T}}})", f"Re(v exp(lambda {Tp}))"), p.real_part),
-                (N(rf"\operatorname{{Im}}(v e^{{\lambda {T}}})", f"Im(v exp(lambda {Tp}))"), p.imag_part),
-            )),
-            P("Complex constants ", Math(sp.Tuple(*p.complex_constants)), " replaced by real constants ", Math(sp.Tuple(*p.real_constants)), "."),
-        ]
-    out += [_mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous), _mat(r"x^{\mathrm{p}}", "x_p", s.particular)]
-    return out
-
-
-def _initial_values(s: Any, c: _Ctx) -> list[Block]:
-    return [
-        Heading(3, "Constants from the initial values"),
-        P("Setting t = ", Math(s.t0), " and equating to x0 gives M c = r for the constants ", Math(sp.Tuple(*s.constants)), ":"),
-        Eq(((N("x_0", "x0"), s.x0), (N("M", "M"), s.matrix), (N("r", "r"), s.rhs))),
-        Eq(tuple((N(c.fmt.m(k), c.fmt.plain(k)), v) for k, v in s.values)),
-    ]
-
-
-def _result(s: Any, c: _Ctx) -> list[Block]:
-    lead = "General solution, free constants " if s.constants else "With the constants substituted:"
-    parts: list[Inline] = [lead]
-    if s.constants:
-        parts += [Math(sp.Tuple(*s.constants)), ":"]
-    return [Heading(3, "Collected result"), Para(tuple(parts)), Eq(c.state_rows(s.x))]
-
-
-def _interval(s: Any, c: _Ctx) -> list[Block]:
-    T, Tp = c.fmt.m(s.t), c.fmt.plain(s.t)
-    a, ap = c.fmt.m(s.start), c.fmt.plain(s.start)
-    end = "infinity" if s.end is None else c.fmt.plain(s.end)
-    origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
-    how = (
-        "The forcing is an exponential polynomial here: each decoupled equation is solved by its integrating factor from the start of the interval:"
-        if s.method == "closed form"
-        else "The forcing has no closed-form rule here: each decoupled equation is solved in convolution form (next):"
-    )
-    out: list[Block] = [
-        Heading(3, f"Interval {s.index}: {ap} <= {Tp} < {end}"),
-        P("Every step, pulse and piecewise branch has a fixed value on this interval, so the forcing and its decoupled form g = P^-1 f are:"),
-        _mat(f"f({T})", f"f({Tp})", s.f),
-        _mat(f"g({T})", f"g({Tp})", s.g),
-        P(f"It starts from {origin} (with any jump at {Tp} = {ap} applied), and y = P^-1 x there:"),
-        _mat(f"x({a})", f"x({ap})", s.x_start),
-        _mat(f"y({a})", f"y({ap})", s.y_start),
-        P(how),
-        _mat(f"y({T})", f"y({Tp})", s.y),
-        P("With x = P y, on this interval:"),
-        Eq(c.state_rows(s.x)),
-    ]
-    if s.x_end is not None:
-        out += [P("The state at the end, handed to the next interval:"), _mat(f"x({c.fmt.m(s.end)})", f"x({end})", s.x_end)]
-    else:
-        out.append(P("This interval has no end: the solution above holds for all later times."))
-    return out
-
-
-def _jump(s: Any, c: _Ctx) -> list[Block]:
-    a, ap = c.fmt.m(s.at), c.fmt.plain(s.at)
-    Tp = c.fmt.plain(s.t)
-    return [
-        Heading(3, f"Impulse at {Tp} = {ap}"),
-        P(f"The forcing contains b delta({Tp} - {ap}). Integrating x' = A x + f across {Tp} = {ap}, only the impulse contributes, so the state jumps by b:"),
-        _mat("b", "b", s.weight),
-        _mat(f"x({a}^{{-}})", f"x({ap}-)", s.before),
-        _mat(f"x({a}^{{+}})", f"x({ap}+)", s.after),
-    ]
-
-
-def _convolution(s: Any, c: _Ctx) -> list[Block]:
-    yp = c.fmt.plain(s.y)
-    out: list[Block] = [
-        Heading(3, f"Convolution form for {yp}"),
-        P("The equation with eigenvalue ", Math(s.eigenvalue), " and decoupled forcing g = ", Math(s.g),
-          " has no closed-form rule for the integrating-factor integral, so the solution is the convolution:"),
-        Eq(((c.fn(s.y), s.written),)),
-        P("Splitting e^(lambda (t - s)) at t0, it combines integrals whose integrands do not contain t:"),
-    ]
-    for integral, value in s.integrals:
-        if value == integral:
-            out += [Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), integral),)),
-                    P("No closed form found within the time limit: kept as a definite integral, evaluated by quadrature in the numeric check.")]
-        else:
-            out.append(Eq(((N(c.fmt.m(integral), c.fmt.plain(integral)), value),)))
-    out += [P("With these:"), Eq(((c.fn(s.y), s.solution),))]
-    return out
-
-
-def _steady_state(s: Any, c: _Ctx) -> list[Block]:
-    basis = "decided exactly" if s.stability == "exact" else "decided at the given parameter values"
-    since = f", for the input from {c.fmt.plain(s.t)} = {c.fmt.plain(s.since)} on" if s.since is not None else ""
-    out: list[Block] = [
-        Heading(3, "Steady state and transient"),
-        P(f"Every eigenvalue has a negative real part ({basis}): the free response decays and the solution tends to the steady state{since}."),
-    ]
-    if s.constant is not None:
-        out += [P("For the constant part f0 of the input, x_ss = -A^-1 f0:"), _mat("f_0", "f0", s.constant), _mat("-A^{-1} f_0", "-A^-1 f0", s.x_constant)]
-    if s.omega is not None:
-        j = c.fmt.style.imaginary_unit
-        out += [
-            P(f"The sinusoidal part is Re(F e^({j} omega t)) with omega = ", Math(s.omega), f"; X = ({j} omega I - A)^-1 F:"),
-            _mat("F", "F", s.phasor_in),
-            _mat("X", "X", s.phasor),
-            P("Each state oscillates as |X_k| cos(omega t + arg X_k):"),
-            Items(tuple(
-                (Math(state), ": amplitude ", Math(amp), f" (~ {c.fmt.decimal(amp, latex=False)})" if c.fmt.decimal(amp, latex=False) else "",
-                 ", phase ", Math(ph), f" rad (~ {c.fmt.decimal(ph, latex=False)})" if c.fmt.decimal(ph, latex=False) else " rad")
-                for state, amp, ph in zip(c.solution.system.states, s.amplitude, s.phase)
-            )),
-        ]
-    out += [
-        P("Steady state and transient x - x_ss:"),
-        Eq(c.state_rows(s.x_ss, "ss")),
-        Eq(c.state_rows(s.transient, "tr")),
-        P("Substituting x_ss into x' = A x + f " + ("leaves a zero residual." if s.residual_zero else "does NOT leave a zero residual.")),
-    ]
-    return out
-
-
-#: Step kind -> blocks; every kind in ``derive.steps.STEP_KINDS`` has an entry.
-STEP_BLOCKS: dict[str, Callable[[Any, _Ctx], list[Block]]] = {
-    "equations": _equations,
-    "charpoly": _charpoly,
-    "eigenvalues": _eigenvalues,
-    "eigenvector": _eigenvector,
-    "jordan_chain": _jordan_chain,
-    "modal_matrix": _modal_matrix,
-    "inverse": _inverse,
-    "similarity": _similarity,
-    "decouple": _decouple,
-    "scalar": _scalar,
-    "recombine": _recombine,
-    "real_form": _real_form,
-    "initial_values": _initial_values,
-    "result": _result,
-    "interval": _interval,
-    "jump": _jump,
-    "convolution": _convolution,
-    "steady_state": _steady_state,
-}
-
-
-# ---------------------------------------------------------------------------
-# The sheet
-
-
-def _fmt_float(x: float) -> str:
-    return f"{x:.3g}"
-
-
-def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment: bool = False) -> tuple[tuple[Block, ...], MathFormatter]:
-    """The sheet's sections as blocks, with the formatter that names its roots."""
-    from .latex import parameter_assumptions, program_versions
-
-    style = style or MathStyle()
-    system = solution.system
-    case = solution.case
-    meta = case.meta if case is not None else SheetMeta()
-    ver = solution.verification
-    roots = collect_roots(solution.eigenvalues, solution.steps, solution.x, digits=style.digits)
-    fmt = MathFormatter.for_roots(roots, style=style)
-    lam = next((s.lam for s in solution.steps if isinstance(getattr(s, "lam", None), sp.Symbol)), sp.Symbol("lambda"))
-    ctx = _Ctx(solution=solution, fmt=fmt, lam=lam)
-    versions = program_versions()
-    t = system.t
-    b: list[Block] = []
-
-    if not fragment:
-        b.append(Heading(1, meta.title))
-        b.append(Items((
-            (f"Project: {meta.project or '--'}",),
-            (f"Calculation no.: {meta.calc_number or '--'}, revision {meta.revision or '--'}",),
-            (f"Subject: {meta.subject or '--'}",),
-            (f"Prepared by: {meta.prepared_by or '--'}, date {meta.date or '--'}",),
-            (f"Checked by: {meta.checked_by or '--'}, date --",),
-        )))
-    if not ver.ok:
-        b.append(Warning_(FAILED))
-
-    b.append(Heading(2, "Purpose"))
-    b.append(P(meta.purpose) if meta.purpose else P(
-        "To find x(t) for the linear system x' = A x + f(t) in closed form"
-        + (", with x(t0) = x0," if system.is_ivp else "") + " and to verify it."))
-    if meta.notes:
-        b.append(P("Notes: ", meta.notes))
-
-    b.append(Heading(2, "Inputs"))
-    b.append(Eq((
-        (N("x", "x"), sp.ImmutableMatrix([[s] for s in system.states])),
-        (N("A", "A"), system.A),
-        (N(f"f({fmt.m(t)})", f"f({fmt.plain(t)})"), system.f),
-    )))
-    if system.is_ivp:
-        b.append(Eq(((N(f"x({fmt.m(system.t0)})", f"x({fmt.plain(system.t0)})"), system.x0),)))
-    else:
-        b.append(P("No initial values: general solution with free constants."))
-    if system.equations:
-        b.append(P("Equations as written:"))
-        b.append(Items(tuple((e,) for e in system.equations)))
-    if meta.state_descriptions:
-        b.append(Items(tuple((f"{name}: {meaning}",) for name, meaning in meta.state_descriptions)))
-    if system.params:
-        rows = []
-        for p in system.params:
-            row: list[Inline] = [Math(p.symbol), " = ", Math(p.value) if p.value is not None else "(no value)"]
-            row.append(f" {p.unit}" if p.unit else "")
-            row.append(f": {p.description}" if p.description else "")
-            assumed = parameter_assumptions(p)
-            row.append(f" ({', '.join(assumed)})" if assumed else "")
-            rows.append(tuple(row))
-        b.append(P("Parameters (values used only in the numeric check):"))
-        b.append(Items(tuple(rows)))
-    src: list[tuple[Inline, ...]] = [
-        (f"Input file: {case.source}" if case and case.source else "Input file: none (Python interface)",),
-    ]
-    if case and case.source_hash:
-        src.append((f"Input SHA-256: {case.source_hash}",))
-    src += [(f"{name} {version}",) for name, version in versions]
-    b.append(Items(tuple(src)))
-
-    b.append(Heading(2, "Assumptions"))
-    assumptions: list[tuple[Inline, ...]] = [("Linear model with constant coefficients: A does not depend on t or x; f depends on t only.",)]
-    assumptions += [(a,) for a in meta.assumptions]
-    for p in system.params:
-        assumed = parameter_assumptions(p)
-        if assumed:
-            assumptions.append((Math(p.symbol), f" is taken as {' and '.join(assumed)}."))
-    b.append(Items(tuple(assumptions), numbered=True))
-    notices = tuple(dict.fromkeys((*(case.notices if case else ()), *solution.notices)))
-    if notices:
-        b.append(P("Notices from the program:"))
-        b.append(Items(tuple((n,) for n in notices)))
-
-    b.append(Heading(2, "Method"))
-    method: list[tuple[Inline, ...]] = [
-        ("Eigenvalues from det(A - lambda I) = 0; eigenvectors span the null space of A - lambda I.",),
-        ("A = P D P^-1 with the eigenvectors" + ("" if solution.is_diagonalizable else " and Jordan chains") + " as columns of P; the product is checked.",),
-        ("x = P y gives y' = D y + g with g = P^-1 f" + ("." if solution.is_diagonalizable else "; Jordan blocks are solved from the bottom row up."),),
-        ("Each y_k' = lambda_k y_k + h_k is multiplied by the integrating factor mu_k = exp(-lambda_k (t - t0)), so (mu_k y_k)' = mu_k h_k is integrated directly.",),
-        ("x = P y is recombined into homogeneous and particular parts.",),
-    ]
-    if any(s.kind == "real_form" for s in solution.steps):
-        method.append(("Complex pairs a +- i b are written in real form from Re and Im of v exp(lambda t), each with a real constant.",))
-    method.append(("Constants from x(t0) = x0." if system.is_ivp else "No initial values: the constants stay free.",))
-    method.append(("Verified by substitution into x' - A x - f, the initial values and a numeric integration.",))
-    b.append(Items(tuple(method), numbered=True))
-
-    b.append(Heading(2, "Derivation"))
-    for step in solution.steps:
-        handler = STEP_BLOCKS.get(step.kind)
-        if handler is None:
-            raise OutputError(f"no text rendering for step kind {step.kind!r}; expected one of {', '.join(STEP_BLOCKS)}", key="steps")
-        b += handler(step, ctx)
-
-    b.append(Heading(2, "Result"))
-    if not ver.ok:
-        b.append(Warning_(FAILED))
-    b.append(Eq(ctx.state_rows(solution.x)))
-    if any(e != 0 for e in solution.particular):
-        b.append(P("Homogeneous part (free response) and particular part (forced response):"))
-        b.append(Eq(ctx.state_rows(solution.homogeneous, "h")))
-        b.append(Eq(ctx.state_rows(solution.particular, "p")))
-    if solution.constants:
-        b.append(P("Arbitrary constants: ", Math(sp.Tuple(*solution.constants)), "."))
-    b += ctx.legend([solution.x])
-    if solution.conditions:
-        b.append(P("Holds under these conditions:"))
-        b.append(Items(tuple((Math(c.expr), f" {c.relation}: {c.reason}") for c in solution.conditions)))
-    else:
-        b.append(P("No condition on the parameters was needed."))
-
-    b.append(Heading(2, "Verification"))
-    checks: list[tuple[Inline, ...]] = [
-        (("Residual x' - A x - f reduces to zero" if ver.residual_zero else "Residual x' - A x - f is NOT zero") + f" (method: {ver.residual_method}): ", Math(ver.residual.T)),
-    ]
-    if ver.initial_ok is None:
-        checks.append(("Initial values: none given.",))
-    else:
-        checks.append(("Initial values x(t0) - x0 = " if ver.initial_ok else "Initial values NOT met: x(t0) - x0 = ", Math(ver.initial_residual.T if ver.initial_residual is not None else sp.Integer(0))))
-    checks.append(("P D P^-1 = A: " + ("holds" if ver.similarity_ok else "FAILS"),))
-    n = ver.numeric
-    if n is not None:
-        checks.append((
-            f"Numeric {'integration' if n.rtol is not None else 'solution'} ({n.method}) on "
-            f"[{_fmt_float(n.t_start)}, {_fmt_float(n.t_end)}], {n.points} points, "
-            + (f"rtol {_fmt_float(n.rtol)}, atol {_fmt_float(n.atol)}" if n.rtol is not None else "no tolerances (direct)")
-            + (f", the state extended by the {n.modes} mode{'' if n.modes == 1 else 's'} t^k e^(gamma t) of f" if n.modes else "")
-            + f": largest absolute gap {_fmt_float(n.max_abs_gap)}, "
-            f"largest relative gap {_fmt_float(n.max_rel_gap)}: " + ("agrees" if n.ok else "DISAGREES"),
-        ))
-    else:
-        checks.append(("Numeric integration: not run.",))
-    checks += [(note,) for note in ver.notes]
-    b.append(Items(tuple(checks), numbered=True))
-    if not ver.ok:
-        b.append(Warning_(FAILED))
-
-    b.append(Heading(2, "References"))
-    b.append(Items(tuple((r,) for r in meta.references), numbered=True) if meta.references else P("The case lists no references."))
-    b.append(Heading(2, "Caution"))
-    b.append(P(
-        f"Produced by software ({versions[0][0]} {versions[0][1]}, sympy {versions[1][1]}). It must be checked and approved "
-        "under the user's own quality procedures before use. The model (linearity, constant coefficients, parameter "
-        "values) is the user's responsibility; applicable codes and licensed practice govern its use."
-    ))
-    return tuple(b), fmt
-
-
-# ---------------------------------------------------------------------------
-# Plain text
+WIDTH = 100
 
 
 def _plain_inline(part: Inline, fmt: MathFormatter) -> str:
@@ -684,15 +28,15 @@ def _plain_inline(part: Inline, fmt: MathFormatter) -> str:
         return fmt.plain(part.obj)
     if isinstance(part, Name):
         return part.plain
-    return _squash(str(part))
+    if isinstance(part, Strong):
+        return squash(part.text) if isinstance(part.text, str) else _plain(part.text, fmt)
+    if isinstance(part, Code):
+        return squash(part.text)
+    return squash(str(part))
 
 
-def _squash(text: str) -> str:
-    """Collapse whitespace runs to one space, keeping a leading or trailing one."""
-    inner = " ".join(text.split())
-    if not inner:
-        return " " if text else ""
-    return (" " if text[0].isspace() else "") + inner + (" " if text[-1].isspace() else "")
+def _plain(parts: Sequence[Inline], fmt: MathFormatter) -> str:
+    return "".join(_plain_inline(p, fmt) for p in parts)
 
 
 def _plain_eq_rows(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> list[str]:
@@ -706,9 +50,43 @@ def _plain_eq_rows(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> list
                 out.append((lead if k == mid else " " * len(lead)) + line)
         else:
             value = fmt.plain(rhs[0] if isinstance(rhs, sp.MatrixBase) else rhs)
-            wrapped = textwrap.wrap(value, width=max(40, 100 - len(lead)), break_long_words=False, break_on_hyphens=False)
+            wrapped = textwrap.wrap(value, width=max(40, WIDTH - len(lead)), break_long_words=False, break_on_hyphens=False)
             out.append(lead + (wrapped[0] if wrapped else ""))
             out += [" " * (len(lead) + 4) + w for w in wrapped[1:]]
+    return out
+
+
+def text_table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> list[str]:
+    """Rows under a header, columns padded to their widest cell and two spaces apart.
+
+    >>> text_table(["#", "item"], [["1", "P"]])
+    ['#  item', '-  ----', '1  P']
+    """
+    widths = [max(len(h), *(len(r[k]) for r in rows)) if rows else len(h) for k, h in enumerate(header)]
+
+    def line(cells: Sequence[str]) -> str:
+        return "  ".join(c.ljust(widths[k]) for k, c in enumerate(cells)).rstrip()
+
+    return [line(header), line(["-" * w for w in widths]), *(line(r) for r in rows)]
+
+
+def figure_lines(figure: Figure) -> list[str]:
+    """A figure where no picture can be drawn: its caption and the range of each curve.
+
+    >>> from derive.documents.blocks import N, Series
+    >>> figure_lines(Figure("Response", N("t"), N("x"), (Series("x_1", ((0.0, 1.0), (2.0, 0.5))),)))
+    ['Figure: Response', '  x_1: 2 points, t from 0 to 2, x from 0.5 to 1']
+    """
+    out = [f"Figure: {squash(figure.caption)}"]
+    for s in figure.series:
+        xs = [x for x, _ in s.points]
+        ys = [y for _, y in s.points]
+        span = (
+            f", {figure.xlabel.plain} from {min(xs):.3g} to {max(xs):.3g}, {figure.ylabel.plain} from {min(ys):.3g} to {max(ys):.3g}"
+            if s.points
+            else ""
+        )
+        out.append(f"  {squash(s.label)}: {len(s.points)} points{span}")
     return out
 
 
@@ -716,31 +94,51 @@ def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
     """Blocks as plain text, 100 columns wide."""
     out: list[str] = []
     for blk in blocks:
-        if isinstance(blk, Heading):
-            text = blk.text.upper() if blk.level <= 2 else blk.text
+        if isinstance(blk, Title):
+            out += [blk.text, "=" * min(len(blk.text), WIDTH)]
+            out += textwrap.wrap("; ".join(f"{label}: {value or '--'}" for label, value in blk.fields), width=WIDTH)
+            out.append("")
+        elif isinstance(blk, Heading):
+            text = blk.plain().upper() if blk.level <= 2 else blk.plain()
             rule = {1: "=", 2: "=", 3: "-"}.get(blk.level, "-")
-            out += ["", text, rule * min(len(text), 100)]
+            out += ["", text, rule * min(len(text), WIDTH)]
         elif isinstance(blk, Para):
-            text = "".join(_plain_inline(p, fmt) for p in blk.parts)
-            out += textwrap.wrap(text, width=100, break_long_words=False) or [""]
+            if blk.parts:
+                out += textwrap.wrap(_plain(blk.parts, fmt), width=WIDTH, break_long_words=False) or [""]
         elif isinstance(blk, Eq):
             out += _plain_eq_rows(blk.rows, fmt)
+        elif isinstance(blk, MathRows):
+            out += ["  " + "   ".join([f"{r[0].plain} = {r[1].plain}", *(c.plain for c in r[2:] if c.plain)]) for r in blk.rows]
+        elif isinstance(blk, TermSum):
+            lead = f"  {blk.lhs.plain} = "
+            for k, (coeff, vec) in enumerate(blk.terms):
+                out.append((lead if k == 0 else " " * (len(lead) - 2) + "+ ") + f"({fmt.plain(coeff)}) {fmt.plain(vec)}")
         elif isinstance(blk, Items):
             for k, item in enumerate(blk.items, start=1):
                 mark = f"{k}. " if blk.numbered else "- "
-                text = "".join(_plain_inline(p, fmt) for p in item)
-                lines = textwrap.wrap(text, width=100 - len(mark), break_long_words=False) or [""]
+                lines = textwrap.wrap(_plain(item, fmt), width=WIDTH - len(mark), break_long_words=False) or [""]
                 out.append(mark + lines[0])
                 out += [" " * len(mark) + line for line in lines[1:]]
-        elif isinstance(blk, Warning_):
-            bar = "!" * (len(blk.text) + 8)
-            out += [bar, f"!!! {blk.text} !!!", bar]
+        elif isinstance(blk, Table):
+            header = [h if isinstance(h, str) else _plain(h, fmt) for h in blk.header]
+            out += text_table(header, [[_plain(cell, fmt) for cell in row] for row in blk.rows])
+        elif isinstance(blk, Alert):
+            text = _plain(blk.text, fmt)
+            bar = "!" * (len(text) + 8)
+            out += [bar, f"!!! {text} !!!", bar]
+            if blk.detail:
+                out += textwrap.wrap(_plain(blk.detail, fmt), width=WIDTH, break_long_words=False)
+        elif isinstance(blk, Figure):
+            out += figure_lines(blk)
+        elif isinstance(blk, Caution):
+            # kept on one line, so the caution can be quoted and searched for verbatim
+            out += ["", "Caution: " + squash(blk.text)]
     return "\n".join(out).strip("\n") + "\n"
 
 
 @dataclass(frozen=True)
 class TextRenderer(Renderer):
-    """The sheet as plain text (ASCII mathematics in sympy's notation).
+    """Any document as plain text (ASCII mathematics in sympy's notation).
 
     >>> TextRenderer().suffix
     '.txt'
@@ -750,7 +148,7 @@ class TextRenderer(Renderer):
     suffix: str = ".txt"
     style: MathStyle = field(default_factory=MathStyle)
 
-    def render(self, solution: Solution, *, fragment: bool = False) -> str:
-        """Plain text of the sheet; ``fragment`` leaves out the title block."""
-        blocks, fmt = sheet_blocks(solution, style=self.style, fragment=fragment)
-        return blocks_to_text(blocks, fmt)
+    def render(self, document: Any, *, fragment: bool = False) -> str:
+        """Plain text of the document; ``fragment`` leaves out the title block."""
+        layout = as_document(document).layout(style=self.style, fragment=fragment)
+        return blocks_to_text(layout.blocks, layout.fmt)

@@ -1,0 +1,608 @@
+"""The calculation sheet's derivation steps as blocks: one function per step kind.
+
+``STEP_BLOCKS`` maps every kind in ``derive.steps.STEP_KINDS`` to a function
+that describes a step of that kind in the format-neutral blocks of
+``derive.documents.blocks``.  Markdown, text and any new output format show
+a step only through this description; the LaTeX sheet has, in addition, a
+hand-set partial per kind (``templates/steps/<kind>.tex.j2``) and falls back
+to this description for a kind without one.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Callable, Sequence
+
+import sympy as sp
+
+from ..model import Solution
+from ..render.escape import tex_escape
+from ..render.printing import MathFormatter, domain_tex, root_legend_rows
+from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
+
+__all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
+
+
+@dataclass(frozen=True)
+class StepContext:
+    """What a step's block function needs besides the step: the solution and its printer."""
+
+    solution: Solution
+    fmt: MathFormatter
+    lam: sp.Symbol
+
+    @property
+    def t(self) -> sp.Symbol:
+        return self.solution.system.t
+
+    def fn(self, sym: sp.Symbol, suffix: str = "") -> Name:
+        """``y_1(t)`` (optionally ``y_1'(t)``) as a Name."""
+        return Name(
+            f"{self.fmt.m(sym)}{suffix}({self.fmt.m(self.t)})",
+            f"{self.fmt.plain(sym)}{suffix}({self.fmt.plain(self.t)})",
+        )
+
+    def m_list(self, items: Sequence[Any]) -> str:
+        """Items as LaTeX, separated by commas."""
+        return ", ".join(self.fmt.m(e) for e in items)
+
+    def plain_list(self, items: Sequence[Any]) -> str:
+        """Items as plain text, separated by commas."""
+        return ", ".join(self.fmt.plain(e) for e in items)
+
+    def root_value(self, value: Any) -> Name:
+        """An eigenvalue by its root name where it has one (``lambda_3``), else its value."""
+        return Name(self.fmt.root_value(value), self.fmt.root_value_plain(value))
+
+    def state_rows(self, vec: sp.MatrixBase, part: str = "") -> tuple[tuple[Name, Any], ...]:
+        states = self.solution.system.states
+        rows = []
+        for i in range(vec.rows):
+            mark = rf"^{{\mathrm{{{part}}}}}" if part else ""
+            pl = self.fmt.plain(states[i]) + (f"_{part}" if part else "")
+            rows.append((Name(f"{{{self.fmt.m(states[i])}}}{mark}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})"), vec[i]))
+        return tuple(rows)
+
+    def legend(self, objs: Sequence[Any]) -> list[Block]:
+        """A paragraph naming the indexed roots that occur in ``objs`` (empty when none do)."""
+        present: set[sp.Basic] = set()
+        for obj in objs:
+            items = list(obj) if isinstance(obj, (tuple, list, sp.MatrixBase)) else [obj]
+            for e in items:
+                if isinstance(e, sp.Basic):
+                    present |= e.atoms(sp.CRootOf)
+        wanted = [r for r in self.fmt.roots if r.root in present]
+        f = self.fmt
+        L, Lp = f.m(self.lam), f.plain(self.lam)
+        parts: list[Inline] = []
+        for _, group in root_legend_rows(wanted):
+            one = len(group) == 1
+            if parts:
+                parts.append(" ")
+            for k, r in enumerate(group):
+                parts += [", " if k else "", Math(r.root)]
+            poly = group[0].polynomial(self.lam)
+            parts += [
+                f" {'is a root' if one else 'are roots'} of ",
+                N(f"q({L}) = {f.m(poly)} = 0", f"q({Lp}) = {f.plain(poly)} = 0"),
+                f", which has no root in radicals of reasonable size; {'it is' if one else 'they are'} kept exact as "
+                "indexed roots (numbered in sympy's order: real roots ascending, then complex pairs), with ",
+            ]
+            for k, r in enumerate(group):
+                parts += [", " if k else "", N(rf"{f.m(r.root)} \approx {r.decimal}", f"{f.plain(r.root)} ~ {r.decimal}")]
+            parts.append(".")
+        # the LaTeX sheet keeps the line of an empty legend
+        return [Para(tuple(p for p in parts if p != ""), runs_on=True)]
+
+    def conjugate_name(self, step: Any) -> Name:
+        """The y of the scalar step whose eigenvalue ``step``'s mirrors."""
+        for other in self.solution.steps:
+            if getattr(other, "kind", "") == "scalar" and other.index == step.conjugate_of and other is not step:
+                return Name(self.fmt.m(other.y), self.fmt.plain(other.y))
+        return Name(f"y_{{{step.conjugate_of}}}", f"y_{step.conjugate_of}")
+
+
+def _mat(name: str, plain: str, M: Any) -> Eq:
+    return Eq(((Name(name, plain), M),))
+
+
+# ---------------------------------------------------------------------------
+# One function per step kind
+
+
+def _equations(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    out: list[Block] = [
+        Heading(3, "The system in matrix form"),
+        P("The equations are brought to the form ", N(rf"x' = A\,x + f({T})", f"x' = A x + f({Tp})"),
+          ": the coefficient of each state in each equation gives a row of ", N("A"),
+          ", and the terms free of the states give the forcing ", N("f"), "."),
+    ]
+    if s.equations:
+        out += [P("As written:", runs_on=True), Items(tuple((Code(e),) for e in s.equations))]
+    out += [
+        P("With the state vector ", N(f"x = ({c.m_list(s.states)})^{{T}}", f"x = ({c.plain_list(s.states)})^T"), ":"),
+        _mat("A", "A", s.A),
+        _mat(f"f({T})", f"f({Tp})", s.f),
+    ]
+    return out
+
+
+def _charpoly(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    det = N(rf"\det(A - {L} I)", f"det(A - {Lp} I)")
+    return [
+        Heading(3, "Characteristic polynomial"),
+        P("The eigenvalues are the values of ", Math(s.lam), " for which ", N(f"A - {L} I", f"A - {Lp} I"),
+          " is singular, so its determinant is formed:"),
+        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
+        # an irreducible polynomial is shown once
+        Eq(((det, s.expanded), (N(""), s.factored)) if f.m(s.factored) != f.m(s.expanded) else ((det, s.expanded),)),
+        P("Factored over ", N(domain_tex(s.domain), str(s.domain)), ", the irreducible factors and their multiplicities are:"),
+        Items(tuple((Math(factor), f", multiplicity {mult}") for factor, mult in s.factors)),
+    ]
+
+
+def _eigenvalues(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    rows = []
+    for e in s.entries:
+        dec = f.decimal(e.value) if not e.value.is_Integer else ""
+        dec_plain = f.decimal(e.value, latex=False) if dec else ""
+        rows.append((
+            N(L, Lp),
+            N(f.m(e.value), f.plain(e.value)),
+            N(rf"\approx {dec}" if dec else "", f"~ {dec_plain}" if dec else ""),
+            N(rf"\text{{mult.\ {e.algebraic} (geom.\ {e.geometric})}}", f"mult. {e.algebraic} (geom. {e.geometric})"),
+            N(rf"\text{{{tex_escape(e.form)}}}", str(e.form)),
+        ))
+    out: list[Block] = [
+        Heading(3, "Eigenvalues"),
+        P("Each irreducible factor is set to zero. The eigenvalues, in the order used for the columns of ", N("P"), ", are:"),
+        MathRows(tuple(rows)),
+    ]
+    out += [P("Form of ", Math(e.value), f": {e.rule}.", runs_on=True) for e in s.entries if e.rule]
+    out += c.legend([e.value for e in s.entries])
+    return out
+
+
+def _instances(c: StepContext, instances: Any, L: str, Lp: str, *, single: bool) -> list[Block]:
+    """The vectors of each individual root; ``single``: a root with one vector names it v, not v_1."""
+    out: list[Block] = [P("For the individual roots:", runs_on=True)]
+    for value, vecs in instances:
+        if single and len(vecs) == 1:
+            out.append(_mat(f"{L} = {c.fmt.root_value(value)}:\\quad v", f"{Lp} = {c.fmt.root_value_plain(value)}: v", vecs[0]))
+            continue
+        if single:
+            out.append(P(runs_on=True))  # the sheet keeps the empty line of a root with several vectors
+        for k, v in enumerate(vecs, start=1):
+            out.append(_mat(f"{L} = {c.fmt.root_value(value)}:\\quad v_{{{k}}}", f"{Lp} = {c.fmt.root_value_plain(value)}: v_{k}", v))
+    return out + c.legend([value for value, _ in instances])
+
+
+def _cols(idx: Any) -> str:
+    return ", ".join(str(int(i) + 1) for i in idx) or "none"
+
+
+def _eigenvector(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    shifted = N(f"A - {L} I", f"A - {Lp} I")
+    if s.root_of is None:
+        at = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}")
+        out: list[Block] = [
+            Heading(3, "Eigenvectors for ", at, "an eigenvalue"),
+            P("The eigenvectors for ", at, f" (algebraic multiplicity {s.algebraic}) span the null space of ", shifted,
+              ", found by row reduction:"),
+        ]
+    else:
+        q = N(f"q({L})", f"q({Lp})")
+        out = [
+            Heading(3, "Eigenvectors for the roots of ", q, "q"),
+            P("For each root ", N(L, Lp), " of ", N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0"),
+              " the computation is the same, so it is done once for a generic root, using ", N(f"q({L}) = 0", f"q({Lp}) = 0"),
+              " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction:"),
+        ]
+    out += [
+        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
+        _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
+        P(f"The pivot columns are {_cols(s.pivots)}; the free columns are {_cols(s.free)}. Setting each free unknown "
+          "to one in turn (and scaling to small integers) gives the basis"),
+    ]
+    many = len(s.basis) > 1
+    out += [_mat(f"v_{{{k}}}" if many else "v", f"v_{k}" if many else "v", v) for k, v in enumerate(s.basis, start=1)]
+    if s.root_of is not None and s.instances:
+        out += _instances(c, s.instances, L, Lp, single=True)
+    return out
+
+
+def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    L, Lp = f.m(s.lam), f.plain(s.lam)
+    plural = "s" if s.geometric != 1 else ""
+    if s.root_of is None:
+        at = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}")
+        out: list[Block] = [
+            Heading(3, "Jordan chain for ", at, "a defective eigenvalue"),
+            P("The eigenvalue ", at, f" has algebraic multiplicity {s.algebraic} but only {s.geometric} independent "
+              f"eigenvector{plural}, so ", N("A"), " is not diagonalizable."),
+        ]
+    else:
+        out = [
+            Heading(3, "Jordan chains for the roots of ", N(f"q({L})", f"q({Lp})"), "q"),
+            P("For each root ", N(L, Lp), " of ", N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0"),
+              f" the algebraic multiplicity is {s.algebraic} but there {'is' if s.geometric == 1 else 'are'} only "
+              f"{s.geometric} independent eigenvector{plural}; the chain is computed once for a generic root."),
+        ]
+    out += [
+        P("A chain of generalized eigenvectors completes the basis: each solves ",
+          N(rf"(A - {L} I)\,v_{{k+1}} = v_k", f"(A - {Lp} I) v_(k+1) = v_k"), ", starting from the eigenvector ", N("v_1"), ".",
+          runs_on=True),
+        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
+    ]
+    for k, link in enumerate(s.links, start=1):
+        out += [
+            P("For ", N(f"v_{{{k + 1}}}", f"v_{k + 1}"), ": the right side is ",
+              N(f"v_{{{k}}} = {f.m(link.rhs.T)}^{{T}}", f"v_{k} = {f.plain(link.rhs.T)}^T"), " and the augmented matrix reduces to"),
+            _mat(rf"\operatorname{{rref}}\bigl[A - {L} I \mid v_{{{k}}}\bigr]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
+            P("so that (free unknowns set to zero)"),
+            _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
+        ]
+    out.append(P("The chain:"))
+    out += [_mat(f"v_{{{k}}}", f"v_{k}", v) for k, v in enumerate(s.vectors, start=1)]
+    if s.root_of is not None and s.instances:
+        out += _instances(c, s.instances, L, Lp, single=False)
+    return out
+
+
+def _modal_matrix(s: Any, c: StepContext) -> list[Block]:
+    name = "D" if s.diagonal else "J"
+    out: list[Block] = [
+        Heading(3, "Modal matrix"),
+        P("The " + ("eigenvectors" if s.diagonal else "eigenvectors and chain vectors") + " are placed as the columns of ",
+          N("P"), ", in the order of the eigenvalues on the diagonal of ", N(name), ":"),
+        _mat("P", "P", s.P),
+        _mat(name, name, s.D),
+    ]
+    if not s.diagonal:
+        out += [
+            P("The Jordan blocks, in order:"),
+            Items(tuple((c.root_value(v), f", block of size {k}") for v, k in s.blocks)),
+        ]
+    return out
+
+
+def _inverse(s: Any, c: StepContext) -> list[Block]:
+    return [
+        Heading(3, "Inverse of the modal matrix"),
+        P("The decoupling needs ", N("P^{-1}", "P^-1"), ". Since ",
+          N(rf"\det P = {c.fmt.m(s.det)} \neq 0", f"det P = {c.fmt.plain(s.det)} != 0"),
+          " the columns of ", N("P"), f" are independent and the inverse exists (method: {s.method}):"),
+        _mat("P^{-1}", "P^-1", s.P_inv),
+    ]
+
+
+def _similarity(s: Any, c: StepContext) -> list[Block]:
+    out: list[Block] = [
+        Heading(3, "Check of the decomposition"),
+        P("Before the decomposition is used, the product is multiplied out and compared with ", N("A"), ":"),
+        _mat(r"P\,D\,P^{-1}", "P D P^-1", s.product),
+    ]
+    if s.ok:
+        out.append(P("This equals ", N("A"), " entry by entry, so ", N(r"A = P\,D\,P^{-1}", "A = P D P^-1"), " holds exactly."))
+    else:
+        out += [
+            P(Strong(("This does not equal ", N("A"), ":")), " the decomposition is wrong and the result below must not be used."),
+            _mat("A", "A", s.A),
+        ]
+    return out
+
+
+def _decouple(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    y = sp.ImmutableMatrix([[v] for v in s.y])
+    rhs = s.D * y + s.g
+    return [
+        Heading(3, "Decoupling"),
+        P("Substituting ", N(r"x = P\,y", "x = P y"), " into ", N(r"x' = A\,x + f", "x' = A x + f"), " and multiplying by ",
+          N("P^{-1}", "P^-1"), " gives ", N(r"y' = P^{-1} A P\,y + P^{-1} f = D\,y + g", "y' = P^-1 A P y + P^-1 f = D y + g"),
+          ", with ", N(f"y = ({c.m_list(s.y)})^{{T}}", f"y = ({c.plain_list(s.y)})^T"), " and the transformed forcing"),
+        _mat(f"g({T}) = P^{{-1}} f({T})", f"g({Tp}) = P^-1 f({Tp})", s.g),
+        P("Row by row, the equations to solve are:"),
+        Eq(tuple((N(f"{f.m(s.y[k])}'({T})", f"{f.plain(s.y[k])}'({Tp})"), rhs[k]) for k in range(len(s.y)))),
+    ]
+
+
+def _scalar(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    Y, Yp = f.m(s.y), f.plain(s.y)
+    T, Tp = f.m(s.t), f.plain(s.t)
+    out: list[Block] = [Heading(3, "Solution for ", N(Y, Yp), "y")]
+    if s.conjugate_of is not None:
+        other = c.conjugate_name(s)
+        return out + [
+            P("The eigenvalue ", c.root_value(s.eigenvalue), " is the complex conjugate of the one of ", other,
+              ". Since ", N("A"), " and ", N("f"), " are real, ", N(Y, Yp), " is the complex conjugate of ", other,
+              " (with its own constant ", Math(s.constant), "):"),
+            Eq(((c.fn(s.y), s.solution),)),
+        ]
+    out += [
+        P("The equation for ", N(Y, Yp), ", with eigenvalue ", c.root_value(s.eigenvalue), ", is"),
+        Eq(((N(f"{Y}'({T})", f"{Yp}'({Tp})"), s.eigenvalue * s.y + s.rhs),)),
+    ]
+    if s.coupling is not None:
+        out += [
+            P("Its forcing includes the next component of the same Jordan block, already solved, ",
+              N(f"{f.m(s.coupling)} = {f.m(s.coupling_value)}", f"{f.plain(s.coupling)} = {f.plain(s.coupling_value)}"),
+              "; with ", N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"), " the right side is"),
+            Eq(((N(f"h({T})", f"h({Tp})"), s.rhs),)),
+        ]
+    out += [
+        P("Multiplying by the integrating factor"),
+        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor),)),
+        P("makes the left side an exact derivative, ",
+          N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,h", f"d/d{Tp} (mu {Yp}) = mu h"), ", with"),
+        Eq(((N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand),)),
+    ]
+    if s.resonant:
+        out.append(P("The forcing has the same exponent as the eigenvalue (resonance): the exponentials cancel in the "
+                     "integrand, and the integral brings a polynomial factor in ", N(T, Tp), "."))
+    if c.solution.system.is_ivp:
+        t0, t0p = f.m(s.t0), f.plain(s.t0)
+        out += [
+            P("Integrating from ", N(f"{T}_0 = {t0}", f"{Tp}0 = {t0p}"), " to ", N(T, Tp), ":", runs_on=True),
+            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu\,h \, d{T}", f"integral from {t0p} to {Tp} of mu h"), s.integral),)),
+        ]
+    else:
+        out += [P("An antiderivative is", runs_on=True), Eq(((N(rf"\int \mu\,h \, d{T}", "antiderivative of mu h"), s.integral),))]
+    out += [
+        P("Dividing by ", N(r"\mu", "mu"), ", with the constant ", Math(s.constant), ":"),
+        Eq(((c.fn(s.y), s.solution),)),
+    ]
+    return out
+
+
+def _recombine(s: Any, c: StepContext) -> list[Block]:
+    return [
+        Heading(3, "Recombination"),
+        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
+          "-th column of ", N("P"), ". The terms carrying the constants form the homogeneous part,"),
+        TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
+        P("that is,"),
+        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
+        P("and the remaining terms the particular part,"),
+        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
+    ]
+
+
+def _real_form(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    j = f.style.imaginary_unit
+    re_v = rf"\operatorname{{Re}}\bigl(v e^{{\lambda {T}}}\bigr)"
+    im_v = rf"\operatorname{{Im}}\bigl(v e^{{\lambda {T}}}\bigr)"
+    out: list[Block] = [
+        Heading(3, "Real form"),
+        P(N("A"), " and ", N("f"), " are real, so each complex pair of terms is rewritten with real functions and real constants."),
+    ]
+    for p in s.pairs:
+        c1, c2 = p.real_constants[0], p.real_constants[1]
+        out += [
+            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"lambda = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
+              " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
+              N(rf"v = \operatorname{{Re}} v + {j} \operatorname{{Im}} v", f"v = Re v + {j} Im v"), ":", runs_on=True),
+            _mat(r"\operatorname{Re} v", "Re v", p.vector_re),
+            _mat(r"\operatorname{Im} v", "Im v", p.vector_im),
+            P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(lambda {Tp})"), " are two real solutions:"),
+            _mat(re_v, f"Re(v exp(lambda {Tp}))", p.real_part),
+            _mat(im_v, f"Im(v exp(lambda {Tp}))", p.imag_part),
+            P("The complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
+              " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
+              ", the pair contributing ",
+              N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(lambda {Tp})) + {f.plain(c2)} Im(v exp(lambda {Tp}))"), "."),
+        ]
+    out += [
+        P("In real form:", runs_on=True),
+        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
+        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
+    ]
+    return out
+
+
+def _initial_values(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    t = c.solution.system.t
+    return [
+        Heading(3, "Constants from the initial values"),
+        P("Setting ", N(f"{f.m(t)} = {f.m(s.t0)}", f"{f.plain(t)} = {f.plain(s.t0)}"),
+          " in the general solution and equating it to ", N("x_0", "x0"), " gives a linear system ", N(r"M\,c = r", "M c = r"),
+          " for the constants ", N(f"c = ({c.m_list(s.constants)})^{{T}}", f"c = ({c.plain_list(s.constants)})^T"), ":"),
+        _mat("x_0", "x0", s.x0),
+        _mat("M", "M", s.matrix),
+        _mat("r", "r", s.rhs),
+        P("Its solution:"),
+        Eq(tuple((N(f.m(k), f.plain(k)), v) for k, v in s.values)),
+    ]
+
+
+def _result(s: Any, c: StepContext) -> list[Block]:
+    lead = (
+        P("The general solution, with the free constants ", N(c.m_list(s.constants), c.plain_list(s.constants)), ", is")
+        if s.constants
+        else P("Substituting the constants gives")
+    )
+    return [
+        Heading(3, "Collected result"),
+        lead,
+        Eq(c.state_rows(s.x)),
+        P("This is the result stated, with its parts, in the Result section."),
+    ]
+
+
+def _interval(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    a, ap = f.m(s.start), f.plain(s.start)
+    end, endp = (r"\infty", "infinity") if s.end is None else (f.m(s.end), f.plain(s.end))
+    origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
+    how = (
+        P("The forcing is an exponential polynomial here, so each decoupled equation is solved by its integrating factor "
+          "with the integral taken from ", Math(s.start), " to ", N(T, Tp), ", which gives")
+        if s.method == "closed form"
+        else P("The forcing has no closed-form rule here; each decoupled equation is solved in convolution form (shown next), which gives")
+    )
+    out: list[Block] = [
+        Heading(3, f"Interval {s.index}: ", N(rf"{a} \le {T} < {end}", f"{ap} <= {Tp} < {endp}"), f"interval {s.index}"),
+        P("On this interval every step, pulse and piecewise branch of the input has a fixed value, so the forcing is"),
+        _mat(f"f({T})", f"f({Tp})", s.f),
+        P("and, decoupled with ", N("g = P^{-1} f", "g = P^-1 f"), ","),
+        _mat(f"g({T})", f"g({Tp})", s.g),
+        P(f"The interval starts from {origin} (with any jump at ", N(f"{T} = {a}", f"{Tp} = {ap}"), " applied):"),
+        _mat(f"x({a})", f"x({ap})", s.x_start),
+        P("so the decoupled equations start from ", N(rf"y({a}) = P^{{-1}}\,x({a})", f"y({ap}) = P^-1 x({ap})"), ":"),
+        _mat(f"y({a})", f"y({ap})", s.y_start),
+        how,
+        _mat(f"y({T})", f"y({Tp})", s.y),
+        P("and, with ", N(r"x = P\,y", "x = P y"), ", on this interval"),
+        Eq(c.state_rows(s.x)),
+    ]
+    if s.x_end is not None:
+        out += [
+            P("At ", N(f"{T} = {end}", f"{Tp} = {endp}"), " the state, handed to the next interval, is"),
+            _mat(f"x({end})", f"x({endp})", s.x_end),
+        ]
+    else:
+        out.append(P("This interval has no end: the solution above holds for all later times."))
+    return out
+
+
+def _jump(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    a, ap = f.m(s.at), f.plain(s.at)
+    return [
+        Heading(3, "Impulse at ", N(f"{T} = {a}", f"{Tp} = {ap}"), "the switch"),
+        P("The forcing contains an impulse ", N(rf"b\,\delta({T} - {a})", f"b delta({Tp} - {ap})"), " with"),
+        _mat("b", "b", s.weight),
+        P("Integrating ", N(r"x' = A\,x + f", "x' = A x + f"), " over a vanishing interval around ", N(f"{T} = {a}", f"{Tp} = {ap}"),
+          ", only the impulse contributes, so the state jumps by ", N("b"), ":"),
+        _mat(f"x({a}^{{-}})", f"x({ap}-)", s.before),
+        _mat(f"x({a}^{{+}}) = x({a}^{{-}}) + b", f"x({ap}+) = x({ap}-) + b", s.after),
+    ]
+
+
+def _convolution(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    S, Sp = f.m(s.s), f.plain(s.s)
+    t0, t0p = f.m(s.t0), f.plain(s.t0)
+    out: list[Block] = [
+        Heading(3, "Convolution form for ", N(f.m(s.y), f.plain(s.y)), "y"),
+        P("The equation for ", Math(s.y), ", with eigenvalue ", c.root_value(s.eigenvalue), " and decoupled forcing ",
+          N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"),
+          ", has no closed-form rule for the integral of the integrating factor, so its solution is written as a "
+          "convolution (the free part plus the response to the input from ", Math(s.t0), " to ", N(T, Tp), "):"),
+        Eq(((c.fn(s.y), s.written),)),
+        P("Since ", N(rf"e^{{\lambda({T} - {S})}} = e^{{\lambda({T} - {t0})}}\,e^{{-\lambda({S} - {t0})}}",
+                      f"exp(lambda ({Tp} - {Sp})) = exp(lambda ({Tp} - {t0p})) exp(-lambda ({Sp} - {t0p}))"),
+          ", the convolution is a combination of integrals whose integrands do not contain ", N(T, Tp), ":"),
+    ]
+    for integral, value in s.integrals:
+        out.append(Eq(((N(f.m(integral), f.plain(integral)), value),)))
+        if value == integral:
+            out.append(P("no closed form was found within the time limit: it is kept as a definite integral and "
+                         "evaluated by quadrature in the numeric check."))
+    out += [P("With these,", runs_on=True), Eq(((c.fn(s.y), s.solution),))]
+    return out
+
+
+def _steady_state(s: Any, c: StepContext) -> list[Block]:
+    f = c.fmt
+    T, Tp = f.m(s.t), f.plain(s.t)
+    j = f.style.imaginary_unit
+    basis = "decided exactly" if s.stability == "exact" else "decided at the given parameter values"
+    since: tuple[Inline, ...] = (", here the input from ", N(f"{T} = {f.m(s.since)}", f"{Tp} = {f.plain(s.since)}"), " on") if s.since is not None else ()
+    out: list[Block] = [
+        Heading(3, "Steady state and transient"),
+        P(f"Every eigenvalue has a negative real part ({basis}), so the free response decays and the solution tends to "
+          "the steady state, the particular solution of the form of the input", *since, "."),
+    ]
+    if s.constant is not None:
+        out += [
+            P("For the constant part ", N("f_0", "f0"), " of the input, ", N(r"x_{\mathrm{ss}}' = 0", "x_ss' = 0"), " gives ",
+              N(r"x_{\mathrm{ss}} = -A^{-1} f_0", "x_ss = -A^-1 f0"), ":", runs_on=True),
+            _mat("f_0", "f0", s.constant),
+            _mat("-A^{-1} f_0", "-A^-1 f0", s.x_constant),
+        ]
+    if s.omega is not None:
+        def approx(value: Any) -> tuple[str, str]:
+            dec = f.decimal(value)
+            if dec and not value.is_Rational:
+                return rf" \approx {dec}", f" ~ {f.decimal(value, latex=False)}"
+            return "", ""
+
+        rows = []
+        for state, amp, ph in zip(c.solution.system.states, s.amplitude, s.phase):
+            a_tex, a_plain = approx(amp)
+            p_tex, p_plain = approx(ph)
+            rows.append((
+                (Math(state),),
+                (N(f.m(amp) + a_tex, f.plain(amp) + a_plain),),
+                (N(f.m(ph) + p_tex, f.plain(ph) + p_plain),),
+            ))
+        out += [
+            P("The sinusoidal part is ", N(rf"\operatorname{{Re}}(F\,e^{{{j} \omega {T}}})", f"Re(F exp({j} omega {Tp}))"),
+              " with ", N(rf"\omega = {f.m(s.omega)}", f"omega = {f.plain(s.omega)}"), "; trying ",
+              N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} omega {Tp}))"), " gives ",
+              N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} omega I - A)^-1 F"), ":", runs_on=True),
+            _mat("F", "F", s.phasor_in),
+            _mat("X", "X", s.phasor),
+            P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(omega {Tp} + arg X_k)"), ":"),
+            Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"),
+        ]
+    out += [
+        P("The steady state and the transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), ", which decays:", runs_on=True),
+        Eq(c.state_rows(s.x_ss, "ss")),
+        Eq(c.state_rows(s.transient, "tr")),
+        P("Substituting ", N(r"x_{\mathrm{ss}}", "x_ss"), " into ", N(r"x' = A\,x + f", "x' = A x + f"),
+          *((" leaves a zero residual.",) if s.residual_zero else (" does ", Strong("not"), " leave a zero residual."))),
+    ]
+    return out
+
+
+#: Step kind -> blocks; every kind in ``derive.steps.STEP_KINDS`` has an entry.
+STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
+    "equations": _equations,
+    "charpoly": _charpoly,
+    "eigenvalues": _eigenvalues,
+    "eigenvector": _eigenvector,
+    "jordan_chain": _jordan_chain,
+    "modal_matrix": _modal_matrix,
+    "inverse": _inverse,
+    "similarity": _similarity,
+    "decouple": _decouple,
+    "scalar": _scalar,
+    "recombine": _recombine,
+    "real_form": _real_form,
+    "initial_values": _initial_values,
+    "result": _result,
+    "interval": _interval,
+    "jump": _jump,
+    "convolution": _convolution,
+    "steady_state": _steady_state,
+}
+
+
+
+def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
+    """The blocks of one step; ``OutputError`` names a kind that has no block function."""
+    from ..errors import OutputError
+
+    handler = STEP_BLOCKS.get(step.kind)
+    if handler is None:
+        raise OutputError(f"no rendering for step kind {step.kind!r}; expected one of {', '.join(STEP_BLOCKS)}", key="steps")
+    return handler(step, ctx)

@@ -1,0 +1,116 @@
+"""User text made safe for each output format: one escaper per format.
+
+Mathematics never passes through here (``derive.render.printing`` prints it);
+only user and program text does: titles, names, notes, file names, details.
+LaTeX text is escaped by ``tex_escape``, Markdown text by ``md_escape``, and
+plain text is only squashed (``squash``: whitespace runs become one space).
+"""
+
+from __future__ import annotations
+
+import re
+
+__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash"]
+
+
+# ---------------------------------------------------------------------------
+# User text
+
+
+_TEX_SPECIALS = {
+    "&": r"\&",
+    "%": r"\%",
+    "$": r"\$",
+    "#": r"\#",
+    "_": r"\_",
+    "{": r"\{",
+    "}": r"\}",
+    "~": r"\textasciitilde{}",
+    "^": r"\textasciicircum{}",
+    "\\": r"\textbackslash{}",
+}
+
+# pdflatex's utf8 input covers Latin-1 text; Greek letters are common in
+# engineers' descriptions ("damping ratio ζ") and would stop the run, so they
+# are set in math mode.  Anything else outside Latin-1 is shown by code point
+# rather than failing the whole sheet.
+_GREEK = {
+    "α": "alpha", "β": "beta", "γ": "gamma", "δ": "delta", "ε": "epsilon",
+    "ζ": "zeta", "η": "eta", "θ": "theta", "ι": "iota", "κ": "kappa",
+    "λ": "lambda", "μ": "mu", "ν": "nu", "ξ": "xi", "π": "pi", "ρ": "rho",
+    "σ": "sigma", "τ": "tau", "υ": "upsilon", "φ": "phi", "χ": "chi",
+    "ψ": "psi", "ω": "omega", "Γ": "Gamma", "Δ": "Delta", "Θ": "Theta",
+    "Λ": "Lambda", "Ξ": "Xi", "Π": "Pi", "Σ": "Sigma", "Φ": "Phi",
+    "Ψ": "Psi", "Ω": "Omega",
+}
+_TEXT_SYMBOLS = {
+    "–": "--", "—": "---", "‘": "`", "’": "'", "“": "``", "”": "''",
+    "…": r"\dots{}", "≤": r"\ensuremath{\leq}", "≥": r"\ensuremath{\geq}",
+    "≠": r"\ensuremath{\neq}", "≈": r"\ensuremath{\approx}",
+    "−": "-", "·": r"\ensuremath{\cdot}", "√": r"\ensuremath{\surd}",
+}
+
+
+def tex_escape(text: object) -> str:
+    """Escape user text for LaTeX: the ten specials, control characters, non-Latin-1.
+
+    Whitespace runs (including newlines) collapse to one space, so the result
+    is safe in a table cell or a header as well as in running text.
+
+    >>> tex_escape(r"50% of $x_1 \\input{a}")
+    '50\\\\% of \\\\$x\\\\_1 \\\\textbackslash{}input\\\\{a\\\\}'
+    """
+    out: list[str] = []
+    for ch in " ".join(str(text).split()):
+        if ch in _TEX_SPECIALS:
+            out.append(_TEX_SPECIALS[ch])
+        elif ch in _GREEK:
+            out.append(r"\ensuremath{\%s}" % _GREEK[ch])
+        elif ch in _TEXT_SYMBOLS:
+            out.append(_TEXT_SYMBOLS[ch])
+        elif ord(ch) < 32 or ord(ch) == 127:
+            continue
+        elif ord(ch) > 255:
+            out.append("[U+%04X]" % ord(ch))
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def tex_paragraphs(text: object) -> str:
+    """Escape user text keeping its blank-line paragraph breaks (as ``\\par``).
+
+    >>> tex_paragraphs("one\\n\\ntwo & three")
+    'one\\\\par two \\\\& three'
+    """
+    parts = [p for p in re.split(r"\n\s*\n", str(text)) if p.strip()]
+    return "\\par ".join(tex_escape(p) for p in parts)
+
+
+def squash(text: str) -> str:
+    """Collapse whitespace runs to one space, keeping a leading or trailing one.
+
+    >>> squash("  two\\n words ")
+    ' two words '
+    """
+    inner = " ".join(text.split())
+    if not inner:
+        return " " if text else ""
+    return (" " if text[0].isspace() else "") + inner + (" " if text[-1].isspace() else "")
+
+
+# Enough to stop emphasis, links, HTML, tables, headings and math; "." and
+# "-" matter only at the start of a line, which user text never is here.
+_MD_SPECIALS = re.compile(r"([\\`*_{}\[\]#|<>$~^])")
+
+
+def md_escape(text: object) -> str:
+    """Escape user text for Markdown (every punctuation mark with a meaning).
+
+    Whitespace runs (newlines too) collapse to one space, so the result is
+    safe in a table cell as well as in running text.
+
+    >>> md_escape("x_1 <b>*")
+    'x\\\\_1 \\\\<b\\\\>\\\\*'
+    """
+    return _MD_SPECIALS.sub(r"\\\1", squash(str(text)))

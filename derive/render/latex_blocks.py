@@ -1,0 +1,165 @@
+"""Blocks as LaTeX: the generic LaTeX rendering of any document.
+
+The layout of each block kind is in ``templates/blocks.tex.j2`` (one macro
+per kind); this module gives that template the few functions that print a
+block's parts: inline text and mathematics, displayed equations and the
+column specification of a table.  User text goes through ``tex_escape``,
+mathematics through the document's ``MathFormatter``.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any, Callable, Sequence
+
+import sympy as sp
+
+from ..errors import OutputError
+from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Para, Strong, Table
+from .escape import tex_escape
+from .printing import MathFormatter
+from .templating import get_template
+
+__all__ = ["blocks_latex", "block_helpers", "tex_text", "figure_latex", "FIGURE_PREAMBLE"]
+
+#: What a document with a figure adds to its preamble (pinned compat level, for reproducible builds).
+FIGURE_PREAMBLE = "\\usepackage{pgfplots}\n\\pgfplotsset{compat=1.18}"
+
+# \path typesets these verbatim and breaks long ones at / . - _; only text of
+# those safe characters goes there, anything else is escaped into \texttt.
+_PATH_SAFE = re.compile(r"[A-Za-z0-9][A-Za-z0-9._/-]*")
+
+
+def tex_text(text: str) -> str:
+    """``tex_escape`` keeping one leading and one trailing space (inline text joins its neighbours).
+
+    >>> tex_text(" 50% of ")
+    ' 50\\\\% of '
+    """
+    inner = tex_escape(text)
+    if not inner:
+        return " " if text else ""
+    return (" " if text[:1].isspace() else "") + inner + (" " if text[-1:].isspace() else "")
+
+
+def _inline_part(part: Inline, fmt: MathFormatter) -> str:
+    if isinstance(part, Math):
+        return f"${fmt.m(part.obj)}$"
+    if isinstance(part, Name):
+        return f"${part.latex}$"
+    if isinstance(part, Strong):
+        inner = tex_text(part.text) if isinstance(part.text, str) else "".join(_inline_part(p, fmt) for p in part.text)
+        return r"\textbf{%s}" % inner
+    if isinstance(part, Code):
+        if part.breakable and _PATH_SAFE.fullmatch(part.text):
+            return r"\path{%s}" % part.text
+        return r"\texttt{%s}" % tex_escape(part.text)
+    return tex_text(str(part))
+
+
+def _display(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> str:
+    """Displayed equations: consecutive scalar rows aligned in one display, each matrix in its own."""
+    out: list[str] = []
+    scalars: list[tuple[str, Any]] = []
+    for name, rhs in rows:
+        if isinstance(rhs, sp.MatrixBase):
+            if scalars:
+                out.append(fmt.display(scalars))
+                scalars = []
+            out.append(fmt.matrix_display(name.latex, rhs))
+        else:
+            scalars.append((name.latex, rhs))
+    if scalars:
+        out.append(fmt.display(scalars))
+    return "\n".join(out)
+
+
+def _mathrows(rows: Sequence[Sequence[Name]]) -> str:
+    lines = [f"{r[0].latex} &= {r[1].latex}" + "".join(f" && {c.latex}" for c in r[2:]) for r in rows]
+    return "\\begin{align*}\n" + " \\\\\n".join(lines) + "\n\\end{align*}"
+
+
+def _termsum(block: Any, fmt: MathFormatter) -> str:
+    terms = " \\\\\n&\\quad + ".join(rf"\left({fmt.m(c)}\right) {fmt.m(v)}" for c, v in block.terms)
+    return "\\begin{align*}\n" + f"{block.lhs.latex} &= {terms}" + "\n\\end{align*}"
+
+
+def _heading(heading: Any) -> str:
+    text = tex_text(heading.text)
+    if heading.math is None:
+        return text.strip()
+    bookmark = tex_escape(heading.bookmark or heading.math.plain)
+    return r"%s\texorpdfstring{$%s$}{%s}" % (text, heading.math.latex, bookmark)
+
+
+def _colspec(table: Table) -> str:
+    cols = []
+    for k in range(len(table.header)):
+        width = table.column_width(k)
+        if width is not None:
+            cols.append(r">{\raggedright\arraybackslash}p{%.2f\textwidth}" % width)
+        else:
+            cols.append(table.column_align(k))
+    return "@{}" + "".join(cols) + "@{}"
+
+
+def figure_latex(figure: Figure) -> str:
+    """A figure as a pgfplots axis inside a TikZ picture, built with pylatex.
+
+    pylatex escapes text by default; the labels are program-made math
+    (``Name.latex``) or escaped here, so they go in as ``NoEscape``, and the
+    axis options are one raw string with the braced labels.
+    """
+    from pylatex import Axis, Plot, TikZ
+    from pylatex.utils import NoEscape
+
+    options = (
+        r"width=0.85\textwidth, height=0.4\textwidth, grid=major, "
+        r"legend pos=north east, legend cell align=left, "
+        f"xlabel={{${figure.xlabel.latex}$}}, ylabel={{${figure.ylabel.latex}$}}"
+    )
+    axis = Axis(options=NoEscape(options))
+    for series in figure.series:
+        axis.append(Plot(name=NoEscape(tex_escape(series.label)), coordinates=[(float(x), float(y)) for x, y in series.points]))
+    picture = TikZ()
+    picture.append(axis)
+    return picture.dumps()
+
+
+def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
+    """The functions ``templates/blocks.tex.j2`` calls, bound to ``fmt``."""
+    def inline(parts: Sequence[Inline]) -> str:
+        return "".join(_inline_part(p, fmt) for p in parts)
+
+    return {
+        "inline": inline,
+        "cells": lambda row: " & ".join(inline(cell) for cell in row),
+        "display": lambda rows: _display(rows, fmt),
+        "colspec": _colspec,
+        "figure": figure_latex,
+        "heading": _heading,
+        "mathrows": _mathrows,
+        "termsum": lambda block: _termsum(block, fmt),
+        "header": lambda table: " & ".join(tex_escape(h) if isinstance(h, str) else inline(h) for h in table.header),
+        "unknown_block": _unknown_block,
+    }
+
+
+def _unknown_block(block: Any) -> str:
+    raise OutputError(f"no LaTeX rendering for block kind {getattr(block, 'kind', type(block).__name__)!r}", key="blocks")
+
+
+def blocks_latex(blocks: Sequence[Block], fmt: MathFormatter) -> str:
+    """The LaTeX of ``blocks`` (no preamble, no final newline), one macro of ``blocks.tex.j2`` per block.
+
+    Blocks are set line after line; only two paragraphs in a row are parted by
+    a blank line, so a sentence that leads into a display and the one that
+    follows it stay in one paragraph, as in hand-set LaTeX.
+    """
+    macros = get_template("blocks.tex.j2").make_module(block_helpers(fmt))
+    out: list[str] = []
+    for k, block in enumerate(blocks):
+        if k and isinstance(block, Para) and not block.runs_on and isinstance(blocks[k - 1], Para):
+            out.append("")
+        out.append(str(macros.block(block)).strip("\n"))  # type: ignore[attr-defined]
+    return "\n".join(out)
