@@ -25,6 +25,7 @@ from typing import Any
 import sympy as sp
 
 from .equations import parse_equations, split_equation
+from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
 from .parsing import (
@@ -86,26 +87,6 @@ _TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 _CASE_NAME_BAD = re.compile(r"[^A-Za-z0-9_.-]")
 
 
-def _type_name(value: object) -> str:
-    names = {
-        str: "a string",
-        int: "an integer",
-        float: "a number",
-        bool: "a boolean",
-        list: "a list",
-        dict: "a table",
-        _dt.date: "a date",
-        _dt.datetime: "a date-time",
-        _dt.time: "a time",
-    }
-    return names.get(type(value), type(value).__name__)
-
-
-def _show(value: object) -> str:
-    text = repr(value)
-    return text if len(text) <= 60 else text[:57] + "..."
-
-
 @dataclass(frozen=True)
 class _Ctx:
     """Where errors point: the file, and the limits in force."""
@@ -123,7 +104,7 @@ class _Ctx:
 
     def table(self, value: object, key: str) -> Mapping[str, Any]:
         if not isinstance(value, dict):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a table")
+            raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected a table")
         return value
 
     def keys(self, table: Mapping[str, Any], allowed: Sequence[str], prefix: str) -> None:
@@ -141,20 +122,20 @@ class _Ctx:
     def text(self, value: object, key: str) -> str:
         if isinstance(value, str):
             return value
-        raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected a string")
+        raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected a string")
 
     def texts(self, value: object, key: str) -> tuple[str, ...]:
         if not isinstance(value, list):
             last = key.rsplit(".", 1)[-1]
-            hint = f"put it in brackets: {last} = [{_show(value)}]" if isinstance(value, str) else None
+            hint = f"put it in brackets: {last} = [{show(value)}]" if isinstance(value, str) else None
             raise self.error(
-                key, f"{key} is {_type_name(value)} ({_show(value)}); expected a list of strings", hint=hint
+                key, f"{key} is {type_name(value)} ({show(value)}); expected a list of strings", hint=hint
             )
         return tuple(self.text(v, f"{key}[{i}]") for i, v in enumerate(value))
 
     def seq(self, value: object, key: str, what: str) -> list[Any]:
         if not isinstance(value, list):
-            raise self.error(key, f"{key} is {_type_name(value)} ({_show(value)}); expected {what}")
+            raise self.error(key, f"{key} is {type_name(value)} ({show(value)}); expected {what}")
         return value
 
     def scalar(self, value: object, key: str) -> str | int | float:
@@ -162,7 +143,7 @@ class _Ctx:
         if isinstance(value, bool) or not isinstance(value, (str, int, float)):
             raise self.error(
                 key,
-                f"{key} is {_type_name(value)} ({_show(value)}); expected a number or an expression string",
+                f"{key} is {type_name(value)} ({show(value)}); expected a number or an expression string",
             )
         return value
 
@@ -269,9 +250,9 @@ def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Pa
     if isinstance(spec_raw, (int, float, str)) and not isinstance(spec_raw, bool):
         raise ctx.error(
             key,
-            f"{key} is {_type_name(spec_raw)} ({_show(spec_raw)}); "
+            f"{key} is {type_name(spec_raw)} ({show(spec_raw)}); "
             "expected a table with value, assume, unit, description",
-            hint=f"write a table: [parameters.{name}] with the line value = {_show(spec_raw)}",
+            hint=f"write a table: [parameters.{name}] with the line value = {show(spec_raw)}",
         )
     spec = ctx.table(spec_raw, key)
     ctx.keys(spec, PARAMETER_KEYS, key)
@@ -289,7 +270,7 @@ def _parameter(ctx: _Ctx, name: str, spec_raw: object, notices: list[str]) -> Pa
         if named:
             raise ctx.error(
                 vkey,
-                f"{vkey} must be an exact number such as 3, 0.25 or \"1/3\"; found the name {named[0]!r} in {_show(raw)}",
+                f"{vkey} must be an exact number such as 3, 0.25 or \"1/3\"; found the name {named[0]!r} in {show(raw)}",
             )
         value = ctx.expr(raw, vkey, {}, notices)
         for a in assume:
@@ -372,7 +353,7 @@ def _forcing_entry(
         last = j == len(rows) - 1
         if not isinstance(row, list) or len(row) != (1 if last else 2):
             want = "[value] (the last interval has no end)" if last else "[value, end]"
-            raise ctx.error(rkey, f"{rkey} is {_show(row)}; expected {want}")
+            raise ctx.error(rkey, f"{rkey} is {show(row)}; expected {want}")
         ctx.no_state(row[0], f"{rkey}[0]", states, state_term)
         v = ctx.expr(row[0], f"{rkey}[0]", symbols, notices, t=t)
         b = None if last else ctx.expr(row[1], f"{rkey}[1]", symbols, notices, t=t)
@@ -423,12 +404,12 @@ def _initial(
     if "t0" in initial:
         raw_t0 = initial["t0"]
         if isinstance(raw_t0, bool) or not isinstance(raw_t0, (str, int, float)):
-            raise ctx.error("initial.t0", f"initial.t0 is {_type_name(raw_t0)} ({_show(raw_t0)}); expected a number")
+            raise ctx.error("initial.t0", f"initial.t0 is {type_name(raw_t0)} ({show(raw_t0)}); expected a number")
         named = [n for n in expression_names(raw_t0) if n not in CONSTANTS]
         if named:
             raise ctx.error(
                 "initial.t0",
-                f"initial.t0 must be a number such as 0, 2.5 or \"1/2\"; found the name {named[0]!r} in {_show(raw_t0)}",
+                f"initial.t0 must be a number such as 0, 2.5 or \"1/2\"; found the name {named[0]!r} in {show(raw_t0)}",
             )
         t0 = ctx.expr(raw_t0, "initial.t0", {}, notices)
     values = initial["values"]
@@ -455,7 +436,7 @@ def _initial(
     else:
         raise ctx.error(
             key,
-            f"initial.values is {_type_name(values)} ({_show(values)}); "
+            f"initial.values is {type_name(values)} ({show(values)}); "
             "expected a list in state order or a table {state = value}",
         )
     x0: list[sp.Expr] = []

@@ -169,7 +169,7 @@ _out_option = _folder_option()
     metavar="RELATION",
     help="Solve on a parameter relation, e.g. --case 'c^2 = 4*k*m' (a degenerate case "
     "the sheet lists), or in a regime, e.g. --case 'c^2 < 4*k*m' (complex pair: sines "
-    "and cosines); the output name gets a '-case' suffix. Repeatable.",
+    "and cosines); the output name gets a '-case-' suffix naming the relation, so each case keeps its own sheet. Repeatable.",
 )
 def solve(
     case_file: Path,
@@ -184,9 +184,17 @@ def solve(
     def body() -> int:
         from .casefile import load_case
 
+        from .sweep import relation_name
+
         case = load_case(case_file)
-        stem = f"{case.name}-case" if relations else None
-        return _solve_and_write(case, out_dir, formats, pdf, timeout, stem, relations)
+        stem = relation_name(case.name, relations) if relations else None
+        try:
+            return _solve_and_write(case, out_dir, formats, pdf, timeout, stem, relations)
+        except InputError as err:
+            # a --case relation or regime, or a refusal of the solver, names the case file too
+            if err.key and err.key.startswith("assume"):
+                err.key = "--case" + err.key[len("assume"):]
+            raise err.with_location(file=str(case_file))
 
     sys.exit(_guard(body))
 

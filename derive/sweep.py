@@ -23,7 +23,7 @@ import itertools
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
-from typing import Any
+from typing import Any, Sequence
 
 import sympy as sp
 
@@ -39,7 +39,7 @@ MAX_SWEEP_CASES = 1000
 # How the characters of a value's text appear in a case name; everything else
 # outside [A-Za-z0-9._-] becomes "_".  "/" and "*" are common in values, so they
 # get readable replacements instead of an anonymous "_".
-_NAME_MAP = {"/": "over", "*": "", " ": "", "(": "", ")": "", "+": "plus", "^": "pow"}
+_NAME_MAP = {"/": "over", "*": "", " ": "", "(": "", ")": "", "+": "plus", "^": "pow", "=": "-eq-", "<": "-lt-", ">": "-gt-"}
 _NAME_BAD = re.compile(r"[^A-Za-z0-9._-]")
 _MAX_NAME = 120
 
@@ -61,18 +61,32 @@ def _label(raw: object) -> str:
     return _NAME_BAD.sub("_", out) or "_"
 
 
+def _capped(name: str) -> str:
+    if len(name) > _MAX_NAME:
+        # Keep it readable at the front and unique at the back.
+        digest = hashlib.sha256(name.encode("utf-8")).hexdigest()[:10]
+        name = f"{name[: _MAX_NAME - 11]}-{digest}"
+    return name
+
+
+def relation_name(base: str, relations: Sequence[str]) -> str:
+    """The output name of a case solved on relations, so two ``--case`` runs keep both sheets.
+
+    >>> relation_name("mount", ["c^2 = 4*k*m"])
+    'mount-case-cpow2-eq-4km'
+    >>> relation_name("mount", ["c^2 < 4*k*m"])
+    'mount-case-cpow2-lt-4km'
+    """
+    return _capped("-".join([f"{base}-case", *(_label(r).strip("-") for r in relations)]))
+
+
 def sweep_name(base: str, values: tuple[SweepValue, ...]) -> str:
     """The case name of one combination, e.g. ``beam-k_2-c_2m``.
 
     >>> sweep_name("beam", (SweepValue("k", sp.Integer(2), "2", "sweep.k[1]"),))
     'beam-k_2'
     """
-    name = "-".join([base, *(f"{v.parameter}_{v.label}" for v in values)])
-    if len(name) > _MAX_NAME:
-        # Keep it readable at the front and unique at the back.
-        digest = hashlib.sha256(name.encode("utf-8")).hexdigest()[:10]
-        name = f"{name[: _MAX_NAME - 11]}-{digest}"
-    return name
+    return _capped("-".join([base, *(f"{v.parameter}_{v.label}" for v in values)]))
 
 
 def parse_sweep(

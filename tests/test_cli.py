@@ -147,3 +147,35 @@ def test_module_entry_point_runs() -> None:
     res = subprocess.run([sys.executable, "-m", "derive", "--help"], capture_output=True, text=True, env=env, timeout=120)
     assert res.returncode == 0
     assert "solve" in res.stdout
+
+
+MOUNT = """
+[sheet]
+title = "Instrument mount"
+
+[system]
+equations = ["y' = v", "v' = -(k/m)*y - (c/m)*v"]
+
+[initial]
+values = [1, 0]
+
+[parameters.k]
+assume = ["positive"]
+[parameters.m]
+assume = ["positive"]
+[parameters.c]
+assume = ["positive"]
+"""
+
+
+def test_two_case_runs_into_one_folder_keep_both_sheets(tmp_path: Path) -> None:
+    (tmp_path / "mount.toml").write_text(MOUNT)
+    out = tmp_path / "out"
+    for relation in ("c^2 = 4*k*m", "c^2 < 4*k*m"):
+        r = run(["solve", str(tmp_path / "mount.toml"), "-o", str(out), "--no-pdf", "--case", relation])
+        assert r.exit_code == 0, r.output
+    sheets = sorted(p.name for p in out.glob("*.tex") if not p.name.endswith("-body.tex"))
+    assert sheets == ["mount-case-cpow2-eq-4km.tex", "mount-case-cpow2-lt-4km.tex"]
+    # the critically damped sheet is the Jordan case; the regime's sheet is not
+    assert "Jordan" in (out / "mount-case-cpow2-eq-4km.tex").read_text()
+    assert (out / "mount-case-cpow2-eq-4km.tex").read_text() != (out / "mount-case-cpow2-lt-4km.tex").read_text()

@@ -102,10 +102,10 @@ TRAPS: tuple[Trap, ...] = (
     Trap("equations-not-a-list", "[system]\nequations = \"x' = -x\"\n", "system.equations", "a string", "put it in brackets"),
     # -- relations and regimes that the assumptions rule out (the file is
     # named once the command line fills it in; see the input branch report)
-    Trap("relation-zero-mass", SPRING, "assume[0]", "m = 0 is never positive", "assume list", ("m = 0",), False),
-    Trap("relation-negative-square", SPRING, "assume[0]", "contradicts the parameters' assumptions", "check the relation's signs", ("c^2 = -4*k*m",), False),
-    Trap("regime-never", SPRING, "assume[0]", "can never hold", "direction", ("c^2 + 4*k*m < 0",), False),
-    Trap("relation-without-parameter", SPRING, "assume[0]", "never holds", "ties parameters together", ("1 = 2",), False),
+    Trap("relation-zero-mass", SPRING, "--case[0]", "m = 0 is never positive", "assume list", ("m = 0",)),
+    Trap("relation-negative-square", SPRING, "--case[0]", "contradicts the parameters' assumptions", "check the relation's signs", ("c^2 = -4*k*m",)),
+    Trap("regime-never", SPRING, "--case[0]", "can never hold", "direction", ("c^2 + 4*k*m < 0",)),
+    Trap("relation-without-parameter", SPRING, "--case[0]", "never holds", "ties parameters together", ("1 = 2",)),
 )
 
 
