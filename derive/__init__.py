@@ -1,4 +1,4 @@
-"""derive: exact closed-form solutions of x' = A x + f(t), every step shown.
+"""eigensheet (Python package `derive`): exact closed-form solutions of x' = A x + f(t), every step shown.
 
 >>> import derive
 >>> sol = derive.solve([[0, 1], [-2, -3]], x0=[1, 0])

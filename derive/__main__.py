@@ -1,4 +1,4 @@
-"""python -m derive"""
+"""python -m derive: the eigensheet command."""
 
 import sys
 

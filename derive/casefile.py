@@ -682,7 +682,7 @@ def _single(loaded: tuple[Case, Mapping[str, Any]], ctx: _Ctx) -> Case:
             f"the file declares a [sweep] of {count} case(s); expected a single case here",
             file=ctx.file,
             key="sweep",
-            hint="run it with: derive batch FILE (or derive.batch([...]) from Python)",
+            hint="run it with: eigensheet batch FILE (or derive.batch([...]) from Python)",
         )
     return case
 

@@ -15,6 +15,7 @@ from typing import Callable, Sequence
 import click
 
 from . import __version__
+from .documents.base import PROGRAM_NAME
 from .errors import (
     EXIT_OK,
     EXIT_VERIFICATION,
@@ -36,7 +37,7 @@ FORMATS = ("latex", "markdown", "text", "json")
 
 
 def _fail(err: DeriveError) -> int:
-    click.echo(f"derive: error: {err}", err=True)
+    click.echo(f"{PROGRAM_NAME}: error: {err}", err=True)
     return err.exit_code
 
 
@@ -47,14 +48,14 @@ def _guard(fn: Callable[[], int]) -> int:
     except DeriveError as err:
         return _fail(err)
     except KeyboardInterrupt:
-        click.echo("derive: interrupted; outputs already written are complete", err=True)
+        click.echo(f"{PROGRAM_NAME}: interrupted; outputs already written are complete", err=True)
         return 130
     except RecursionError:
         return _fail(InputError("the input is nested too deeply to process"))
     except Exception as exc:  # a bug, not the user's fault: say so, no traceback
         click.echo(
-            f"derive: internal error: {type(exc).__name__}: {exc}\n"
-            "  this is a bug in derive; please report it together with the case file",
+            f"{PROGRAM_NAME}: internal error: {type(exc).__name__}: {exc}\n"
+            f"  this is a bug in {PROGRAM_NAME}; please report it together with the case file",
             err=True,
         )
         return EXIT_INTERNAL
@@ -103,7 +104,7 @@ def _solve_and_write(
             sol = getattr(err, "solution", None)
             if sol is None:
                 raise
-            click.echo(f"derive: error: {err}", err=True)
+            click.echo(f"{PROGRAM_NAME}: error: {err}", err=True)
             code = EXIT_VERIFICATION
     _summary(sol)
     paths = write_outputs(sol, out_dir, stem=stem or case.name, formats=tuple(formats), pdf=pdf)
@@ -114,7 +115,7 @@ def _solve_and_write(
 
 # click reports usage errors itself with exit code 2, which is our code for bad input.
 @click.group(epilog=EXIT_CODES_HELP, context_settings={"help_option_names": ["-h", "--help"]})
-@click.version_option(__version__, prog_name="derive")
+@click.version_option(__version__, prog_name=PROGRAM_NAME)
 def cli() -> None:
     """Exact closed-form solutions of x' = A x + f(t), every step shown and verified,
     written as a calculation sheet (LaTeX and PDF)."""
@@ -211,7 +212,7 @@ def demo(out_dir: Path, formats: tuple[str, ...], pdf: bool | None, timeout: flo
         from .casefile import loads_case
 
         text = resources.files("derive.data").joinpath("demo.toml").read_text(encoding="utf-8")
-        case = loads_case(text, name="demo", source="derive/data/demo.toml (built in)")
+        case = loads_case(text, name="demo", source="the built-in demo case")
         return _solve_and_write(case, out_dir, formats, pdf, timeout, "demo")
 
     sys.exit(_guard(body))
@@ -236,7 +237,7 @@ def new(name: str, out_dir: Path, force: bool) -> None:
         out_dir.mkdir(parents=True, exist_ok=True)
         text = resources.files("derive.data").joinpath("template.toml").read_text(encoding="utf-8")
         atomic_write_text(target, text)
-        click.echo(f"wrote {target}: edit it, then run: derive solve {target}")
+        click.echo(f"wrote {target}: edit it, then run: {PROGRAM_NAME} solve {target}")
         return EXIT_OK
 
     sys.exit(_guard(body))
@@ -299,7 +300,7 @@ def batch_command(
                 first = r.message.splitlines()[0] if r.message else ""
                 click.echo(f"{r.status}: {r.name}: {first}", err=True)
         if report.index_error:
-            click.echo(f"derive: error: the index could not be written: {report.index_error}", err=True)
+            click.echo(f"{PROGRAM_NAME}: error: the index could not be written: {report.index_error}", err=True)
         counts = ", ".join(f"{n} {s}" for s, n in report.counts.items() if n)
         reused = f" ({report.cached_count} reused)" if report.cached_count else ""
         click.echo(f"{len(report.results)} cases: {counts}{reused}; summary in {out_dir / 'summary.csv'}")
@@ -364,9 +365,9 @@ def check_command(
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``derive`` script."""
+    """Entry point of the ``eigensheet`` command."""
     try:
-        cli.main(args=list(argv) if argv is not None else None, prog_name="derive", standalone_mode=True)
+        cli.main(args=list(argv) if argv is not None else None, prog_name=PROGRAM_NAME, standalone_mode=True)
     except SystemExit as exc:
         return int(exc.code or 0)
     return EXIT_OK

@@ -33,7 +33,7 @@ from sympy.polys.agca.extensions import FiniteExtension
 from sympy.polys.constructor import construct_domain
 from sympy.polys.matrices import DomainMatrix
 
-from .errors import UnsupportedError
+from .errors import DeriveError, UnsupportedError
 from .exact import numeric_function
 from .model import Condition
 from .steps import (
@@ -132,6 +132,9 @@ class _Field:
 def _coefficient_domain(entries: Sequence[sp.Expr]):
     try:
         dom, _ = construct_domain(list(entries), field=True, extension=True)
+    except DeriveError:
+        # a time limit that fires inside sympy is a time limit, not bad input
+        raise
     except Exception as exc:  # pragma: no cover - sympy internals
         raise UnsupportedError(f"the matrix entries do not lie in a field sympy can compute in exactly: {exc}")
     if dom.is_EX or dom.is_EXRAW:

@@ -143,7 +143,7 @@ def test_sweep_product_order_and_file_loading(tmp_path):
     assert names == ["spring-k_2-c_3", "spring-k_2-c_5", "spring-k_1over2-c_3", "spring-k_1over2-c_5"]
     with pytest.raises(CaseFileError) as info:
         load_case(path)
-    assert info.value.key == "sweep" and "4 case(s)" in info.value.message and "derive batch" in str(info.value)
+    assert info.value.key == "sweep" and "4 case(s)" in info.value.message and "eigensheet batch" in str(info.value)
 
 
 @pytest.mark.parametrize(

@@ -146,6 +146,8 @@ def test_module_entry_point_runs() -> None:
     env = dict(os.environ)
     res = subprocess.run([sys.executable, "-m", "derive", "--help"], capture_output=True, text=True, env=env, timeout=120)
     assert res.returncode == 0
+    # python -m derive is the same command: its usage line names it eigensheet
+    assert res.stdout.startswith("Usage: eigensheet ")
     assert "solve" in res.stdout
 
 

@@ -157,7 +157,7 @@ class DaskCluster:
         except ImportError:
             raise InputError(
                 "--scheduler needs the optional Dask extra, which is not installed; "
-                "expected: pip install 'derive[cluster]'",
+                "expected: pip install 'eigensheet[cluster]'",
                 key="scheduler",
             ) from None
         if not jobs:

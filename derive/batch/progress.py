@@ -15,7 +15,7 @@ class Progress:
     >>> import io
     >>> bar = Progress(2, enabled=True, stream=io.StringIO())
     >>> bar.update(CaseResult("a", "ok")); bar.stream.getvalue().strip()
-    'derive batch: 1/2 done, 0 failed, 1 remaining'
+    'eigensheet batch: 1/2 done, 0 failed, 1 remaining'
     """
 
     def __init__(self, total: int, *, enabled: bool, stream: TextIO) -> None:
@@ -27,7 +27,7 @@ class Progress:
         self.failed += not result.ok
         if self.enabled:
             self.stream.write(
-                f"\rderive batch: {self.done}/{self.total} done, {self.failed} failed, "
+                f"\reigensheet batch: {self.done}/{self.total} done, {self.failed} failed, "
                 f"{self.total - self.done} remaining "
             )
             self.stream.flush()

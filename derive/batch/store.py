@@ -25,13 +25,14 @@ from typing import Any
 
 import sympy as sp
 
+from ..documents.base import PROGRAM_NAME
 from ..model import Case
 from ..output import atomic_write_bytes, atomic_write_text
 from .records import BatchReport, CaseResult
 
 __all__ = ["CACHE_NAME", "CASES_DIR", "ResultStore", "case_key", "summary_csv"]
 
-CACHE_NAME = ".derive-cache.json"
+CACHE_NAME = ".eigensheet-cache.json"
 #: Folder (inside the output folder) that holds one folder per case.
 CASES_DIR = "cases"
 #: Seconds between rewrites of the summary and cache during a batch (always at the end).
@@ -168,7 +169,7 @@ class ResultStore:
         version = _version()
         atomic_write_text(self.folder / CACHE_NAME, json.dumps({"format": 1, "version": version, "cases": self.cache}, indent=1))
         data = {
-            "program": "derive",
+            "program": PROGRAM_NAME,
             "version": version,
             "complete": len(results) == self.total and not interrupted,
             "interrupted": interrupted,

@@ -112,7 +112,7 @@ def run_task(task: CaseTask) -> Outcome:
                 status, message = Status.VERIFICATION_FAILED, str(err)
         root = task.out_root
         if task.collect and root is not None:
-            scratch = root = tempfile.mkdtemp(prefix="derive-case-")
+            scratch = root = tempfile.mkdtemp(prefix="eigensheet-case-")
         if root is not None:
             folder = Path(root, CASES_DIR, case.name)
             paths = write_outputs(
@@ -137,7 +137,7 @@ def run_task(task: CaseTask) -> Outcome:
         status, message = Status.ERROR, "the case ran out of memory"
     except Exception as exc:  # a bug: recorded for this case, the batch goes on
         status = Status.ERROR
-        message = f"internal error: {type(exc).__name__}: {exc} (a bug in derive; please report it with the case file)"
+        message = f"internal error: {type(exc).__name__}: {exc} (a bug in eigensheet; please report it with the case file)"
     finally:
         if scratch is not None:
             shutil.rmtree(scratch, ignore_errors=True)

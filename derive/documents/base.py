@@ -87,17 +87,19 @@ class Document:
         raise NotImplementedError(f"document type {type(self).__name__} does not implement frame()")
 
 
+#: The name users meet on every screen, command and sheet (the Python package is ``derive``).
+PROGRAM_NAME = "eigensheet"
+
+
 def program_versions() -> tuple[tuple[str, str], ...]:
     """(name, version) of this program, sympy and Python, for the record.
 
     >>> [name for name, _ in program_versions()]
-    ['derive', 'sympy', 'Python']
+    ['eigensheet', 'sympy', 'Python']
     """
-    try:
-        from .. import __version__ as version  # type: ignore[attr-defined]
-    except ImportError:
-        version = "0.1.0"
-    return (("derive", str(version)), ("sympy", sp.__version__), ("Python", platform.python_version()))
+    from .. import __version__ as version
+
+    return ((PROGRAM_NAME, str(version)), ("sympy", sp.__version__), ("Python", platform.python_version()))
 
 
 _ASSUMPTION_WORDS = ("positive", "negative", "nonnegative", "nonpositive", "nonzero", "real", "integer")
@@ -126,7 +128,7 @@ def parameter_assumptions(param: Parameter) -> tuple[str, ...]:
 def label_key(prefix: str, *parts: str) -> str:
     """A LaTeX label key from a hash of ``parts``, unique to one document.
 
-    >>> label_key("derive", "a", "b")[:7]
-    'derive-'
+    >>> label_key("eigensheet", "a", "b")[:11]
+    'eigensheet-'
     """
     return prefix + "-" + hashlib.sha256("|".join(parts).encode("utf-8")).hexdigest()[:10]

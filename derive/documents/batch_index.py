@@ -126,7 +126,7 @@ class BatchIndexDocument(Document):
         return Frame(
             title=TITLE,
             meta=SheetMeta(title=TITLE, subject=TITLE),
-            key=label_key("derive-index", names, str(self.total)),
+            key=label_key("eigensheet-index", names, str(self.total)),
             footer_left=f"Produced by {program[0]} {program[1]} (sympy {sp.__version__})",
             footer_right=("To be checked and approved before use",),
             packages=("longtable",),

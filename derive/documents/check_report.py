@@ -199,7 +199,7 @@ class CheckReportDocument(Document):
         return Frame(
             title=self.title,
             meta=meta,
-            key=label_key("derive-check", meta.title, meta.calc_number, meta.revision,
+            key=label_key("eigensheet-check", meta.title, meta.calc_number, meta.revision,
                           *(h for _, h in self.sources), plain_text(self.report.A)),
             subject_prefix="Check of the hand derivation: ",
             footer_left=f"Check report produced by {program[0]} {program[1]} (sympy {sp.__version__})",

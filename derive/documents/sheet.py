@@ -338,7 +338,7 @@ class SheetDocument(Document):
         return Frame(
             title=meta.title,
             meta=meta,
-            key=label_key("derive", meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", structure_text(self.solution.x)),
+            key=label_key("eigensheet", meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", structure_text(self.solution.x)),
             footer_left=footer,
             footer_right=("VERIFICATION FAILED",) if failed else ("To be checked and approved before use",),
         )

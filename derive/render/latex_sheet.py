@@ -143,7 +143,7 @@ def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> di
     versions = program_versions()
     # A label key unique to this sheet, so two sheets \input into one report
     # keep separate "Sheet X of Y" counts.
-    key = label_key("derive", meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", structure_text(solution.x))
+    key = label_key("eigensheet", meta.title, meta.calc_number, meta.revision, case.source_hash if case else "", structure_text(solution.x))
     notices = tuple(dict.fromkeys((*(case.notices if case else ()), *solution.notices)))
     kinds = {s.kind for s in solution.steps}
     return {

@@ -1,7 +1,7 @@
 """The one answer to "is this expression identically zero?".
 
 Verification of a solution, verification per interval and the claim checks of
-``derive check`` all ask it here, under one :class:`~derive.settings.ZeroPolicy`.
+``eigensheet check`` all ask it here, under one :class:`~derive.settings.ZeroPolicy`.
 
 1. Exact reduction: expansion; sines and cosines rewritten as exponentials
    (with integrals and unspecified functions held as symbols, so their
