@@ -18,7 +18,7 @@ from ...expoly import ExpPoly, to_expoly
 from ...model import Condition
 from ...recombine import Recombined, recombine
 from ...scalar import ScalarResult, decouple, solve_blocks
-from ...steps import Step, substitute
+from ...steps import Deferred, Step, substitute
 from .base import Problem
 
 __all__ = ["Piece", "Local", "decoupled", "solve_local", "closed_piece", "group_terms"]
@@ -29,12 +29,15 @@ _ZERO = sp.Integer(0)
 
 @dataclass(frozen=True)
 class Piece:
-    """The solution on one interval: x, the decoupled y and g, y at the start, and how it was found."""
+    """The solution on one interval: x, the decoupled y and g, y at the start, and how it was found.
+
+    y, g and y_start are for the sheet (``IntervalStep``) and may be Deferred.
+    """
 
     x: Matrix
-    y: Matrix
-    g: Matrix
-    y_start: Matrix
+    y: Matrix | Deferred
+    g: Matrix | Deferred
+    y_start: Matrix | Deferred
     method: str
     steps: tuple[Step, ...]
     conditions: tuple[Condition, ...]
@@ -107,22 +110,36 @@ def closed_piece(
     Returns the piece and its free response (the homogeneous part, grouped
     like x): on the first interval that is e^{A (t - t0)} x0 itself.
     """
-    dec, t = problem.dec, problem.t
+    t = problem.t
     loc = solve_local(problem, f, start=start, x_start=x_start, constants=constants)
-    y_start = Matrix([sp.expand(v) for v in dec.P_inv * x_start])
-    values = dict(zip(constants, y_start))
-    tau = next(iter(loc.shift))
-    y = Matrix([group_terms(yy.to_expr(tau).xreplace(loc.shift).xreplace(values), t) for yy in loc.scalar.y])
+    x = loc.rec.x.applyfunc(lambda e: group_terms(e, t))
+    if all(e == 0 for e in f):
+        free = x  # no input on the interval: x is its free response
+    else:
+        free = loc.rec.homogeneous.applyfunc(lambda e: group_terms(e, t))
+    # y, y(start) and g are shown on the sheet only: built when it is read
+    y_start = Deferred(_y_start, problem.dec.P_inv, x_start)
     piece = Piece(
-        x=loc.rec.x.applyfunc(lambda e: group_terms(e, t)),
-        y=y,
-        g=decoupled(problem, f),
+        x=x,
+        y=Deferred(_y_shown, loc, y_start, constants, t),
+        g=Deferred(decoupled, problem, tuple(f)),
         y_start=y_start,
         method="closed form",
         steps=(),
         conditions=tuple(replace(c, expr=c.expr.xreplace(loc.shift)) for c in loc.scalar.conditions),
     )
-    return piece, loc.rec.homogeneous.applyfunc(lambda e: group_terms(e, t))
+    return piece, free
+
+
+def _y_start(P_inv: Matrix, x_start: Matrix) -> Matrix:
+    return Matrix([sp.expand(v) for v in P_inv * x_start])
+
+
+def _y_shown(loc: Local, y_start: Deferred, constants: Sequence[sp.Symbol], t: sp.Symbol) -> Matrix:
+    """y on the interval in t, with the constants y(start) put in."""
+    values = dict(zip(constants, y_start.fn(*y_start.args)))
+    tau = next(iter(loc.shift))
+    return Matrix([group_terms(yy.to_expr(tau).xreplace(loc.shift).xreplace(values), t) for yy in loc.scalar.y])
 
 
 def group_terms(e: sp.Expr, t: sp.Symbol) -> sp.Expr:
