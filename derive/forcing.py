@@ -1,6 +1,6 @@
 """Reading switched forcing: steps, pulses, ramps, piecewise inputs and impulses.
 
-The solving methods (``derive.solve.methods``) cut the time axis at the
+The solving methods (``derive.solving.methods``) cut the time axis at the
 switches this module finds and solve each interval on its own:
 
 * ``switching_times`` -- every time a step u(t - a), an impulse delta(t - a)

@@ -24,8 +24,8 @@ from derive.errors import LimitError, VerificationError
 from derive.limits import REPEAT, LimitExpired, inner_limit, time_limit
 from derive.model import Relation
 from derive.settings import DEFAULT_SETTINGS
-from derive.solve.methods import METHODS, ForcingMethod, Problem, choose_method
-from derive.solve.system import build_system
+from derive.solving.methods import METHODS, ForcingMethod, Problem, choose_method
+from derive.solving.system import build_system
 from derive.spectral import decompose
 from derive.verify.pieces import numeric_solution
 

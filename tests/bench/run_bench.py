@@ -216,13 +216,13 @@ def check_solution(case: BenchCase, x: Sequence[sp.Expr], constants: Sequence[sp
 
 #: (module, name, stage): the stage functions as the solving modules import them
 _STAGE_PATCHES: tuple[tuple[str, str, str], ...] = (
-    ("derive.solve.stages", "decompose", "decompose"),
-    ("derive.solve.methods.closed", "solve_blocks", "integrate"),
-    ("derive.solve.methods.intervals", "solve_blocks", "integrate"),
-    ("derive.solve.methods.closed", "recombine", "recombine"),
-    ("derive.solve.methods.intervals", "recombine", "recombine"),
-    ("derive.solve.assembly", "verify", "verify"),
-    ("derive.solve.assembly", "verify_pieces", "verify"),
+    ("derive.solving.stages", "decompose", "decompose"),
+    ("derive.solving.methods.closed", "solve_blocks", "integrate"),
+    ("derive.solving.methods.intervals", "solve_blocks", "integrate"),
+    ("derive.solving.methods.closed", "recombine", "recombine"),
+    ("derive.solving.methods.intervals", "recombine", "recombine"),
+    ("derive.solving.assembly", "verify", "verify"),
+    ("derive.solving.assembly", "verify_pieces", "verify"),
 )
 
 

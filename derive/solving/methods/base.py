@@ -163,13 +163,13 @@ class ForcingMethod:
     input: decouple (g = P^-1 f and the ``DecoupleStep``), integrate each
     scalar equation, and recombine x = P y (with the constants from x0).  It
     does not verify, restore regime roots, add the result step or build the
-    ``Solution``: ``derive.solve.assembly`` does that once for every method.
+    ``Solution``: ``derive.solving.assembly`` does that once for every method.
 
     Subclasses set ``name`` and implement:
 
     * ``accepts(problem)`` -- True when the method can integrate this
       forcing.  Methods are asked in the order of
-      ``derive.solve.methods.METHODS``; the first that accepts solves.
+      ``derive.solving.methods.METHODS``; the first that accepts solves.
     * ``solve(problem)`` -- the ``Pieces``.  Raise a ``DeriveError``
       (``UnsupportedError``, ``LimitError``) for an input the method accepted
       but cannot finish; never return an unchecked guess.

@@ -4,13 +4,13 @@
       -> decompose   A = P J P^-1, exact (derive.spectral)
       -> decouple    g = P^-1 f                              \
       -> integrate   each scalar y_i' = lam_i y_i + g_i       > by the forcing method
-      -> recombine   x = P y, real form, constants from x0   /  (derive.solve.methods)
+      -> recombine   x = P y, real form, constants from x0   /  (derive.solving.methods)
       -> verify      residual, initial values, numeric run
       -> assemble    regime roots restored, steps, conditions -> Solution
 
 Each stage returns its result with the steps it took; the steps are
 concatenated in derivation order.  The forcing method is the first in
-``derive.solve.methods.METHODS`` that accepts the forcing: closed form for
+``derive.solving.methods.METHODS`` that accepts the forcing: closed form for
 exponential polynomials, switched for steps, pulses, ramps and impulses,
 convolution for anything else.
 """
