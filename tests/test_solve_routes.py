@@ -196,3 +196,30 @@ def test_the_verification_error_carries_the_relations_of_the_case(monkeypatch):
     with pytest.raises(VerificationError) as info:
         derive.solve([[0, 1], [-k / m, -3]], [0, 1], t=t, x0=[0, 0], assume=["k = 2*m"])
     assert any(c.relation == Relation.ZERO for c in info.value.solution.conditions)
+
+
+@pytest.mark.parametrize(
+    "f, name",
+    [
+        ([0, sp.exp(-3 * t)], "closed form"),
+        ([0, sp.Heaviside(t - 1) - sp.Heaviside(t - 2)], "switched"),
+        ([0, 1 / (1 + t)], "convolution"),
+    ],
+)
+def test_every_method_keeps_the_contract(f, name):
+    """x = homogeneous + particular, the first step is the decoupling, x(t0) = x0."""
+    from derive.solving.methods import Pieces
+    from derive.steps import DecoupleStep
+
+    system, _ = build_system([[0, 1], [-2, -3]], f, t=t, x0=[1, 0])
+    problem = Problem.of(system, decompose(system.A), settings=replace(DEFAULT_SETTINGS, integrate_budget=0.0))
+    method = choose_method(problem)
+    assert method.name == name
+    pieces = method.solve(problem)
+    assert isinstance(pieces, Pieces) and isinstance(pieces.steps[0], DecoupleStep)
+    assert pieces.constants == ()
+    for tt in (sp.Rational(1, 2), sp.Rational(3, 2), sp.Rational(5, 2)):
+        for a, h, p in zip(pieces.x, pieces.homogeneous, pieces.particular):
+            gap = (a - h - p).subs(t, tt).evalf(30)
+            assert abs(complex(gap)) < 1e-20
+    assert [complex(e.subs(t, 0).evalf(30)) for e in pieces.x] == pytest.approx([1, 0], abs=1e-20)

@@ -103,20 +103,27 @@ def solve_local(
 
 
 def closed_piece(
-    problem: Problem, f: Sequence[sp.Expr], *, start: sp.Expr, x_start: Matrix, constants: Sequence[sp.Symbol]
-) -> tuple[Piece, Matrix]:
+    problem: Problem,
+    f: Sequence[sp.Expr],
+    *,
+    start: sp.Expr,
+    x_start: Matrix,
+    constants: Sequence[sp.Symbol],
+    free: bool = False,
+) -> tuple[Piece, Matrix | None]:
     """An interval whose forcing is an exponential polynomial, in closed form.
 
-    Returns the piece and its free response (the homogeneous part, grouped
-    like x): on the first interval that is e^{A (t - t0)} x0 itself.
+    Returns the piece and, with ``free``, its free response (the homogeneous
+    part, grouped like x): on the first interval that is e^{A (t - t0)} x0.
     """
     t = problem.t
     loc = solve_local(problem, f, start=start, x_start=x_start, constants=constants)
     x = loc.rec.x.applyfunc(lambda e: group_terms(e, t))
-    if all(e == 0 for e in f):
-        free = x  # no input on the interval: x is its free response
-    else:
-        free = loc.rec.homogeneous.applyfunc(lambda e: group_terms(e, t))
+    response = None
+    if free:
+        # with no input on the interval x is its free response
+        unforced = all(e == 0 for e in f)
+        response = x if unforced else loc.rec.homogeneous.applyfunc(lambda e: group_terms(e, t))
     # y, y(start) and g are shown on the sheet only: built when it is read
     y_start = Deferred(_y_start, problem.dec.P_inv, x_start)
     piece = Piece(
@@ -128,7 +135,7 @@ def closed_piece(
         steps=(),
         conditions=tuple(replace(c, expr=c.expr.xreplace(loc.shift)) for c in loc.scalar.conditions),
     )
-    return piece, free
+    return piece, response
 
 
 def _y_start(P_inv: Matrix, x_start: Matrix) -> Matrix:

@@ -40,6 +40,11 @@ def _midpoint(a: sp.Expr, b: sp.Expr | None) -> sp.Expr:
     return a + 1 if b is None else (a + b) / 2
 
 
+def _difference(x: sp.Expr, free: sp.Expr, t: sp.Symbol) -> sp.Expr:
+    """x - free, grouped; an interval before any input has x = free (nothing to group)."""
+    return _ZERO if x == free else group_terms(x - free, t)
+
+
 def _piecewise(values: list[sp.Expr], records: list[PieceRecord], t: sp.Symbol) -> sp.Expr:
     """One component over the intervals: value k while t < end k, the last one after."""
     if len(records) == 1:
@@ -55,10 +60,12 @@ class Switched(ForcingMethod):
     def accepts(self, problem: Problem) -> bool:
         return is_switched(problem.system.f, problem.t)
 
-    def _piece(self, problem: Problem, f: Matrix, *, start: sp.Expr, x_start: Matrix, constants) -> tuple[Piece, Matrix | None]:
-        """One interval, in closed form when its input allows; the free response when it is known."""
+    def _piece(
+        self, problem: Problem, f: Matrix, *, start: sp.Expr, x_start: Matrix, constants, free: bool
+    ) -> tuple[Piece, Matrix | None]:
+        """One interval, in closed form when its input allows; with ``free``, its free response if known."""
         if expoly_column(f, problem.t) is not None:
-            return closed_piece(problem, f, start=start, x_start=x_start, constants=constants)
+            return closed_piece(problem, f, start=start, x_start=x_start, constants=constants, free=free)
         return convolution_piece(problem, f, start=start, x_start=x_start, constants=constants)[0], None
 
     def solve(self, problem: Problem) -> Pieces:
@@ -107,9 +114,10 @@ class Switched(ForcingMethod):
                 steps.append(JumpStep(t=t, at=a, weight=jump, before=state, after=after))
                 state = after
             f_k = Matrix([sp.expand(resolve_on(e, t, _midpoint(a, end))) for e in system.f])
-            piece, response = self._piece(problem, f_k, start=a, x_start=state, constants=consts)
-            if k == 0 and state == x0:
-                # the first interval starts from x0 itself: its homogeneous part is the free response
+            # the first interval, when it starts from x0 itself, gives the free response on the way
+            first = k == 0 and state == x0
+            piece, response = self._piece(problem, f_k, start=a, x_start=state, constants=consts, free=first)
+            if first:
                 free = response
             conditions.extend(piece.conditions)
             x_end = None if end is None else Matrix([_number(e.subs(t, end)) for e in piece.x])
@@ -126,10 +134,11 @@ class Switched(ForcingMethod):
         if free is None:
             # the free response e^{A (t - t0)} x0, when no interval gave it on the way
             free = closed_piece(problem, [_ZERO] * n, start=t0, x_start=x0, constants=consts)[0].x
+        assert free is not None
         x = Matrix([_piecewise([r.x[i] for r in records], records, t) for i in range(n)])
         # the forced response is the rest
         forced = Matrix([
-            _piecewise([group_terms(r.x[i] - free[i], t) for r in records], records, t) for i in range(n)
+            _piecewise([_difference(r.x[i], free[i], t) for r in records], records, t) for i in range(n)
         ])
         return Pieces(
             x=x,
