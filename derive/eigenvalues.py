@@ -16,11 +16,12 @@ from typing import Sequence
 import sympy as sp
 from sympy.polys.matrices import DomainMatrix
 
-from .errors import UnsupportedError
+from .errors import DeriveError, UnsupportedError
 from .model import Condition, Relation
 
 __all__ = [
     "domain_matrix",
+    "determinant_shown",
     "factor_charpoly",
     "collect_factors",
     "regime_sign",
@@ -242,3 +243,30 @@ def parameter_conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, 
         if den.free_symbols:
             add(den, "a denominator in P or P^-1 is nonzero")
     return tuple(out)
+
+
+def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -> sp.Expr:
+    """det P exactly where that is cheap (a small field, radicals with n <= 4), else its decimal.
+
+    ``exact`` is ``small_field(P, ...)`` or None.  Only invertibility is at
+    stake here; P^-1 itself is exact either way.
+    """
+    if exact is not None:
+        return exact[0].domain.to_sympy(exact[0].det())
+    if P.rows <= 4 and not P.has(sp.CRootOf):
+        try:
+            return sp.radsimp(sp.expand(P.det(method="berkowitz")))
+        except DeriveError:
+            raise
+        except Exception:  # pragma: no cover - sympy internals
+            pass
+    import mpmath
+
+    with mpmath.workdps(30):
+        P = with_root_values(P)
+        M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
+        d = mpmath.det(M)
+    d = complex(d)
+    if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
+        return sp.Float(d.real, 12)
+    return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)

@@ -35,6 +35,7 @@ from sympy.polys.matrices import DomainMatrix
 
 from .eigenvalues import (
     decimal_text,
+    determinant_shown,
     domain_matrix,
     factor_charpoly,
     numeric_value,
@@ -688,7 +689,7 @@ def decompose(
         product = Deferred(_product, P, J, P_inv)
     else:
         exact = small_field(P, J, P_inv, A)  # one field for det P and the similarity check
-        det = _det_display(P, exact)
+        det = determinant_shown(P, exact)
         method = (
             "rows of P^-1 are the left eigenvectors (left Jordan chains) of A, each block "
             "normalised so that W V = I; computed once per irreducible factor of the "
@@ -731,33 +732,6 @@ def _order_blocks(blocks: list[EigenBlock], keep: bool) -> list[EigenBlock]:
         return (1 if is_complex else 0, round(z.real, 12), round(abs(z.imag), 12), 1 if z.imag < 0 else 0)
 
     return sorted(blocks, key=key)
-
-
-def _det_display(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -> sp.Expr:
-    """det P exactly where that is cheap (a small field, radicals with n <= 4), else its decimal.
-
-    ``exact`` is ``small_field(P, ...)`` or None.  Only invertibility is at
-    stake here; P^-1 itself is exact either way.
-    """
-    if exact is not None:
-        return exact[0].domain.to_sympy(exact[0].det())
-    if P.rows <= 4 and not P.has(sp.CRootOf):
-        try:
-            return sp.radsimp(sp.expand(P.det(method="berkowitz")))
-        except DeriveError:
-            raise
-        except Exception:  # pragma: no cover - sympy internals
-            pass
-    import mpmath
-
-    with mpmath.workdps(30):
-        P = with_root_values(P)
-        M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
-        d = mpmath.det(M)
-    d = complex(d)
-    if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
-        return sp.Float(d.real, 12)
-    return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
 
 
 def _similarity_check(A, P, J, P_inv, values, exact: list[DomainMatrix] | None) -> bool:
