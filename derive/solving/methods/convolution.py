@@ -91,6 +91,9 @@ def convolution_piece(
     scal_h, rec_h, shift = loc.scalar, loc.rec, loc.shift
     g = decoupled(problem, f)
     sigma = s - start
+    # indexed complex roots have no closed real and imaginary parts to write (as in
+    # recombine): their integrals stay in exponential form, and so does x
+    real = problem.real and not any(b.kind == "complex" and b.value.has(sp.CRootOf) for b in dec.blocks)
     # Base integrals: integrand (-sigma)^k e^{-lam sigma} times one forcing entry,
     # in real form (cos and sin of the imaginary part) when the data are real.
     base: dict[tuple, tuple[sp.Symbol, sp.Integral]] = {}
@@ -99,7 +102,7 @@ def convolution_piece(
         """A placeholder for the integral of (-sigma)^k e^{-lam sigma} f_l(s) ds."""
         fl = sp.sympify(f[l], strict=True).subs(t, s)
         poly = (-sigma) ** k
-        if problem.real:
+        if real:
             a, b = (sp.expand(v) for v in sp.expand(lam).as_real_imag())
             # a conjugate pair shares its integrals: sin(-b sigma) = -sin(b sigma)
             flip = -1 if (b != 0 and reads_negative(b)) else 1
@@ -142,7 +145,7 @@ def convolution_piece(
     placeholders = [ph for ph, _ in base.values()]
     integrals = dict(base.values())
     x_p_held = [sp.expand(sum((dec.P[i, j] * y_p[j] for j in range(n)), _ZERO)) for i in range(n)]
-    if problem.real:
+    if real:
         x_p_held = [_real_part(e, t, placeholders) for e in x_p_held]
     values = {ph: _evaluate(I, t, problem.budget) for ph, I in base.values()}
     # grouped while the integrals are still placeholders: the grouping must not reach inside them
