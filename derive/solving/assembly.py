@@ -53,6 +53,11 @@ def failure_summary(ver: Verification) -> str:
     return ", ".join(parts) or "unknown"
 
 
+def _swapped(value: tuple, aux: dict) -> tuple:
+    """``value`` with the regime's roots in place of their placeholders (as it is without a regime)."""
+    return substitute(value, aux) if aux else value
+
+
 def _restored(pieces: Pieces, aux: dict, t: sp.Symbol) -> Pieces:
     """The pieces with a regime's square roots in place of their positive placeholders."""
     if not aux:
@@ -149,7 +154,7 @@ def assemble(
         tail.extend(steady_state_steps(system, dec.column_eigenvalues, last.x, f=last.f, since=since))
     elif pieces.steady:
         tail.extend(steady_state_steps(system, dec.column_eigenvalues, pieces.x))
-    all_steps = substitute(tuple(steps), aux) + pieces.steps + substitute(tuple(tail), aux)
+    all_steps = _swapped(tuple(steps), aux) + pieces.steps + _swapped(tuple(tail), aux)
     all_steps += (
         ResultStep(
             t=t,
@@ -162,7 +167,7 @@ def assemble(
     )
     # a regime (expr < 0) already implies expr != 0: state it once
     implied = {sp.expand(e) for e, _ in regimes} | {sp.expand(-e) for e, _ in regimes}
-    own = tuple(dict.fromkeys(substitute(dec.conditions, aux) + pieces.conditions))
+    own = tuple(dict.fromkeys(_swapped(dec.conditions, aux) + pieces.conditions))
     kept = tuple(c for c in own if not (c.relation == Relation.NONZERO and sp.expand(c.expr) in implied))
     eigenvalues = tuple(sp.sympify(e, strict=True).xreplace(aux) for e in dec.column_eigenvalues)
     ver = verification(problem, pieces, eigenvalues=eigenvalues)
