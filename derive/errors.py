@@ -9,6 +9,8 @@ the CLI can print ``case.toml: system.matrix[1][2]: ...``.
 
 from __future__ import annotations
 
+from typing import Any
+
 __all__ = [
     "EXIT_OK",
     "EXIT_VERIFICATION",
@@ -121,9 +123,17 @@ class UnsupportedError(InputError):
 
 
 class VerificationError(DeriveError):
-    """A derived result failed its own verification."""
+    """A derived result failed its own verification.
+
+    ``solution`` is the unverified result (a ``derive.model.Solution``), for
+    a sheet that shows where the check failed; None when no result was built.
+    """
 
     exit_code = EXIT_VERIFICATION
+
+    def __init__(self, message: str, *, solution: Any = None, **where: Any) -> None:
+        super().__init__(message, **where)
+        self.solution = solution
 
 
 class TimeLimitError(DeriveError):

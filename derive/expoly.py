@@ -28,7 +28,13 @@ import sympy as sp
 from sympy.polys.fields import sfield
 from sympy.polys.polyerrors import BasePolynomialError
 
-__all__ = ["ExpPoly", "to_expoly", "integrate_against", "ZeroTest"]
+__all__ = [
+    "ExpPoly",
+    "to_expoly",
+    "integrate_against",
+    "reads_negative",
+    "ZeroTest",
+]
 
 ZeroTest = Callable[[sp.Expr], bool]
 
@@ -179,7 +185,7 @@ class ExpPoly:
         order: list[tuple[int, sp.Expr, sp.Expr]] = []
         for (k, g), c in self.terms:
             a, b = split(g)
-            if b != 0 and _is_negative(b):
+            if b != 0 and reads_negative(b):
                 continue  # its conjugate partner carries the pair
             key = (k, a, b)
             if key not in grouped:
@@ -220,7 +226,7 @@ def exponential_groups(p: "ExpPoly", t: sp.Symbol, *, real: bool) -> list[tuple[
     grouped: dict[tuple[int, sp.Expr, sp.Expr], list[sp.Expr]] = {}
     for (k, g), c in p.terms:
         a, b = split_complex(g)
-        if b != 0 and _is_negative(b):
+        if b != 0 and reads_negative(b):
             continue  # its conjugate partner carries the pair
         grouped.setdefault((k, a, b), []).append(c)
     out = []
@@ -239,7 +245,8 @@ def _shifted(c: sp.Expr, a: sp.Expr, t0: sp.Expr) -> sp.Expr:
     return sp.expand(c * sp.exp(a * t0))
 
 
-def _is_negative(b: sp.Expr) -> bool:
+def reads_negative(b: sp.Expr) -> bool:
+    """True when b is negative, or for a sign the assumptions leave open, when -b sorts first."""
     if b.is_negative:
         return True
     if b.is_positive:

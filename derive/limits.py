@@ -1,9 +1,15 @@
-"""A wall-clock limit for one case.
+"""Wall-clock limits: one for a case, and shorter ones inside it.
 
 The algebra is pure Python, so a SIGALRM timer interrupts it between
-bytecodes and the run stops with ``TimeLimitError`` instead of hanging.
-Signals only work in the main thread; elsewhere (a worker thread) the limit
-is enforced by the caller's process isolation (see ``derive.batch``).
+bytecodes and the run stops instead of hanging.  Signals only work in the
+main thread; elsewhere (a worker thread) the case limit is enforced by the
+caller's process isolation (see ``derive.batch``).
+
+Both limits share one timer discipline (``_alarm_after``): the alarm repeats
+every ``REPEAT`` seconds, so an exception swallowed by a broad ``except``
+inside sympy is raised again instead of letting the block run on; of two
+nested limits the earlier deadline wins, and the outer timer is re-armed with
+its remaining time when the inner block ends.
 """
 
 from __future__ import annotations
@@ -12,16 +18,52 @@ import contextlib
 import signal
 import threading
 import time
-from typing import Iterator
+from typing import Callable, Iterator
 
 from .errors import TimeLimitError
 
-__all__ = ["DEFAULT_TIMEOUT", "time_limit"]
+__all__ = ["DEFAULT_TIMEOUT", "REPEAT", "LimitExpired", "time_limit", "inner_limit"]
 
 #: Seconds allowed for one case unless --timeout says otherwise.
 DEFAULT_TIMEOUT = 120.0
 #: Seconds between repeats of an expired alarm.
 REPEAT = 0.05
+
+
+class LimitExpired(BaseException):
+    """An inner limit ran out (BaseException: sympy catches Exception in places)."""
+
+
+def _on_main_thread() -> bool:
+    return threading.current_thread() is threading.main_thread()
+
+
+@contextlib.contextmanager
+def _alarm_after(seconds: float, expired: Callable[[], BaseException]) -> Iterator[bool]:
+    """Raise ``expired()`` in the block after ``seconds``; yield False when an outer limit fires first."""
+    outer_left, _ = signal.getitimer(signal.ITIMER_REAL)
+    if outer_left and outer_left <= seconds:
+        yield False
+        return
+    done = False
+
+    def _alarm(signum, frame):  # noqa: ARG001 - signal handler signature
+        if done:  # the block is already leaving
+            return
+        raise expired()
+
+    started = time.monotonic()
+    previous = signal.signal(signal.SIGALRM, _alarm)
+    signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
+    try:
+        yield True
+    finally:
+        done = True
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous)
+        if outer_left:
+            remaining = outer_left - (time.monotonic() - started)
+            signal.setitimer(signal.ITIMER_REAL, max(remaining, 1e-3), REPEAT)
 
 
 @contextlib.contextmanager
@@ -31,37 +73,35 @@ def time_limit(seconds: float | None, *, what: str = "the case") -> Iterator[Non
     >>> with time_limit(5):
     ...     pass
     """
-    if not seconds or seconds <= 0 or threading.current_thread() is not threading.main_thread():
+    if not seconds or seconds <= 0 or not _on_main_thread():
         yield
         return
 
-    done = False
-
-    def _alarm(signum, frame):  # noqa: ARG001 - signal handler signature
-        if done:  # the block is already leaving
-            return
-        raise TimeLimitError(
+    def expired() -> TimeLimitError:
+        return TimeLimitError(
             f"{what} did not finish within the time limit of {seconds:g} s; "
             "raise it with --timeout, or simplify the case (fewer symbolic parameters, "
             "numeric values for them)",
         )
 
-    # nested limits: the earlier deadline wins, and the outer timer is re-armed after
-    outer_left, _ = signal.getitimer(signal.ITIMER_REAL)
-    if outer_left and outer_left < seconds:
+    with _alarm_after(seconds, expired):
         yield
+
+
+@contextlib.contextmanager
+def inner_limit(seconds: float) -> Iterator[bool]:
+    """A shorter limit inside a case: raise ``LimitExpired`` in the block after ``seconds``.
+
+    Yields True when the block runs under a limit (its own, or an outer one
+    that fires first and is left in charge), False off the main thread, where
+    no signal can be used: the caller then skips work that could hang.
+
+    >>> with inner_limit(5) as armed:
+    ...     armed
+    True
+    """
+    if not _on_main_thread():
+        yield False
         return
-    started = time.monotonic()
-    previous = signal.signal(signal.SIGALRM, _alarm)
-    # the alarm repeats every REPEAT s: a TimeLimitError swallowed by a broad
-    # except (in sympy, say) is raised again instead of letting the case run on
-    signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
-    try:
-        yield
-    finally:
-        done = True
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
-        if outer_left:
-            remaining = outer_left - (time.monotonic() - started)
-            signal.setitimer(signal.ITIMER_REAL, max(remaining, 1e-3), REPEAT)
+    with _alarm_after(seconds, LimitExpired):
+        yield True

@@ -8,6 +8,7 @@ Everything here is immutable: sympy objects are ``ImmutableMatrix`` and
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from enum import Enum
 from typing import TYPE_CHECKING
 
 import sympy as sp
@@ -20,6 +21,7 @@ __all__ = [
     "System",
     "SheetMeta",
     "Case",
+    "Relation",
     "Condition",
     "NumericCheck",
     "Verification",
@@ -112,17 +114,42 @@ class Case:
     notices: tuple[str, ...] = ()
 
 
+class Relation(str, Enum):
+    """How a condition's expression compares with zero.
+
+    A ``str`` enum: it equals, prints and serialises as its text.
+
+    >>> Relation.NONZERO == "!= 0", f"{Relation.NEGATIVE}"
+    (True, '< 0')
+    """
+
+    NONZERO = "!= 0"
+    NEGATIVE = "< 0"
+    POSITIVE = "> 0"
+    ZERO = "= 0"
+    NONNEGATIVE = ">= 0"
+    NONPOSITIVE = "<= 0"
+
+    __str__ = str.__str__
+    __format__ = str.__format__
+
+
 @dataclass(frozen=True)
 class Condition:
     """A condition a step relies on, e.g. ``k1 - k2 != 0``.
 
-    ``expr`` is the quantity that must not vanish (relation ``"!= 0"``) or the
-    relation itself; ``reason`` says which step relies on it.
+    ``expr`` is the quantity compared with zero by ``relation`` (most often
+    ``Relation.NONZERO``: it must not vanish); ``reason`` says which step
+    relies on it.
     """
 
     expr: sp.Expr
-    relation: str
+    relation: Relation
     reason: str
+
+    def __post_init__(self) -> None:
+        # callers that still pass the text ("!= 0") get the enum member
+        object.__setattr__(self, "relation", Relation(self.relation))
 
 
 @dataclass(frozen=True)

@@ -33,9 +33,21 @@ from sympy.polys.agca.extensions import FiniteExtension
 from sympy.polys.constructor import construct_domain
 from sympy.polys.matrices import DomainMatrix
 
-from .errors import DeriveError, UnsupportedError
+from .eigenvalues import (
+    decimal_text,
+    determinant_shown,
+    domain_matrix,
+    factor_charpoly,
+    numeric_value,
+    parameter_conditions,
+    root_kind,
+    roots_of,
+    with_root_values,
+)
+from .errors import DeriveError, UnsupportedError, VerificationError
 from .exact import numeric_function
 from .model import Condition
+from .settings import DEFAULT_SETTINGS, Settings
 from .steps import (
     ChainLink,
     CharPolyStep,
@@ -50,14 +62,10 @@ from .steps import (
     Step,
 )
 
-__all__ = ["LAM", "Decomposition", "EigenBlock", "decompose", "small_field", "RADICAL_OPS_LIMIT"]
+__all__ = ["LAM", "Decomposition", "EigenBlock", "decompose", "small_field"]
 
 #: The eigenvalue variable shown on the sheet.
 LAM = sp.Symbol("lambda")
-
-#: Size rule: a cubic or quartic root whose radical form needs more operations
-#: than this is kept as an indexed root of its polynomial (with a decimal).
-RADICAL_OPS_LIMIT = 16
 
 _TH = sp.Dummy("theta")  # generic root inside F = K[theta]/(q)
 
@@ -103,6 +111,8 @@ class Decomposition:
     conditions: tuple[Condition, ...]
     #: placeholders for square roots whose sign a regime fixed, and their values
     aux: tuple[tuple[sp.Symbol, sp.Expr], ...] = ()
+    #: the outcome of the exact check P J P^-1 = A (the similarity step says how it was made)
+    similarity_ok: bool = True
 
 
 # ---------------------------------------------------------------------------
@@ -133,8 +143,7 @@ def _coefficient_domain(entries: Sequence[sp.Expr]):
     try:
         dom, _ = construct_domain(list(entries), field=True, extension=True)
     except DeriveError:
-        # a time limit that fires inside sympy is a time limit, not bad input
-        raise
+        raise  # a time limit that fired inside sympy is not a field problem
     except Exception as exc:  # pragma: no cover - sympy internals
         raise UnsupportedError(f"the matrix entries do not lie in a field sympy can compute in exactly: {exc}")
     if dom.is_EX or dom.is_EXRAW:
@@ -144,11 +153,6 @@ def _coefficient_domain(entries: Sequence[sp.Expr]):
         )
     return dom
 
-
-def _dm(M: sp.Matrix, dom) -> DomainMatrix:
-    # entries of a sympy Matrix are sympy objects already: nothing to convert
-    rows = [[dom.from_sympy(e) for e in M.row(i)] for i in range(M.rows)]
-    return DomainMatrix(rows, M.shape, dom)
 
 
 def _to_matrix(M: DomainMatrix, fld: _Field, lam: sp.Symbol | None = None) -> sp.ImmutableMatrix:
@@ -209,116 +213,6 @@ def _inv(M: DomainMatrix) -> DomainMatrix:
         raise ZeroDivisionError("singular matrix")
     dense = R.rep.to_ddm()
     return DomainMatrix([row[n:] for row in dense], (n, n), dom)
-
-
-# ---------------------------------------------------------------------------
-# characteristic polynomial and its factors
-
-
-def _factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
-    n = A.rows
-    coeffs = _dm(A, dom).charpoly()  # det(lam I - A), monic
-    if dom.is_QQ or dom.is_ZZ:
-        # rational coefficients: det(A - lam I) written term by term is already expanded,
-        # and the integer polynomial is factored directly, no expression round trip
-        sign = -1 if n % 2 else 1
-        expanded = sp.Add(*[dom.to_sympy(sign * c) * lam ** (n - i) for i, c in enumerate(coeffs)])
-        den, prim = sp.Poly(list(coeffs), lam, domain=dom).clear_denoms(convert=True)
-        lc, fl = prim.factor_list()
-        return expanded, *_collect_factors(n, lam, sp.Integer(lc) / den, [(f.as_expr(), m) for f, m in fl])
-    mono = sp.Add(*[dom.to_sympy(c) * lam ** (n - i) for i, c in enumerate(coeffs)])
-    expanded = sp.expand((-1) ** n * mono)  # det(A - lam I), as on the sheet
-    num, den = sp.fraction(sp.together(mono))
-    gens = [lam] + sorted((num.free_symbols | den.free_symbols) - {lam}, key=sp.default_sort_key)
-    if dom.is_Algebraic:
-        lc, fl = sp.factor_list(num, lam, extension=list(dom.orig_ext))
-    else:
-        lc, fl = sp.factor_list(num, *gens)
-    return expanded, *_collect_factors(n, lam, lc / den, fl)
-
-
-def _collect_factors(n: int, lam: sp.Symbol, const: sp.Expr, fl) -> tuple[sp.Expr, list]:
-    """(det(A - lam I) as a product, the factors in lam with multiplicities)."""
-    factors = []
-    for fexpr, mult in fl:
-        if not fexpr.has(lam):
-            const *= fexpr**mult
-            continue
-        factors.append((fexpr, int(mult)))
-    # det(A - lam I) = (-1)^n * const * prod(factor^mult)
-    sign_const = sp.factor((-1) ** n * const)
-    factored = sp.Mul(sign_const, *[f**m for f, m in factors], evaluate=False) if sign_const != 1 else sp.Mul(*[f**m for f, m in factors])
-    return factored, factors
-
-
-def _regime_sign(disc: sp.Expr, regimes: Sequence[tuple[sp.Expr, int]]) -> int:
-    """+1 or -1 when a declared regime fixes the sign of ``disc``, else 0."""
-    for expr, sign in regimes:
-        ratio = sp.cancel(sp.together(disc / expr))
-        if ratio.is_number and ratio != 0:
-            return sign if ratio > 0 else -sign
-    return 0
-
-
-def _roots_of(
-    q: sp.Poly, lam: sp.Symbol, has_params: bool, regimes: Sequence[tuple[sp.Expr, int]] = (), aux: list | None = None
-) -> tuple[list[sp.Expr], str, str]:
-    """The roots of an irreducible factor, in the form the size rule picks."""
-    d = q.degree()
-    if d == 1:
-        c1, c0 = q.all_coeffs()
-        return [sp.cancel(-c0 / c1)], ("exact" if has_params else "rational"), ""
-    if d == 2:
-        a, b, c = q.all_coeffs()
-        disc = sp.factor(b**2 - 4 * a * c)
-        sign = _regime_sign(disc, regimes) if has_params and aux is not None else 0
-        if sign:
-            # the regime fixes the sign: a positive placeholder stands for the square
-            # root while the algebra runs, so the real form can be taken; it is
-            # replaced by the root itself in the result
-            w = sp.Dummy("w", positive=True)
-            aux.append((w, sp.sqrt(sp.factor(-disc) if sign < 0 else disc)))
-            s_ = sp.I * w if sign < 0 else w
-            rule = (
-                "regime chosen: discriminant "
-                + sp.sstr(disc)
-                + (" < 0, a complex-conjugate pair" if sign < 0 else " > 0, two real eigenvalues")
-            )
-            return [(-b + s_) / (2 * a), (-b - s_) / (2 * a)], "radical", rule
-        if disc.is_negative:
-            s = sp.I * sp.sqrt(sp.factor(-disc))
-        else:
-            s = sp.sqrt(disc)
-        r1 = (-b + s) / (2 * a)
-        r2 = (-b - s) / (2 * a)
-        return [sp.expand(r1) if not has_params else r1, sp.expand(r2) if not has_params else r2], "radical", ""
-    if has_params:
-        raise UnsupportedError(
-            f"the characteristic polynomial has an irreducible factor of degree {d} with "
-            f"symbolic coefficients ({q.as_expr()}); give the parameters numeric values or "
-            "choose a parameter relation that splits it",
-        )
-    if d >= 5:
-        roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
-        return roots, "indexed root", f"irreducible factor of degree {d} (>= 5): no general radical form"
-    if d == 3:
-        a, b, c, e = q.all_coeffs()
-        disc = b**2 * c**2 - 4 * a * c**3 - 4 * b**3 * e - 27 * a**2 * e**2 + 18 * a * b * c * e
-        if disc > 0:
-            roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
-            return roots, "indexed root", (
-                "three real roots (casus irreducibilis): radicals would need complex cube roots"
-            )
-    rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
-    if len(rad) == d:
-        ops = max(sp.count_ops(r) for r in rad)
-        if ops <= RADICAL_OPS_LIMIT:
-            return [sp.expand(r) for r in rad], "radical", f"radical form within the size limit ({ops} <= {RADICAL_OPS_LIMIT} operations)"
-        rule = f"radical form needs {ops} operations, above the limit of {RADICAL_OPS_LIMIT}"
-    else:
-        rule = "no radical form found"
-    roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
-    return roots, "indexed root", rule
 
 
 # ---------------------------------------------------------------------------
@@ -479,47 +373,6 @@ def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None) -> sp.Expr
     return sp.expand(expr.xreplace({gen: root}))
 
 
-def _with_root_values(e):
-    """Indexed roots replaced by their cached decimals: sympy refines a CRootOf
-    afresh on every evalf, which dominated the time of non-radical cases."""
-    from .exact import root_value
-
-    roots = e.atoms(sp.CRootOf)
-    return e.xreplace({r: root_value(r) for r in roots}) if roots else e
-
-
-def _numeric(value: sp.Expr, subs: dict) -> complex | None:
-    if value.is_Rational:
-        return complex(int(value.p) / int(value.q))
-    try:
-        v = complex(sp.N(_with_root_values(value).xreplace(subs), 30))
-    except (TypeError, ValueError):
-        return None
-    return v
-
-
-def _decimal(value: sp.Expr, v: complex | None) -> str:
-    """The eigenvalue's decimal for the sheet, from its value ``v`` (``_numeric``)."""
-    if value.is_Rational:
-        return str(value) if value.q == 1 else f"{float(value):.6g}"
-    if v is None:
-        return ""
-    if abs(v.imag) < 1e-14 * max(1.0, abs(v.real)):
-        return f"{v.real:.6g}"
-    sign = "+" if v.imag >= 0 else "-"
-    return f"{v.real:.6g} {sign} {abs(v.imag):.6g}i"
-
-
-def _kind(value: sp.Expr) -> str:
-    """"real", "complex", or "unknown" when the sign of a discriminant in the parameters decides."""
-    r = value.is_real
-    if r is True:
-        return "real"
-    if r is False:
-        return "complex"
-    return "unknown"
-
-
 # ---------------------------------------------------------------------------
 # display pieces of the steps, built when a sheet reads them (steps.Deferred)
 
@@ -580,6 +433,8 @@ def decompose(
     lam: sp.Symbol = LAM,
     values: dict | None = None,
     regimes: Sequence[tuple[sp.Expr, int]] = (),
+    settings: Settings = DEFAULT_SETTINGS,
+    strict: bool = True,
 ) -> Decomposition:
     """Exact P, J (D when diagonalisable) and P^-1 of a square matrix, with steps.
 
@@ -590,6 +445,11 @@ def decompose(
     ``values`` maps parameters to numbers, used only to order eigenvalues and
     print decimals.  ``regimes`` are (expression, sign) pairs, e.g.
     (c^2 - 4 k m, -1), fixing the sign of a discriminant in the parameters.
+    ``settings.radical_ops_limit`` is the size rule for cubic and quartic
+    roots.  A failed check P J P^-1 = A raises ``VerificationError``; with
+    ``strict=False`` it is recorded in ``similarity_ok`` (and in the
+    similarity step) instead, for the solve's verification to report with the
+    result it carries.
     """
     A = sp.ImmutableMatrix(A)
     n = A.rows
@@ -599,7 +459,7 @@ def decompose(
     params = sorted(A.free_symbols, key=sp.default_sort_key)
     has_params = bool(params)
     aux: list[tuple[sp.Symbol, sp.Expr]] = []
-    expanded, factored, factors = _factor_charpoly(A, K, lam)
+    expanded, factored, factors = factor_charpoly(A, K, lam)
     steps: list[Step] = [
         CharPolyStep(
             lam=lam,
@@ -610,7 +470,7 @@ def decompose(
             domain=str(K),
         )
     ]
-    A_K = _dm(A, K)
+    A_K = domain_matrix(A, K)
     blocks: list[EigenBlock] = []
     vector_steps: list[Step] = []
     chain_steps: list[Step] = []
@@ -621,7 +481,7 @@ def decompose(
         mult = int(mult)
         q_lam = sp.Poly(fexpr, lam, domain=K)
         q_monic = q_lam.monic()
-        roots, form, rule = _roots_of(q_lam, lam, has_params, regimes, aux)
+        roots, form, rule = roots_of(q_lam, lam, has_params, regimes, aux, ops_limit=settings.radical_ops_limit)
         for w, w_value in aux:
             if w not in values and all(p in values for p in w_value.free_symbols):
                 values[w] = sp.N(w_value.xreplace(values), 30)
@@ -638,7 +498,7 @@ def decompose(
             fld = _Field(dom=Fdom, K=K, q=q_th, root=None)
             theta = Fdom.convert(_TH)
             gen = _TH
-        A_F = A_K if Fdom is K else _dm(A, Fdom)
+        A_F = A_K if Fdom is K else domain_matrix(A, Fdom)
         N = A_F - DomainMatrix.eye(n, Fdom) * theta
         chains_F, kernels = _jordan_chains(N, mult, n)
         geometric = len(kernels[0])
@@ -718,7 +578,7 @@ def decompose(
                     sp.ImmutableMatrix(1, n, [_instantiate(e, root, gen) for e in W_expr.row(i)])
                     for i in range(W_expr.rows)
                 )
-            num = _numeric(root, values)
+            num = numeric_value(root, values)
             blocks.append(
                 EigenBlock(
                     value=root,
@@ -729,8 +589,8 @@ def decompose(
                     factor=fexpr,
                     form=form,
                     rule=rule,
-                    decimal=_decimal(root, num),
-                    kind=_kind(root),
+                    decimal=decimal_text(root, num),
+                    kind=root_kind(root),
                     numeric=num,
                 )
             )
@@ -817,19 +677,19 @@ def decompose(
     if all_in_K:
         # every number lies in K: P^-1 again by elimination on [P | I], and both
         # checks (the same inverse, P J P^-1 = A) as exact arithmetic in K
-        PK = _dm(P, K)
+        PK = domain_matrix(P, K)
         det = sp.factor(K.to_sympy(PK.det()))
         inv_K = _inv(PK)
         inv_direct = _to_matrix(inv_K, _Field(K, K, None, None))
-        field_ok = field_ok and inv_K.to_dense() == _dm(P_inv, K).to_dense()
+        field_ok = field_ok and inv_K.to_dense() == domain_matrix(P_inv, K).to_dense()
         P_inv = sp.ImmutableMatrix(inv_direct.applyfunc(sp.factor if has_params else (lambda e: e)))
         method = "Gauss-Jordan elimination on [P | I]"
         # with P invertible (its inverse was just found), A P = P J is P J P^-1 = A
-        sim_ok = field_ok and (A_K * PK).to_dense() == (PK * _dm(J, K).to_sparse()).to_dense()
+        sim_ok = field_ok and (A_K * PK).to_dense() == (PK * domain_matrix(J, K).to_sparse()).to_dense()
         product = Deferred(_product, P, J, P_inv)
     else:
         exact = small_field(P, J, P_inv, A)  # one field for det P and the similarity check
-        det = _det_display(P, exact)
+        det = determinant_shown(P, exact)
         method = (
             "rows of P^-1 are the left eigenvectors (left Jordan chains) of A, each block "
             "normalised so that W V = I; computed once per irreducible factor of the "
@@ -838,12 +698,10 @@ def decompose(
         product, sim_ok = A, field_ok and _similarity_check(A, P, J, P_inv, values, exact)
     steps.append(InverseStep(P=P, det=det, P_inv=P_inv, method=method))
     steps.append(SimilarityStep(P=P, D=J, P_inv=P_inv, product=product, A=A, ok=sim_ok))
-    if not sim_ok:
-        from .errors import VerificationError
-
+    if strict and not sim_ok:
         raise VerificationError("the decomposition failed its own check P D P^-1 = A; no result is reported")
 
-    conditions = _conditions(A, factors, P, P_inv, lam, K) if has_params else ()
+    conditions = parameter_conditions(A, factors, P, P_inv, lam, K) if has_params else ()
     return Decomposition(
         A=A,
         lam=lam,
@@ -859,6 +717,7 @@ def decompose(
         steps=tuple(steps),
         conditions=conditions,
         aux=tuple(aux),
+        similarity_ok=bool(sim_ok),
     )
 
 
@@ -875,31 +734,6 @@ def _order_blocks(blocks: list[EigenBlock], keep: bool) -> list[EigenBlock]:
     return sorted(blocks, key=key)
 
 
-def _det_display(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -> sp.Expr:
-    """det P exactly where that is cheap (a small field, radicals with n <= 4), else its decimal.
-
-    ``exact`` is ``small_field(P, ...)`` or None.  Only invertibility is at
-    stake here; P^-1 itself is exact either way.
-    """
-    if exact is not None:
-        return exact[0].domain.to_sympy(exact[0].det())
-    if P.rows <= 4 and not P.has(sp.CRootOf):
-        try:
-            return sp.radsimp(sp.expand(P.det(method="berkowitz")))
-        except Exception:  # pragma: no cover - sympy internals
-            pass
-    import mpmath
-
-    with mpmath.workdps(30):
-        P = _with_root_values(P)
-        M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
-        d = mpmath.det(M)
-    d = complex(d)
-    if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
-        return sp.Float(d.real, 12)
-    return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
-
-
 def _similarity_check(A, P, J, P_inv, values, exact: list[DomainMatrix] | None) -> bool:
     """P J P^-1 = A: exactly in a small field (``small_field``), else numerically.
 
@@ -914,7 +748,7 @@ def _similarity_check(A, P, J, P_inv, values, exact: list[DomainMatrix] | None) 
         Pd, Jd, Qd, Ad = exact
         return (Pd * Jd * Qd - Ad).is_zero_matrix
     n = A.rows
-    mats = [_with_root_values(M).xreplace(dict(values)) for M in (P, J, P_inv, A)]
+    mats = [with_root_values(M).xreplace(dict(values)) for M in (P, J, P_inv, A)]
     if any(M.free_symbols for M in mats):
         # free parameters without values: the exact check in F stands alone
         return True
@@ -957,6 +791,8 @@ def small_field(*matrices: sp.MatrixBase) -> list[DomainMatrix] | None:
         return None
     try:
         K, elems = construct_domain(entries, field=True, extension=True)
+    except DeriveError:
+        raise
     except Exception:  # pragma: no cover - sympy internals
         return None
     if K.is_EX or K.is_EXRAW:
@@ -967,50 +803,3 @@ def small_field(*matrices: sp.MatrixBase) -> list[DomainMatrix] | None:
         out.append(DomainMatrix([elems[pos + i * c : pos + i * c + c] for i in range(r)], (r, c), K))
         pos += r * c
     return out
-
-
-def _denominator(e: sp.Expr, K) -> sp.Expr:
-    """The denominator of e in lowest terms: read in the field K of rational functions
-    where e lies there (cheap), else by cancelling the expression."""
-    if K is not None and K.is_FractionField:
-        try:
-            return K.from_sympy(e).denom.as_expr()
-        except (sp.CoercionFailed, sp.polys.polyerrors.PolynomialError, ValueError, TypeError):
-            pass
-    return sp.fraction(sp.cancel(sp.together(e)))[1]
-
-
-def _conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, ...]:
-    """Conditions in the parameters on which the derivation relies."""
-    out: list[Condition] = []
-    seen: set = set()
-
-    def add(expr: sp.Expr, reason: str) -> None:
-        expr = sp.factor(expr)
-        for f in sp.Mul.make_args(expr):
-            if f.is_Pow and f.exp.is_Number:
-                f = f.base
-            if not f.free_symbols or f.is_positive or f.is_negative or f.is_nonzero:
-                continue
-            f = sp.expand(f)
-            if f.could_extract_minus_sign():
-                f = -f
-            if f in seen:
-                continue
-            seen.add(f)
-            out.append(Condition(expr=f, relation="!= 0", reason=reason))
-
-    fs = [f for f, _ in factors]
-    if sum(sp.degree(f, lam) for f in fs) >= 2:
-        # disc(prod f_i) = prod disc(f_i) * prod_{i<j} res(f_i, f_j)^2 up to a constant
-        # factor: each piece is small to factor, the expanded discriminant is not
-        pieces = [sp.discriminant(f, lam) for f in fs if sp.degree(f, lam) >= 2]
-        pieces += [sp.resultant(fs[i], fs[j], lam) ** 2 for i in range(len(fs)) for j in range(i + 1, len(fs))]
-        add(sp.Mul(*pieces), "the eigenvalues are distinct (discriminant of the characteristic polynomial)")
-    for e in dict.fromkeys(list(P) + list(P_inv)):
-        if not e.free_symbols:
-            continue
-        den = _denominator(e, K)
-        if den.free_symbols:
-            add(den, "a denominator in P or P^-1 is nonzero")
-    return tuple(out)

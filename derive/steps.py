@@ -16,13 +16,14 @@ concrete values.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, fields
-from typing import Any, Callable, ClassVar
+from dataclasses import dataclass, fields, is_dataclass, replace
+from typing import Any, Callable, ClassVar, Mapping
 
 import sympy as sp
 
 __all__ = [
     "Deferred",
+    "substitute",
     "Step",
     "EquationsStep",
     "CharPolyStep",
@@ -82,6 +83,33 @@ class _Resolving:
     def __getstate__(self) -> dict[str, Any]:
         # pickling (batch workers, the cache) sends values, never the closures
         return {f.name: getattr(self, f.name) for f in fields(self)}  # type: ignore[arg-type]
+
+
+def substitute(value: Any, mapping: Mapping[sp.Basic, sp.Expr]) -> Any:
+    """``value`` with ``mapping`` applied to every sympy object in it.
+
+    Steps, records (any dataclass) and tuples are rebuilt field by field; a
+    Deferred field stays deferred and is substituted when it is read.
+
+    >>> a, b = sp.symbols("a b")
+    >>> substitute((a + 1, ResultStep(t=a, states=(), x=Matrix([a]), homogeneous=Matrix([0]),
+    ...            particular=Matrix([a]), constants=())), {a: b})[1].x
+    Matrix([[b]])
+    """
+    if isinstance(value, sp.Basic):
+        return value.xreplace(dict(mapping))
+    if isinstance(value, tuple):
+        return tuple(substitute(v, mapping) for v in value)
+    if type(value) is Deferred:
+        return Deferred(_substituted, value, dict(mapping))
+    if is_dataclass(value) and not isinstance(value, type):
+        raw = {f.name: substitute(object.__getattribute__(value, f.name), mapping) for f in fields(value) if f.init}
+        return replace(value, **raw)
+    return value
+
+
+def _substituted(later: Deferred, mapping: Mapping[sp.Basic, sp.Expr]) -> Any:
+    return substitute(later.fn(*later.args), mapping)
 
 
 @dataclass(frozen=True)

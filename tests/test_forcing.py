@@ -12,6 +12,7 @@ The scenarios are invented for this file.
 
 from __future__ import annotations
 
+from dataclasses import replace
 import signal
 
 import mpmath
@@ -29,6 +30,7 @@ from derive.exact import is_zero_number
 from derive.expoly import ExpPoly, integrate_against
 from derive.limits import time_limit
 from derive.render import render
+from derive.settings import DEFAULT_SETTINGS
 from derive.steps import ConvolutionStep, IntervalStep, JumpStep, SteadyStateStep
 from derive.verify.pieces import numeric_solution
 
@@ -240,10 +242,10 @@ def test_integrate_against_agrees_with_sympy_and_mpmath(h, lam):
 # The integral's alarm can land inside hypothesis's garbage-collection callback, where
 # Python reports the exception as unraisable; the alarm fires again 50 ms later.
 @pytest.mark.filterwarnings("ignore::pytest.PytestUnraisableExceptionWarning")
-def test_convolution_for_a_rational_input_matches_scipy(monkeypatch):
-    monkeypatch.setattr(forcing, "INTEGRATE_SECONDS", 1.0)
+def test_convolution_for_a_rational_input_matches_scipy():
+    quick = replace(DEFAULT_SETTINGS, integrate_seconds=1.0)
     f = [0, 1 / (1 + t**2)]
-    sol = derive.solve([[0, 1], [-2, -3]], f, t=t, x0=[1, 0])
+    sol = derive.solve([[0, 1], [-2, -3]], f, t=t, x0=[1, 0], settings=quick)
     assert sol.verification.ok and sol.verification.numeric is not None and sol.verification.numeric.ok
     conv = [s for s in sol.steps if isinstance(s, ConvolutionStep)]
     assert len(conv) == 2 and all(s.integrals for s in conv)
@@ -272,17 +274,17 @@ def test_unspecified_input_u_of_t_through_the_python_interface():
     assert all(sp.simplify(a - b) == 0 for a, b in zip(filled, direct.x))
 
 
-def test_convolution_with_complex_eigenvalues_is_real_and_honours_t0(monkeypatch):
-    monkeypatch.setattr(forcing, "INTEGRATE_SECONDS", 1.0)
+def test_convolution_with_complex_eigenvalues_is_real_and_honours_t0():
+    quick = replace(DEFAULT_SETTINGS, integrate_seconds=1.0)
     u = sp.Function("u")
-    sol = derive.solve([[0, 1], [-5, -2]], [0, u(t)], t=t, x0=[1, 0], t0=1)
+    sol = derive.solve([[0, 1], [-5, -2]], [0, u(t)], t=t, x0=[1, 0], t0=1, settings=quick)
     assert not any(e.has(sp.I) for e in sol.x)
     assert sol.verification.ok and sol.verification.initial_ok
 
 
-def test_hard_integral_is_kept_and_checked_by_quadrature(monkeypatch):
-    monkeypatch.setattr(forcing, "INTEGRATE_SECONDS", 0.5)
-    sol = derive.solve([[-1]], [sp.exp(-t**2) * sp.cos(t)], t=t, x0=[0])
+def test_hard_integral_is_kept_and_checked_by_quadrature():
+    quick = replace(DEFAULT_SETTINGS, integrate_seconds=0.5)
+    sol = derive.solve([[-1]], [sp.exp(-t**2) * sp.cos(t)], t=t, x0=[0], settings=quick)
     assert sol.verification.ok and sol.verification.numeric.ok
 
 

@@ -56,7 +56,7 @@ import scipy.integrate  # noqa: E402,F401 - derive.verify imports it lazily; loa
 import sympy as sp  # noqa: E402
 
 import derive  # noqa: E402
-import derive.pipeline  # noqa: E402
+import derive.pipeline  # noqa: E402,F401 - loads the solving modules whose stages are timed
 from bench.corpus import CORPUS, QUICK, TARGET_8X8, BenchCase, by_name  # noqa: E402
 from derive.errors import DeriveError, InputError, TimeLimitError, UnsupportedError, VerificationError  # noqa: E402
 from derive.limits import time_limit  # noqa: E402
@@ -214,6 +214,18 @@ def check_solution(case: BenchCase, x: Sequence[sp.Expr], constants: Sequence[sp
 # the two solvers
 
 
+#: (module, name, stage): the stage functions as the solving modules import them
+_STAGE_PATCHES: tuple[tuple[str, str, str], ...] = (
+    ("derive.solving.stages", "decompose", "decompose"),
+    ("derive.solving.methods.closed", "solve_blocks", "integrate"),
+    ("derive.solving.methods.intervals", "solve_blocks", "integrate"),
+    ("derive.solving.methods.closed", "recombine", "recombine"),
+    ("derive.solving.methods.intervals", "recombine", "recombine"),
+    ("derive.solving.assembly", "verify", "verify"),
+    ("derive.solving.assembly", "verify_pieces", "verify"),
+)
+
+
 def _stage_timer(name: str, fn: Callable, sink: dict[str, float]) -> Callable:
     @functools.wraps(fn)
     def timed(*args: Any, **kwargs: Any) -> Any:
@@ -233,19 +245,15 @@ def solve_with_derive(case: BenchCase) -> tuple[sp.Matrix, tuple[sp.Symbol, ...]
     solve time and the LaTeX render time.
     """
     stages: dict[str, float] = {}
-    # pipeline.py imported these names, so patching them there times exactly what solve_system calls
-    patches = {
-        "decompose": "decompose",
-        "solve_blocks": "integrate",
-        "recombine": "recombine",
-        "verify": "verify",
-    }
-    missing = [attr for attr in patches if not hasattr(derive.pipeline, attr)]
+    # each stage function is patched where the solving modules look it up, so
+    # the timers see exactly what a solve calls (on every forcing method)
+    patches = [(module, attr, stage) for module, attr, stage in _STAGE_PATCHES]
+    missing = [f"{m}.{a}" for m, a, _ in patches if not hasattr(sys.modules[m], a)]
     if missing:
-        raise RuntimeError("derive.pipeline no longer calls " + ", ".join(missing) + ": update the stage profile")
-    originals = {attr: getattr(derive.pipeline, attr) for attr in patches}
-    for attr, stage in patches.items():
-        setattr(derive.pipeline, attr, _stage_timer(stage, originals[attr], stages))
+        raise RuntimeError("the solving modules no longer call " + ", ".join(missing) + ": update the stage profile")
+    originals = [(sys.modules[m], a, getattr(sys.modules[m], a)) for m, a, _ in patches]
+    for (mod, attr, fn), (_, _, stage) in zip(originals, patches):
+        setattr(mod, attr, _stage_timer(stage, fn, stages))
     try:
         start = time.perf_counter()
         sol = derive.solve(
@@ -258,8 +266,8 @@ def solve_with_derive(case: BenchCase) -> tuple[sp.Matrix, tuple[sp.Symbol, ...]
         )
         solve_s = time.perf_counter() - start
     finally:
-        for attr, fn in originals.items():
-            setattr(derive.pipeline, attr, fn)
+        for mod, attr, fn in originals:
+            setattr(mod, attr, fn)
     extra: dict[str, Any] = {"solve_s": solve_s}
     start = time.perf_counter()
     try:

@@ -1,0 +1,272 @@
+"""The eigenvalues: the characteristic polynomial, its factors and their roots.
+
+det(A - lam I) is computed over the coefficient field K and factored there;
+each irreducible factor's roots are written in the form the size rule picks
+(rational, radical within ``Settings.radical_ops_limit`` operations, or an
+indexed root of the factor), with a decimal and a kind (real, complex, or
+unknown while the sign of a discriminant in the parameters is open).  The
+conditions in the parameters that the derivation relies on are read here too.
+``derive.spectral`` builds the eigenvectors and P, J, P^-1 on top of these.
+"""
+
+from __future__ import annotations
+
+from typing import Sequence
+
+import sympy as sp
+from sympy.polys.matrices import DomainMatrix
+
+from .errors import DeriveError, UnsupportedError
+from .model import Condition, Relation
+
+__all__ = [
+    "domain_matrix",
+    "determinant_shown",
+    "factor_charpoly",
+    "collect_factors",
+    "regime_sign",
+    "roots_of",
+    "with_root_values",
+    "numeric_value",
+    "decimal_text",
+    "root_kind",
+    "denominator",
+    "parameter_conditions",
+]
+
+
+def domain_matrix(M: sp.MatrixBase, dom) -> DomainMatrix:
+    """M over the domain ``dom`` (its entries are sympy objects already: nothing is parsed)."""
+    rows = [[dom.from_sympy(e) for e in M.row(i)] for i in range(M.rows)]
+    return DomainMatrix(rows, M.shape, dom)
+
+
+# ---------------------------------------------------------------------------
+# characteristic polynomial and its factors
+
+
+def factor_charpoly(A: sp.ImmutableMatrix, dom, lam: sp.Symbol):
+    n = A.rows
+    coeffs = domain_matrix(A, dom).charpoly()  # det(lam I - A), monic
+    if dom.is_QQ or dom.is_ZZ:
+        # rational coefficients: det(A - lam I) written term by term is already expanded,
+        # and the integer polynomial is factored directly, no expression round trip
+        sign = -1 if n % 2 else 1
+        expanded = sp.Add(*[dom.to_sympy(sign * c) * lam ** (n - i) for i, c in enumerate(coeffs)])
+        den, prim = sp.Poly(list(coeffs), lam, domain=dom).clear_denoms(convert=True)
+        lc, fl = prim.factor_list()
+        return expanded, *collect_factors(n, lam, sp.Integer(lc) / den, [(f.as_expr(), m) for f, m in fl])
+    mono = sp.Add(*[dom.to_sympy(c) * lam ** (n - i) for i, c in enumerate(coeffs)])
+    expanded = sp.expand((-1) ** n * mono)  # det(A - lam I), as on the sheet
+    num, den = sp.fraction(sp.together(mono))
+    gens = [lam] + sorted((num.free_symbols | den.free_symbols) - {lam}, key=sp.default_sort_key)
+    if dom.is_Algebraic:
+        lc, fl = sp.factor_list(num, lam, extension=list(dom.orig_ext))
+    else:
+        lc, fl = sp.factor_list(num, *gens)
+    return expanded, *collect_factors(n, lam, lc / den, fl)
+
+
+def collect_factors(n: int, lam: sp.Symbol, const: sp.Expr, fl) -> tuple[sp.Expr, list]:
+    """(det(A - lam I) as a product, the factors in lam with multiplicities)."""
+    factors = []
+    for fexpr, mult in fl:
+        if not fexpr.has(lam):
+            const *= fexpr**mult
+            continue
+        factors.append((fexpr, int(mult)))
+    # det(A - lam I) = (-1)^n * const * prod(factor^mult)
+    sign_const = sp.factor((-1) ** n * const)
+    factored = sp.Mul(sign_const, *[f**m for f, m in factors], evaluate=False) if sign_const != 1 else sp.Mul(*[f**m for f, m in factors])
+    return factored, factors
+
+
+def regime_sign(disc: sp.Expr, regimes: Sequence[tuple[sp.Expr, int]]) -> int:
+    """+1 or -1 when a declared regime fixes the sign of ``disc``, else 0."""
+    for expr, sign in regimes:
+        ratio = sp.cancel(sp.together(disc / expr))
+        if ratio.is_number and ratio != 0:
+            return sign if ratio > 0 else -sign
+    return 0
+
+
+def roots_of(
+    q: sp.Poly,
+    lam: sp.Symbol,
+    has_params: bool,
+    regimes: Sequence[tuple[sp.Expr, int]] = (),
+    aux: list | None = None,
+    *,
+    ops_limit: int = 16,
+) -> tuple[list[sp.Expr], str, str]:
+    """The roots of an irreducible factor, in the form the size rule picks."""
+    d = q.degree()
+    if d == 1:
+        c1, c0 = q.all_coeffs()
+        return [sp.cancel(-c0 / c1)], ("exact" if has_params else "rational"), ""
+    if d == 2:
+        a, b, c = q.all_coeffs()
+        disc = sp.factor(b**2 - 4 * a * c)
+        sign = regime_sign(disc, regimes) if has_params and aux is not None else 0
+        if sign:
+            # the regime fixes the sign: a positive placeholder stands for the square
+            # root while the algebra runs, so the real form can be taken; it is
+            # replaced by the root itself in the result
+            w = sp.Dummy("w", positive=True)
+            aux.append((w, sp.sqrt(sp.factor(-disc) if sign < 0 else disc)))
+            s_ = sp.I * w if sign < 0 else w
+            rule = (
+                "regime chosen: discriminant "
+                + sp.sstr(disc)
+                + (" < 0, a complex-conjugate pair" if sign < 0 else " > 0, two real eigenvalues")
+            )
+            return [(-b + s_) / (2 * a), (-b - s_) / (2 * a)], "radical", rule
+        if disc.is_negative:
+            s = sp.I * sp.sqrt(sp.factor(-disc))
+        else:
+            s = sp.sqrt(disc)
+        r1 = (-b + s) / (2 * a)
+        r2 = (-b - s) / (2 * a)
+        return [sp.expand(r1) if not has_params else r1, sp.expand(r2) if not has_params else r2], "radical", ""
+    if has_params:
+        raise UnsupportedError(
+            f"the characteristic polynomial has an irreducible factor of degree {d} with "
+            f"symbolic coefficients ({q.as_expr()}); give the parameters numeric values or "
+            "choose a parameter relation that splits it",
+        )
+    if d >= 5:
+        roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
+        return roots, "indexed root", f"irreducible factor of degree {d} (>= 5): no general radical form"
+    if d == 3:
+        a, b, c, e = q.all_coeffs()
+        disc = b**2 * c**2 - 4 * a * c**3 - 4 * b**3 * e - 27 * a**2 * e**2 + 18 * a * b * c * e
+        if disc > 0:
+            roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
+            return roots, "indexed root", (
+                "three real roots (casus irreducibilis): radicals would need complex cube roots"
+            )
+    rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
+    if len(rad) == d:
+        ops = max(sp.count_ops(r) for r in rad)
+        if ops <= ops_limit:
+            return [sp.expand(r) for r in rad], "radical", f"radical form within the size limit ({ops} <= {ops_limit} operations)"
+        rule = f"radical form needs {ops} operations, above the limit of {ops_limit}"
+    else:
+        rule = "no radical form found"
+    roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
+    return roots, "indexed root", rule
+
+
+def with_root_values(e):
+    """Indexed roots replaced by their cached decimals: sympy refines a CRootOf
+    afresh on every evalf, which dominated the time of non-radical cases."""
+    from .exact import root_value
+
+    roots = e.atoms(sp.CRootOf)
+    return e.xreplace({r: root_value(r) for r in roots}) if roots else e
+
+
+def numeric_value(value: sp.Expr, subs: dict) -> complex | None:
+    if value.is_Rational:
+        return complex(int(value.p) / int(value.q))
+    try:
+        v = complex(sp.N(with_root_values(value).xreplace(subs), 30))
+    except (TypeError, ValueError):
+        return None
+    return v
+
+
+def decimal_text(value: sp.Expr, v: complex | None) -> str:
+    """The eigenvalue's decimal for the sheet, from its value ``v`` (``numeric_value``)."""
+    if value.is_Rational:
+        return str(value) if value.q == 1 else f"{float(value):.6g}"
+    if v is None:
+        return ""
+    if abs(v.imag) < 1e-14 * max(1.0, abs(v.real)):
+        return f"{v.real:.6g}"
+    sign = "+" if v.imag >= 0 else "-"
+    return f"{v.real:.6g} {sign} {abs(v.imag):.6g}i"
+
+
+def root_kind(value: sp.Expr) -> str:
+    """"real", "complex", or "unknown" when the sign of a discriminant in the parameters decides."""
+    r = value.is_real
+    if r is True:
+        return "real"
+    if r is False:
+        return "complex"
+    return "unknown"
+
+
+def denominator(e: sp.Expr, K) -> sp.Expr:
+    """The denominator of e in lowest terms: read in the field K of rational functions
+    where e lies there (cheap), else by cancelling the expression."""
+    if K is not None and K.is_FractionField:
+        try:
+            return K.from_sympy(e).denom.as_expr()
+        except (sp.CoercionFailed, sp.polys.polyerrors.PolynomialError, ValueError, TypeError):
+            pass
+    return sp.fraction(sp.cancel(sp.together(e)))[1]
+
+
+def parameter_conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, ...]:
+    """Conditions in the parameters on which the derivation relies."""
+    out: list[Condition] = []
+    seen: set = set()
+
+    def add(expr: sp.Expr, reason: str) -> None:
+        expr = sp.factor(expr)
+        for f in sp.Mul.make_args(expr):
+            if f.is_Pow and f.exp.is_Number:
+                f = f.base
+            if not f.free_symbols or f.is_positive or f.is_negative or f.is_nonzero:
+                continue
+            f = sp.expand(f)
+            if f.could_extract_minus_sign():
+                f = -f
+            if f in seen:
+                continue
+            seen.add(f)
+            out.append(Condition(expr=f, relation=Relation.NONZERO, reason=reason))
+
+    fs = [f for f, _ in factors]
+    if sum(sp.degree(f, lam) for f in fs) >= 2:
+        # disc(prod f_i) = prod disc(f_i) * prod_{i<j} res(f_i, f_j)^2 up to a constant
+        # factor: each piece is small to factor, the expanded discriminant is not
+        pieces = [sp.discriminant(f, lam) for f in fs if sp.degree(f, lam) >= 2]
+        pieces += [sp.resultant(fs[i], fs[j], lam) ** 2 for i in range(len(fs)) for j in range(i + 1, len(fs))]
+        add(sp.Mul(*pieces), "the eigenvalues are distinct (discriminant of the characteristic polynomial)")
+    for e in dict.fromkeys(list(P) + list(P_inv)):
+        if not e.free_symbols:
+            continue
+        den = denominator(e, K)
+        if den.free_symbols:
+            add(den, "a denominator in P or P^-1 is nonzero")
+    return tuple(out)
+
+
+def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -> sp.Expr:
+    """det P exactly where that is cheap (a small field, radicals with n <= 4), else its decimal.
+
+    ``exact`` is ``small_field(P, ...)`` or None.  Only invertibility is at
+    stake here; P^-1 itself is exact either way.
+    """
+    if exact is not None:
+        return exact[0].domain.to_sympy(exact[0].det())
+    if P.rows <= 4 and not P.has(sp.CRootOf):
+        try:
+            return sp.radsimp(sp.expand(P.det(method="berkowitz")))
+        except DeriveError:
+            raise
+        except Exception:  # pragma: no cover - sympy internals
+            pass
+    import mpmath
+
+    with mpmath.workdps(30):
+        P = with_root_values(P)
+        M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
+        d = mpmath.det(M)
+    d = complex(d)
+    if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
+        return sp.Float(d.real, 12)
+    return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
