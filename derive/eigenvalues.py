@@ -16,6 +16,7 @@ from typing import Sequence
 import sympy as sp
 from sympy.polys.matrices import DomainMatrix
 
+from .relations import regime_sign
 from .errors import DeriveError, UnsupportedError
 from .model import Condition, Relation
 
@@ -24,7 +25,6 @@ __all__ = [
     "determinant_shown",
     "factor_charpoly",
     "collect_factors",
-    "regime_sign",
     "roots_of",
     "with_root_values",
     "numeric_value",
@@ -79,15 +79,6 @@ def collect_factors(n: int, lam: sp.Symbol, const: sp.Expr, fl) -> tuple[sp.Expr
     sign_const = sp.factor((-1) ** n * const)
     factored = sp.Mul(sign_const, *[f**m for f, m in factors], evaluate=False) if sign_const != 1 else sp.Mul(*[f**m for f, m in factors])
     return factored, factors
-
-
-def regime_sign(disc: sp.Expr, regimes: Sequence[tuple[sp.Expr, int]]) -> int:
-    """+1 or -1 when a declared regime fixes the sign of ``disc``, else 0."""
-    for expr, sign in regimes:
-        ratio = sp.cancel(sp.together(disc / expr))
-        if ratio.is_number and ratio != 0:
-            return sign if ratio > 0 else -sign
-    return 0
 
 
 def roots_of(

@@ -123,11 +123,6 @@ def test_the_critical_relation_still_solves() -> None:
     assert sol.eigenvalues == (-c / (2 * m), -c / (2 * m))
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="needs spectral._regime_sign to delegate to relations.regime_sign (input branch report); "
-    "remove this marker when that change is merged",
-)
 def test_a_regime_in_a_reduced_form_is_used() -> None:
     # a series RLC circuit, charge q and current i: C L q'' + C R q' + q = 0
     A = sp.Matrix([[0, 1], [-1 / (L * C), -R / L]])

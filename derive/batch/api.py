@@ -117,7 +117,7 @@ def batch(
             timeout=float(timeout),
             keep_solution=keep_solutions,
             collect=scheduler is not None and folder is not None,
-            tex_seconds=settings.batch_tex_seconds,
+            settings=settings,
         )
         # Pickled once, here: a case that cannot be pickled is this case's error, not the pool's.
         try:

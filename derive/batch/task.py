@@ -71,7 +71,8 @@ class CaseTask:
     timeout: float
     keep_solution: bool
     collect: bool = False
-    tex_seconds: float = DEFAULT_SETTINGS.batch_tex_seconds
+    #: the solve's knobs and the TeX allowance
+    settings: Settings = DEFAULT_SETTINGS
 
 
 def hard_limit(timeout: float, *, pdf: bool, settings: Settings = DEFAULT_SETTINGS) -> float | None:
@@ -104,7 +105,7 @@ def run_task(task: CaseTask) -> Outcome:
     try:
         with time_limit(task.timeout, what=f"case {case.name!r}"):
             try:
-                sol = solve_case(case)
+                sol = solve_case(case, settings=task.settings)
             except VerificationError as err:
                 sol = getattr(err, "solution", None)
                 if sol is None:
@@ -116,7 +117,7 @@ def run_task(task: CaseTask) -> Outcome:
         if root is not None:
             folder = Path(root, CASES_DIR, case.name)
             paths = write_outputs(
-                sol, folder, stem=case.name, formats=task.formats, pdf=task.pdf, tex_timeout=task.tex_seconds
+                sol, folder, stem=case.name, formats=task.formats, pdf=task.pdf, tex_timeout=task.settings.batch_tex_seconds
             )
             outputs = tuple(Path(os.path.relpath(p, root)).as_posix() for p in paths)
             if scratch is not None:

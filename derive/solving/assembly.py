@@ -16,6 +16,7 @@ from typing import Sequence
 
 import sympy as sp
 
+from ..relations import regime_sign
 from ..errors import VerificationError
 from ..exact import root_value
 from ..model import Case, Condition, Relation, Solution, Verification

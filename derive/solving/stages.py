@@ -23,6 +23,7 @@ import sympy as sp
 
 from ..model import Case, Condition, Solution, System
 from ..relations import apply_relations, parse_relations, split_assumptions
+from ..relations import check_regimes
 from ..relations import regimes as regime_notes
 from ..settings import DEFAULT_SETTINGS, Settings
 from ..spectral import decompose
@@ -58,6 +59,9 @@ def solve_system(
     # decompose (a failed check P J P^-1 = A is reported by the verification, with the result)
     dec = decompose(system.A, values=values, regimes=regimes, settings=settings, strict=False)
     steps.extend(dec.steps)
+    if regimes:
+        # a regime that fixes no discriminant would be listed as solved here and then ignored
+        check_regimes(dec.steps[0].factors, dec.lam, regimes)
     notices = list(notices)
     if not regimes:
         notices.extend(regime_notes(dec.steps[0].factors, dec.lam, values))

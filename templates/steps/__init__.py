@@ -1,1 +1,0 @@
-"""One LaTeX partial per step kind: ``<kind>.tex.j2``."""
