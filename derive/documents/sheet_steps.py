@@ -16,7 +16,7 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..model import Solution
-from ..render.escape import tex_escape
+from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
@@ -102,6 +102,17 @@ class StepContext:
         return Name(f"y_{{{step.conjugate_of}}}", f"y_{step.conjugate_of}")
 
 
+def integration_variable(t: sp.Symbol, *exprs: Any) -> sp.Symbol:
+    """A variable of integration distinct from the limit ``t`` and from every name in ``exprs``.
+
+    >>> integration_variable(sp.Symbol("t"), sp.Symbol("s"))
+    tau
+    """
+    used = {t.name} | {x.name for e in exprs if isinstance(e, sp.Basic) for x in e.free_symbols}
+    name = next(n for n in ("s", "tau", "sigma", "xi", "s_1") if n not in used)
+    return sp.Symbol(name, real=True)
+
+
 def _mat(name: str, plain: str, M: Any) -> Eq:
     return Eq(((Name(name, plain), M),))
 
@@ -164,7 +175,7 @@ def _eigenvalues(s: Any, c: StepContext) -> list[Block]:
         P("Each irreducible factor is set to zero. The eigenvalues, in the order used for the columns of ", N("P"), ", are:"),
         MathRows(tuple(rows)),
     ]
-    out += [P("Form of ", Math(e.value), f": {e.rule}.", runs_on=True) for e in s.entries if e.rule]
+    out += [P("Form of ", Math(e.value), f": {spoken(e.rule)}.", runs_on=True) for e in s.entries if e.rule]
     out += c.legend([e.value for e in s.entries])
     return out
 
@@ -334,19 +345,29 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
         P("The equation for ", N(Y, Yp), ", with eigenvalue ", c.root_value(s.eigenvalue), ", is"),
         Eq(((N(f"{Y}'({T})", f"{Yp}'({Tp})"), s.eigenvalue * s.y + s.rhs),)),
     ]
+    k = s.index
+    g, gp = f"g_{{{k}}}", f"g_{k}"
     if s.coupling is not None:
+        # the right side is still named after the decoupled forcing g_k, plus the solved y_{k+1}
+        G, Gp = rf"\bigl(g_{{{k}}} + {f.m(s.coupling)}\bigr)", f"(g_{k} + {f.plain(s.coupling)})"
         out += [
-            P("Its forcing includes the next component of the same Jordan block, already solved, ",
+            P("Its forcing is the decoupled forcing ", N(rf"{g}({T}) = {f.m(s.g)}", f"{gp}({Tp}) = {f.plain(s.g)}"),
+              " plus the next component of the same Jordan block, already solved, ",
               N(f"{f.m(s.coupling)} = {f.m(s.coupling_value)}", f"{f.plain(s.coupling)} = {f.plain(s.coupling_value)}"),
-              "; with ", N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"), " the right side is"),
-            Eq(((N(f"h({T})", f"h({Tp})"), s.rhs),)),
+              "; together"),
+            Eq(((N(rf"{g}({T}) + {f.m(s.coupling)}({T})", f"{gp}({Tp}) + {f.plain(s.coupling)}({Tp})"), s.rhs),)),
         ]
+    else:
+        G, Gp = g, gp
+    # the variable of integration is a letter of its own, never the limit t
+    var = integration_variable(s.t, s.integrand, s.integral, s.solution)
+    V, Vp = f.m(var), f.plain(var)
     out += [
         P("Multiplying by the integrating factor"),
-        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor),)),
+        Eq(((N(rf"\mu({T})", f"μ({Tp})"), s.factor),)),
         P("makes the left side an exact derivative, ",
-          N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,h", f"d/d{Tp} (mu {Yp}) = mu h"), ", with"),
-        Eq(((N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand),)),
+          N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,{G}", f"d/d{Tp} (μ {Yp}) = μ {Gp}"), ", with"),
+        Eq(((N(rf"\mu({V})\,{G}({V})", f"μ({Vp}) {Gp}({Vp})"), s.integrand.xreplace({s.t: var})),)),
     ]
     if s.resonant:
         out.append(P("The forcing has the same exponent as the eigenvalue (resonance): the exponentials cancel in the "
@@ -355,12 +376,13 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
         t0, t0p = f.m(s.t0), f.plain(s.t0)
         out += [
             P("Integrating from ", N(f"{T}_0 = {t0}", f"{Tp}0 = {t0p}"), " to ", N(T, Tp), ":", runs_on=True),
-            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu\,h \, d{T}", f"integral from {t0p} to {Tp} of mu h"), s.integral),)),
+            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu({V})\,{G}({V}) \, d{V}", f"integral from {t0p} to {Tp} of μ({Vp}) {Gp}({Vp}) d{Vp}"), s.integral),)),
         ]
     else:
-        out += [P("An antiderivative is", runs_on=True), Eq(((N(rf"\int \mu\,h \, d{T}", "antiderivative of mu h"), s.integral),))]
+        out += [P("An antiderivative is", runs_on=True),
+                Eq(((N(rf"\int \mu({V})\,{G}({V}) \, d{V}", f"antiderivative of μ({Vp}) {Gp}({Vp})"), s.integral),))]
     out += [
-        P("Dividing by ", N(r"\mu", "mu"), ", with the constant ", Math(s.constant), ":"),
+        P("Dividing by ", N(r"\mu", "μ"), ", with the constant ", Math(s.constant), ":"),
         Eq(((c.fn(s.y), s.solution),)),
     ]
     return out
@@ -392,18 +414,18 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
     for p in s.pairs:
         c1, c2 = p.real_constants[0], p.real_constants[1]
         out += [
-            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"lambda = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
+            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
               " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
               N(rf"v = \operatorname{{Re}} v + {j} \operatorname{{Im}} v", f"v = Re v + {j} Im v"), ":", runs_on=True),
             _mat(r"\operatorname{Re} v", "Re v", p.vector_re),
             _mat(r"\operatorname{Im} v", "Im v", p.vector_im),
-            P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(lambda {Tp})"), " are two real solutions:"),
-            _mat(re_v, f"Re(v exp(lambda {Tp}))", p.real_part),
-            _mat(im_v, f"Im(v exp(lambda {Tp}))", p.imag_part),
+            P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(λ {Tp})"), " are two real solutions:"),
+            _mat(re_v, f"Re(v exp(λ {Tp}))", p.real_part),
+            _mat(im_v, f"Im(v exp(λ {Tp}))", p.imag_part),
             P("The complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
               " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
               ", the pair contributing ",
-              N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(lambda {Tp})) + {f.plain(c2)} Im(v exp(lambda {Tp}))"), "."),
+              N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(λ {Tp})) + {f.plain(c2)} Im(v exp(λ {Tp}))"), "."),
         ]
     out += [
         P("In real form:", runs_on=True),
@@ -508,7 +530,7 @@ def _convolution(s: Any, c: StepContext) -> list[Block]:
           "convolution (the free part plus the response to the input from ", Math(s.t0), " to ", N(T, Tp), "):"),
         Eq(((c.fn(s.y), s.written),)),
         P("Since ", N(rf"e^{{\lambda({T} - {S})}} = e^{{\lambda({T} - {t0})}}\,e^{{-\lambda({S} - {t0})}}",
-                      f"exp(lambda ({Tp} - {Sp})) = exp(lambda ({Tp} - {t0p})) exp(-lambda ({Sp} - {t0p}))"),
+                      f"exp(λ ({Tp} - {Sp})) = exp(λ ({Tp} - {t0p})) exp(-λ ({Sp} - {t0p}))"),
           ", the convolution is a combination of integrals whose integrands do not contain ", N(T, Tp), ":"),
     ]
     for integral, value in s.integrals:
@@ -555,13 +577,13 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
                 (N(f.m(ph) + p_tex, f.plain(ph) + p_plain),),
             ))
         out += [
-            P("The sinusoidal part is ", N(rf"\operatorname{{Re}}(F\,e^{{{j} \omega {T}}})", f"Re(F exp({j} omega {Tp}))"),
-              " with ", N(rf"\omega = {f.m(s.omega)}", f"omega = {f.plain(s.omega)}"), "; trying ",
-              N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} omega {Tp}))"), " gives ",
-              N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} omega I - A)^-1 F"), ":", runs_on=True),
+            P("The sinusoidal part is ", N(rf"\operatorname{{Re}}(F\,e^{{{j} \omega {T}}})", f"Re(F exp({j} ω {Tp}))"),
+              " with ", N(rf"\omega = {f.m(s.omega)}", f"ω = {f.plain(s.omega)}"), "; trying ",
+              N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} ω {Tp}))"), " gives ",
+              N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} ω I - A)^-1 F"), ":", runs_on=True),
             _mat("F", "F", s.phasor_in),
             _mat("X", "X", s.phasor),
-            P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(omega {Tp} + arg X_k)"), ":"),
+            P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(ω {Tp} + arg X_k)"), ":"),
             Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"),
         ]
     out += [

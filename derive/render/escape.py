@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash"]
+__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash", "spoken"]
 
 
 # ---------------------------------------------------------------------------
@@ -51,6 +51,9 @@ _TEXT_SYMBOLS = {
 }
 
 
+_CARET_POWER = re.compile(r"\\textasciicircum\{\}([0-9]+)")
+
+
 def tex_escape(text: object) -> str:
     """Escape user text for LaTeX: the ten specials, control characters, non-Latin-1.
 
@@ -74,7 +77,8 @@ def tex_escape(text: object) -> str:
             out.append("[U+%04X]" % ord(ch))
         else:
             out.append(ch)
-    return "".join(out)
+    # a power in running text (c^2) is set as a superscript, as it is read
+    return _CARET_POWER.sub(r"\\textsuperscript{\1}", "".join(out))
 
 
 def tex_paragraphs(text: object) -> str:
@@ -114,3 +118,31 @@ def md_escape(text: object) -> str:
     'x\\\\_1 \\\\<b\\\\>\\\\*'
     """
     return _MD_SPECIALS.sub(r"\\\1", squash(str(text)))
+
+
+# ---------------------------------------------------------------------------
+# Program text that quotes expressions
+
+
+_GREEK_WORD = re.compile(
+    r"(?<![A-Za-z\\])(alpha|beta|gamma|delta|epsilon|zeta|eta|theta|kappa|lambda|mu|nu|xi|pi|rho|sigma|tau|phi|chi|psi|omega)(?![A-Za-z])"
+)
+
+
+def spoken(text: object) -> str:
+    """Text from the solving code that quotes expressions in program notation, as mathematics.
+
+    The one display rule for such text (notices, reasons of conditions, the rule
+    behind an eigenvalue's form): a power ``**`` is written ``^``, the ``*``
+    between factors becomes a space, and a Greek name is written as its letter.
+    It is for program-made text only; user text is shown as written.
+
+    >>> spoken("solved on the relation k = c**2/(4*m)")
+    'solved on the relation k = c^2/(4 m)'
+    >>> spoken("differs from the eigenvalue -lambda + 2")
+    'differs from the eigenvalue -λ + 2'
+    """
+    from .printing import GREEK_LETTERS
+
+    text = re.sub(r"\s*\*\s*", " ", str(text).replace("**", "^"))
+    return _GREEK_WORD.sub(lambda m: GREEK_LETTERS[m.group(1)], text)

@@ -53,6 +53,8 @@ __all__ = [
     "tex_escape",
     "tex_paragraphs",
     "domain_tex",
+    "greek_text",
+    "GREEK_LETTERS",
 ]
 
 
@@ -276,6 +278,30 @@ class _RootStandIns:
         return super()._print_Symbol(expr, *args, **kwargs)  # type: ignore[misc]
 
 
+#: A name of two or more Latin letters, which TeX would set as a product of letters.
+_MULTI_LETTER = re.compile(r"[A-Za-z]{2,}")
+
+#: Greek letter names, printed as the letters in plain text (lambda as λ).
+GREEK_LETTERS: dict[str, str] = {
+    "alpha": "α", "beta": "β", "gamma": "γ", "delta": "δ", "epsilon": "ε", "zeta": "ζ",
+    "eta": "η", "theta": "θ", "iota": "ι", "kappa": "κ", "lambda": "λ", "mu": "μ",
+    "nu": "ν", "xi": "ξ", "pi": "π", "rho": "ρ", "sigma": "σ", "tau": "τ",
+    "upsilon": "υ", "phi": "φ", "chi": "χ", "psi": "ψ", "omega": "ω",
+    "Gamma": "Γ", "Delta": "Δ", "Theta": "Θ", "Lambda": "Λ", "Xi": "Ξ", "Pi": "Π",
+    "Sigma": "Σ", "Phi": "Φ", "Psi": "Ψ", "Omega": "Ω",
+}
+
+
+def greek_text(name: str) -> str:
+    """A symbol's name for plain text, a Greek name (alone or before ``_``) as its letter.
+
+    >>> greek_text("lambda_1"), greek_text("omega"), greek_text("Kq")
+    ('λ_1', 'ω', 'Kq')
+    """
+    base, sep, rest = name.partition("_")
+    return GREEK_LETTERS.get(base, base) + sep + rest
+
+
 class SheetLatexPrinter(_RootStandIns, LatexPrinter):
     """sympy's LaTeX printer with the sheet's notation (see the module docstring).
 
@@ -289,6 +315,20 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         "root_names": {},
         "exp_threshold": 10,
     }
+
+    def _split_super_sub(self, name: str) -> tuple[str, list[str], list[str]]:
+        # A multi-letter name (Kq, Rth) is one symbol, set in italic as a whole
+        # rather than read as the product K q; a multi-letter subscript or
+        # superscript (k_on) is a label, set upright.  Greek names and sympy's
+        # modifiers (alpha, xdot) are translated first and stay as they are.
+        base, supers, subs = super()._split_super_sub(name)
+        if base is not None and _MULTI_LETTER.fullmatch(base):
+            base = r"\mathit{%s}" % base
+        return (
+            base,
+            [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in supers],
+            [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in subs],
+        )
 
     def _print_Heaviside(self, expr: sp.Expr, exp: str | None = None) -> str:
         tex = r"u\left(%s\right)" % self._print(expr.args[0])
@@ -357,6 +397,22 @@ class PlainPrinter(_RootStandIns, StrPrinter):
         "imaginary_unit": "i",
     }
 
+    def doprint(self, expr: Any) -> str:
+        # Mathematics, not program text: a power is written ^ and a product by
+        # juxtaposition (a space), the way a formula is typed by hand.  The str
+        # printer writes ** only for a power and * only between the factors of
+        # a product (names never hold either), so the rewrite is exact.
+        return str(super().doprint(expr)).replace("**", "^").replace("*", " ")
+
+    def _print_Symbol(self, expr: sp.Symbol) -> str:
+        if expr in self._standing:
+            return super()._print_Symbol(expr)
+        return greek_text(expr.name)
+
+    def _print_Dummy(self, expr: sp.Dummy) -> str:
+        # the str printer marks a dummy with a leading underscore, which is program notation
+        return greek_text(expr.name)
+
     def _print_Heaviside(self, expr: sp.Expr) -> str:
         return "u(%s)" % self._print(expr.args[0])
 
@@ -371,11 +427,14 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
         if number is not None:
-            return "lambda_%d" % number
+            return "λ_%d" % number
         return "[root %d of %s = 0]" % (root.index, self._print(root.expr))  # type: ignore[attr-defined]
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
         return "e"
+
+    def _print_Pi(self, expr: sp.Expr) -> str:
+        return "π"
 
     def _print_ExpBase(self, expr: sp.Expr) -> str:
         return "exp(%s)" % self._print(shifted_argument(expr.args[0]))
