@@ -17,7 +17,7 @@ import sympy as sp
 
 from ..model import Solution
 from ..render.escape import spoken, tex_escape
-from ..render.printing import MathFormatter, domain_tex, root_legend_rows
+from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
@@ -584,8 +584,20 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
             _mat("F", "F", s.phasor_in),
             _mat("X", "X", s.phasor),
             P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(ω {Tp} + arg X_k)"), ":"),
-            Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"),
         ]
+        cell_widths = [visible_width(f.m(v)) for v in (*s.amplitude, *s.phase)]
+        if max(cell_widths, default=0) <= f.style.line_width // 3:
+            out.append(Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"))
+        else:
+            # too wide for a table cell: each amplitude and phase as a display of its own, broken as needed
+            for k, (amp, ph) in enumerate(zip(s.amplitude, s.phase), start=1):
+                amp, ph = _over_one_denominator(amp), _over_one_denominator(ph)
+                a_tex, a_plain = approx(amp)
+                p_tex, p_plain = approx(ph)
+                out.append(Eq(((N(f"|X_{{{k}}}|", f"|X_{k}|"), amp), (N(rf"\arg X_{{{k}}}", f"arg X_{k}"), ph))))
+                if a_tex and p_tex:
+                    out.append(P("so that ", N(f"|X_{{{k}}}|{a_tex}", f"|X_{k}|{a_plain}"), " and ",
+                                 N(rf"\arg X_{{{k}}}{p_tex}", f"arg X_{k}{p_plain}"), " rad.", runs_on=True))
     out += [
         P("The steady state and the transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), ", which decays:", runs_on=True),
         Eq(c.state_rows(s.x_ss, "ss")),
@@ -594,6 +606,20 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
           *((" leaves a zero residual.",) if s.residual_zero else (" does ", Strong("not"), " leave a zero residual."))),
     ]
     return out
+
+
+def _over_one_denominator(e: Any) -> Any:
+    """The argument of each square root and arctangent in ``e`` over one denominator, for display.
+
+    A sum of fractions under a root cannot be broken across lines; over a
+    common denominator it is one short fraction.  The value is unchanged.
+    """
+    if not isinstance(e, sp.Basic):
+        return e
+    return e.replace(
+        lambda x: isinstance(x, sp.atan) or (x.is_Pow and x.exp == sp.S.Half and x.base.is_Add),
+        lambda x: sp.atan(sp.cancel(sp.together(x.args[0]))) if isinstance(x, sp.atan) else sp.sqrt(sp.factor(sp.cancel(sp.together(x.base)))),
+    )
 
 
 #: Step kind -> blocks; every kind in ``derive.steps.STEP_KINDS`` has an entry.

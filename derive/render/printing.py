@@ -316,19 +316,26 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         "exp_threshold": 10,
     }
 
-    def _split_super_sub(self, name: str) -> tuple[str, list[str], list[str]]:
+    def _print_Symbol(self, expr: sp.Symbol, style: str = "plain") -> str:
         # A multi-letter name (Kq, Rth) is one symbol, set in italic as a whole
         # rather than read as the product K q; a multi-letter subscript or
         # superscript (k_on) is a label, set upright.  Greek names and sympy's
         # modifiers (alpha, xdot) are translated first and stay as they are.
-        base, supers, subs = super()._split_super_sub(name)
-        if base is not None and _MULTI_LETTER.fullmatch(base):
+        # Function names (atan) do not pass here.
+        if expr in self._standing or expr in self._settings["symbol_names"] or "{" in expr.name:
+            return super()._print_Symbol(expr, style=style)
+        base, supers, subs = self._split_super_sub(expr.name)
+        if _MULTI_LETTER.fullmatch(base):
             base = r"\mathit{%s}" % base
-        return (
-            base,
-            [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in supers],
-            [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in subs],
-        )
+        if style == "bold":
+            base = r"\mathbf{%s}" % base
+        label = [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in supers]
+        if label:
+            base += "^{%s}" % " ".join(label)
+        label = [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in subs]
+        if label:
+            base += "_{%s}" % " ".join(label)
+        return base
 
     def _print_Heaviside(self, expr: sp.Expr, exp: str | None = None) -> str:
         tex = r"u\left(%s\right)" % self._print(expr.args[0])
@@ -647,12 +654,19 @@ class MathFormatter:
 
     # -- breaking long sums ----------------------------------------------
 
-    def _signed_terms(self, expr: sp.Expr) -> list[tuple[str, str]]:
-        """Top-level terms of a sum as (sign, LaTeX), in the printer's order."""
+    def _signed_terms(self, expr: sp.Expr, *, budget: int | None = None) -> list[tuple[str, str]]:
+        """Top-level terms of a sum as (sign, LaTeX), in the printer's order.
+
+        With a ``budget``, a term wider than it that is a product holding a
+        sum, c (a + b + ...) e^{...}, is opened into pieces of its own: the
+        bracket's terms become separate pieces, the first carrying the
+        coefficient and an opening bracket, the last the closing bracket and
+        the remaining factors, so the packer can break inside the term.
+        """
         p = self.latex_printer
         terms = p._as_ordered_terms(expr, order=None)
         out: list[tuple[str, str]] = []
-        for i, term in enumerate(terms):
+        for term in terms:
             sign = "+"
             if term.could_extract_minus_sign():
                 sign = "-"
@@ -660,8 +674,43 @@ class MathFormatter:
             tex = p._print(term)
             if p._needs_add_brackets(term):
                 tex = r"\left(%s\right)" % tex
+            if budget is not None and visible_width(tex) > budget:
+                opened = self._open_term(term, budget)
+                if opened:
+                    out.append((sign, opened[0][1]))
+                    out += opened[1:]
+                    continue
             out.append((sign, tex))
         return out
+
+    def _open_term(self, term: sp.Expr, budget: int) -> list[tuple[str, str]]:
+        r"""A wide product c (a + b + ...) F as pieces ``c \biggl(a``, ``+ b``, ..., ``+ z \biggr) F``; [] if it has no sum."""
+        if not isinstance(term, sp.Mul):
+            return []
+        factors = sp.Mul.make_args(term)
+        if any(f.is_Pow and f.exp.is_negative and not f.is_number for f in factors):
+            return []  # a fraction with a symbolic denominator stays whole
+        adds = [f for f in factors if isinstance(f, sp.Add)]
+        if not adds:
+            return []
+        big = max(adds, key=lambda f: visible_width(self.m(f)))
+        rest = [f for f in factors if f is not big]
+        den = sp.Integer(1)
+        # the coefficient before the bracket, the functions of time (e^{...}, sin, a step) after it
+        timed = [f for f in rest if f.has(sp.exp, sp.sin, sp.cos, sp.Heaviside)]
+        coeff = sp.Mul(*[f for f in rest if f not in timed]) / den
+        after = sp.Mul(*timed)
+        before = "" if coeff == 1 else self.m(coeff)
+        after_tex = "" if after == 1 else " " + self.m(after)
+        inner = self._signed_terms(big, budget=budget)
+        if len(inner) < 2:
+            return []
+        first_sign, first_tex = inner[0]
+        pieces = [("+", f"{before} \\biggl({'-' if first_sign == '-' else ''}{first_tex}".strip())]
+        pieces += inner[1:]
+        last_sign, last_tex = pieces[-1]
+        pieces[-1] = (last_sign, f"{last_tex} \\biggr){after_tex}")
+        return pieces
 
     def _pack(self, pieces: list[tuple[str, str]], first_width: int) -> list[str]:
         """Greedy lines of signed pieces within the line width and term cap."""
@@ -680,8 +729,9 @@ class MathFormatter:
             ):
                 lines.append(current)
                 current, count = "", 0
-                # continuation lines are indented by a quad in the align
-                budget = max(self.style.line_width - 4, 20)
+                # continuation lines start at the alignment point after the left
+                # side, indented by a quad
+                budget = max(self.style.line_width - first_width - 4, 20)
             current = f"{current} {chunk}" if current else chunk
             count += 1
         if current:
@@ -692,6 +742,9 @@ class MathFormatter:
         """An expression as one or more LaTeX lines; continuation lines start with a sign.
 
         ``lead`` is the width already used on the first line (the left side).
+        A sum is broken at its top-level + and -; a term too wide for a line
+        is opened at the sum inside it (``_open_term``); a product c (long sum)
+        is broken inside big brackets.
         """
         obj = _as_expr(obj)
         if isinstance(obj, str):
@@ -699,27 +752,47 @@ class MathFormatter:
         whole = self.m(obj)
         if isinstance(obj, sp.MatrixBase) or visible_width(whole) + lead <= self.style.line_width:
             return [whole]
+        budget = max(self.style.line_width - lead - 4, 20)
         if isinstance(obj, sp.Add):
-            return self._pack(self._signed_terms(obj), lead)
+            return self._pack(self._signed_terms(obj, budget=budget), lead)
         if isinstance(obj, sp.Mul):
-            # c * (long sum): break the sum inside big brackets.  \biggl( and
-            # \biggr) need no partner on the same align row, unlike \left.
-            adds = [f for f in obj.args if isinstance(f, sp.Add)]
-            if adds:
-                big = max(adds, key=lambda f: visible_width(self.m(f)))
-                rest = sp.Mul(*[f for f in obj.args if f is not big])
-                if rest == 1:
-                    coeff = ""
-                elif rest.could_extract_minus_sign():
-                    coeff = "-" if rest == -1 else "-" + self.m(-rest)
-                else:
-                    coeff = self.m(rest)
-                inner = self._pack(self._signed_terms(big), lead + visible_width(coeff) + 2)
-                if len(inner) > 1:
-                    inner[0] = coeff + r" \biggl(" + inner[0]
-                    inner[-1] = inner[-1] + r" \biggr)"
-                    return inner
+            negative = obj.could_extract_minus_sign()
+            pieces = self._open_term(-obj if negative else obj, budget)
+            if len(pieces) > 1:
+                if negative:
+                    pieces[0] = ("-", pieces[0][1])
+                return self._pack(pieces, lead)
         return [whole]
+
+    def piecewise_rows(self, lhs: str, expr: sp.Piecewise, *, relation: str = "=") -> list[str]:
+        r"""A piecewise value one interval per row, each with its condition; long values broken.
+
+        The condition leads its interval (``for 1 \le t < 3:``) when the value
+        needs the whole line, and follows it otherwise.
+        """
+        rows: list[str] = []
+        last_bound: Any = None
+        lower: Any = None
+        for k, (value, cond) in enumerate(expr.args):
+            if cond is sp.true and lower is not None:
+                cond_tex = r"%s \ge %s" % (self.m(lower.lhs), self.m(lower.rhs))
+            elif cond is sp.true:
+                cond_tex = r"\text{otherwise}"
+            elif isinstance(cond, sp.StrictLessThan) and lower is not None:
+                cond_tex = r"%s \le %s < %s" % (self.m(lower.rhs), self.m(cond.lhs), self.m(cond.rhs))
+            else:
+                cond_tex = self.m(cond)
+            if isinstance(cond, sp.StrictLessThan):
+                lower = cond
+            head = f"{lhs} &{relation} " if k == 0 else f"&{relation} "
+            lines = self.split(value, lead=visible_width(lhs) + 12)
+            tail = r"\qquad \text{for } " + cond_tex
+            if len(lines) == 1 and visible_width(lines[0]) + visible_width(tail) + visible_width(lhs) + 4 <= self.style.line_width:
+                rows.append(head + lines[0] + tail)
+                continue
+            rows.append(head + r"\text{for } " + cond_tex + ":")
+            rows += [rf"&\quad {line}" for line in lines]
+        return rows
 
     def equation_rows(self, rows: Sequence[tuple[str, Any]], *, relation: str = "=") -> str:
         """Rows ``lhs = rhs`` as the body of an ``align*`` (rhs split when long)."""
@@ -729,6 +802,11 @@ class MathFormatter:
             rel = relation
             if isinstance(rhs, tuple) and len(rhs) == 2 and isinstance(rhs[0], str) and rhs[0] in ("=", r"\approx", r"\neq", r"\ne"):
                 rel, rhs = rhs
+            if isinstance(rhs, sp.Piecewise):
+                whole = self.m(rhs)
+                if visible_width(whole) + visible_width(lhs_tex) + 2 > self.style.line_width:
+                    out += self.piecewise_rows(lhs_tex, rhs, relation=rel)
+                    continue
             lines = self.split(rhs, lead=visible_width(lhs_tex) + 2)
             out.append(f"{lhs_tex} &{rel} {lines[0]}")
             for line in lines[1:]:
