@@ -204,6 +204,8 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
         "under the user's own quality procedures before use. The model (linearity, constant coefficients, parameter "
         "values) is the user's responsibility; applicable codes and licensed practice govern its use."
     ))
+    # the long intermediate algebra the derivation refers to, last, as on the LaTeX sheet
+    b += ctx.appendix_blocks()
     return tuple(b), fmt
 
 

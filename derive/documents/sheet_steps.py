@@ -10,7 +10,7 @@ to this description for a kind without one.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Callable, Sequence
 
 import sympy as sp
@@ -30,6 +30,28 @@ class StepContext:
     solution: Solution
     fmt: MathFormatter
     lam: sp.Symbol
+    #: (label, heading, blocks) of the long intermediate algebra, moved to the
+    #: appendix at the end of the sheet; filled as the steps are described
+    appendix: list[tuple[str, Heading, list[Block]]] = field(default_factory=list)
+
+    def to_appendix(self, title: str, math: Name | None, bookmark: str, blocks: list[Block]) -> str:
+        """Move ``blocks`` to the appendix under ``title`` (+ ``math``); returns their label, ``A.3``."""
+        label = f"A.{len(self.appendix) + 1}"
+        self.appendix.append((label, Heading(4, f"{label} {title}", math, bookmark), blocks))
+        return label
+
+    def appendix_blocks(self) -> list[Block]:
+        """The appendix section: every moved piece of algebra under its label (empty when none)."""
+        if not self.appendix:
+            return []
+        out: list[Block] = [
+            Heading(2, "Appendix A: intermediate algebra"),
+            P("The row reductions behind the eigenvectors and Jordan chains of the derivation, in the order they are used."),
+        ]
+        for _, heading, blocks in self.appendix:
+            out.append(heading)
+            out += blocks
+        return out
 
     @property
     def t(self) -> sp.Symbol:
@@ -207,7 +229,7 @@ def _eigenvector(s: Any, c: StepContext) -> list[Block]:
         out: list[Block] = [
             Heading(3, "Eigenvectors for ", at, "an eigenvalue"),
             P("The eigenvectors for ", at, f" (algebraic multiplicity {s.algebraic}) span the null space of ", shifted,
-              ", found by row reduction:"),
+              ", found by row reduction."),
         ]
     else:
         q = N(f"q({L})", f"q({Lp})")
@@ -215,12 +237,16 @@ def _eigenvector(s: Any, c: StepContext) -> list[Block]:
             Heading(3, "Eigenvectors for the roots of ", q, "q"),
             P("For each root ", N(L, Lp), " of ", N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0"),
               " the computation is the same, so it is done once for a generic root, using ", N(f"q({L}) = 0", f"q({Lp}) = 0"),
-              " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction:"),
+              " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction."),
         ]
-    out += [
+    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = 0", f"q({Lp}) = 0")
+    label = c.to_appendix("Row reduction for ", at_math, "an eigenvalue", [
         _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
         _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
-        P(f"The pivot columns are {_cols(s.pivots)}; the free columns are {_cols(s.free)}. Setting each free unknown "
+    ])
+    out += [
+        P(f"(The matrix and its reduced row echelon form are in Appendix {label}.) "
+          f"The pivot columns are {_cols(s.pivots)}; the free columns are {_cols(s.free)}. Setting each free unknown "
           "to one in turn (and scaling to small integers) gives the basis"),
     ]
     many = len(s.basis) > 1
@@ -248,20 +274,22 @@ def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
               f" the algebraic multiplicity is {s.algebraic} but there {'is' if s.geometric == 1 else 'are'} only "
               f"{s.geometric} independent eigenvector{plural}; the chain is computed once for a generic root."),
         ]
-    out += [
-        P("A chain of generalized eigenvectors completes the basis: each solves ",
-          N(rf"(A - {L} I)\,v_{{k+1}} = v_k", f"(A - {Lp} I) v_(k+1) = v_k"), ", starting from the eigenvector ", N("v_1"), ".",
-          runs_on=True),
-        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
-    ]
+    links: list[Block] = [_mat(f"A - {L} I", f"A - {Lp} I", s.shifted)]
     for k, link in enumerate(s.links, start=1):
-        out += [
+        links += [
             P("For ", N(f"v_{{{k + 1}}}", f"v_{k + 1}"), ": the right side is ",
               N(f"v_{{{k}}} = {f.m(link.rhs.T)}^{{T}}", f"v_{k} = {f.plain(link.rhs.T)}^T"), " and the augmented matrix reduces to"),
             _mat(rf"\operatorname{{rref}}\bigl[A - {L} I \mid v_{{{k}}}\bigr]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
             P("so that (free unknowns set to zero)"),
             _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
         ]
+    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = 0", f"q({Lp}) = 0")
+    label = c.to_appendix("Jordan chain links for ", at_math, "a defective eigenvalue", links)
+    out += [
+        P("A chain of generalized eigenvectors completes the basis: each solves ",
+          N(rf"(A - {L} I)\,v_{{k+1}} = v_k", f"(A - {Lp} I) v_(k+1) = v_k"), ", starting from the eigenvector ", N("v_1"),
+          f"; the reduction of each link is in Appendix {label}.", runs_on=True),
+    ]
     out.append(P("The chain:"))
     out += [_mat(f"v_{{{k}}}", f"v_{k}", v) for k, v in enumerate(s.vectors, start=1)]
     if s.root_of is not None and s.instances:
@@ -389,16 +417,28 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
 
 
 def _recombine(s: Any, c: StepContext) -> list[Block]:
-    return [
-        Heading(3, "Recombination"),
-        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
-          "-th column of ", N("P"), ". The terms carrying the constants form the homogeneous part,"),
-        TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
-        P("that is,"),
+    complex_form = any(getattr(other, "kind", "") == "real_form" for other in c.solution.steps)
+    parts: list[Block] = [
         _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
         P("and the remaining terms the particular part,"),
         _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
     ]
+    moved: list[Block] = [
+        P("Each solved ", N("y_k"), " times the ", N("k"), "-th column of ", N("P"), ", the terms carrying the constants:"),
+        TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
+    ]
+    if complex_form:
+        # the complex form is only a stage on the way to the real form shown next
+        moved += [P("that is, the homogeneous part"), *parts]
+    label = c.to_appendix("Recombination term by term", None, "", moved)
+    out: list[Block] = [
+        Heading(3, "Recombination"),
+        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
+          f"-th column of ", N("P"), f" (term by term in Appendix {label}). The terms carrying the constants form the homogeneous part"
+          + (", and the remaining terms the particular part; in complex form both are in the appendix, and the real form follows."
+             if complex_form else ","))
+    ]
+    return out if complex_form else out + parts
 
 
 def _real_form(s: Any, c: StepContext) -> list[Block]:
@@ -411,9 +451,10 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         Heading(3, "Real form"),
         P(N("A"), " and ", N("f"), " are real, so each complex pair of terms is rewritten with real functions and real constants."),
     ]
+    moved: list[Block] = []
     for p in s.pairs:
         c1, c2 = p.real_constants[0], p.real_constants[1]
-        out += [
+        moved += [
             P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
               " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
               N(rf"v = \operatorname{{Re}} v + {j} \operatorname{{Im}} v", f"v = Re v + {j} Im v"), ":", runs_on=True),
@@ -422,11 +463,17 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
             P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(λ {Tp})"), " are two real solutions:"),
             _mat(re_v, f"Re(v exp(λ {Tp}))", p.real_part),
             _mat(im_v, f"Im(v exp(λ {Tp}))", p.imag_part),
-            P("The complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
+        ]
+        out.append(
+            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
+              " the complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
               " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
               ", the pair contributing ",
               N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(λ {Tp})) + {f.plain(c2)} Im(v exp(λ {Tp}))"), "."),
-        ]
+        )
+    if moved:
+        label = c.to_appendix("Real and imaginary parts of the complex pairs", None, "", moved)
+        out.append(P(f"The real and imaginary parts of each pair are worked out in Appendix {label}.", runs_on=True))
     out += [
         P("In real form:", runs_on=True),
         _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
@@ -438,31 +485,27 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
 def _initial_values(s: Any, c: StepContext) -> list[Block]:
     f = c.fmt
     t = c.solution.system.t
+    label = c.to_appendix("The linear system for the constants", None, "", [_mat("M", "M", s.matrix), _mat("r", "r", s.rhs)])
     return [
         Heading(3, "Constants from the initial values"),
         P("Setting ", N(f"{f.m(t)} = {f.m(s.t0)}", f"{f.plain(t)} = {f.plain(s.t0)}"),
           " in the general solution and equating it to ", N("x_0", "x0"), " gives a linear system ", N(r"M\,c = r", "M c = r"),
           " for the constants ", N(f"c = ({c.m_list(s.constants)})^{{T}}", f"c = ({c.plain_list(s.constants)})^T"), ":"),
         _mat("x_0", "x0", s.x0),
-        _mat("M", "M", s.matrix),
-        _mat("r", "r", s.rhs),
-        P("Its solution:"),
+        P(f"The matrix ", N("M"), " and the right side ", N("r"), f" are written out in Appendix {label}. Its solution:"),
         Eq(tuple((N(f.m(k), f.plain(k)), v) for k, v in s.values)),
     ]
 
 
 def _result(s: Any, c: StepContext) -> list[Block]:
+    # the result itself is written once, in the Result section
+    where = " is the result stated, component by component and with its parts, in the Result section."
     lead = (
-        P("The general solution, with the free constants ", N(c.m_list(s.constants), c.plain_list(s.constants)), ", is")
+        P("The general solution, with the free constants ", N(c.m_list(s.constants), c.plain_list(s.constants)), ",", where)
         if s.constants
-        else P("Substituting the constants gives")
+        else P("Substituting the constants gives the result stated, component by component and with its parts, in the Result section.")
     )
-    return [
-        Heading(3, "Collected result"),
-        lead,
-        Eq(c.state_rows(s.x)),
-        P("This is the result stated, with its parts, in the Result section."),
-    ]
+    return [Heading(3, "Collected result"), lead]
 
 
 def _interval(s: Any, c: StepContext) -> list[Block]:

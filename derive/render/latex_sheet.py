@@ -94,9 +94,11 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         names = [fmt.m(s) for s in solution.system.states]
         return [(f"{{{names[i]}}}{mark}({fmt.m(t)})", vec[i]) for i in range(vec.rows)]
 
-    def step_latex(step: Any) -> str:
-        """A derivation step, set from its blocks (``derive.documents.sheet_steps``)."""
-        return blocks_latex(step_blocks(step, StepContext(solution=solution, fmt=fmt, lam=ctx.lam)), fmt)
+    # one context for every step, so the algebra they move to the appendix is
+    # collected in order and numbered once
+    steps_ctx = StepContext(solution=solution, fmt=fmt, lam=ctx.lam)
+    derivation = "\n\n".join(blocks_latex(step_blocks(step, steps_ctx), fmt) for step in solution.steps)
+    appendix = blocks_latex(steps_ctx.appendix_blocks(), fmt)
 
     def m_list(items: Any) -> str:
         return ", ".join(fmt.m(e) for e in items)
@@ -108,7 +110,8 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "num": _float,
         "rows_for_states": rows_for_states,
         "m_list": m_list,
-        "step_latex": step_latex,
+        "derivation": lambda: derivation,
+        "appendix": lambda: appendix,
         "relation_tex": _relation_tex,
         "legend": ctx.legend,
         "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
