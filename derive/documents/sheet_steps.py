@@ -239,7 +239,7 @@ def _eigenvector(s: Any, c: StepContext) -> list[Block]:
               " the computation is the same, so it is done once for a generic root, using ", N(f"q({L}) = 0", f"q({Lp}) = 0"),
               " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction."),
         ]
-    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = 0", f"q({Lp}) = 0")
+    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0")
     label = c.to_appendix("Row reduction for ", at_math, "an eigenvalue", [
         _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
         _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
@@ -283,7 +283,7 @@ def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
             P("so that (free unknowns set to zero)"),
             _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
         ]
-    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = 0", f"q({Lp}) = 0")
+    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0")
     label = c.to_appendix("Jordan chain links for ", at_math, "a defective eigenvalue", links)
     out += [
         P("A chain of generalized eigenvectors completes the basis: each solves ",

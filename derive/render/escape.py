@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash", "spoken"]
+__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash", "spoken", "GREEK_LETTERS"]
 
 
 # ---------------------------------------------------------------------------
@@ -43,6 +43,16 @@ _GREEK = {
     "Λ": "Lambda", "Ξ": "Xi", "Π": "Pi", "Σ": "Sigma", "Φ": "Phi",
     "Ψ": "Psi", "Ω": "Omega",
 }
+#: Greek letter names, printed as the letters in plain text (lambda as λ).
+GREEK_LETTERS: dict[str, str] = {
+    "alpha": "α", "beta": "β", "gamma": "γ", "delta": "δ", "epsilon": "ε", "zeta": "ζ",
+    "eta": "η", "theta": "θ", "iota": "ι", "kappa": "κ", "lambda": "λ", "mu": "μ",
+    "nu": "ν", "xi": "ξ", "pi": "π", "rho": "ρ", "sigma": "σ", "tau": "τ",
+    "upsilon": "υ", "phi": "φ", "chi": "χ", "psi": "ψ", "omega": "ω",
+    "Gamma": "Γ", "Delta": "Δ", "Theta": "Θ", "Lambda": "Λ", "Xi": "Ξ", "Pi": "Π",
+    "Sigma": "Σ", "Phi": "Φ", "Psi": "Ψ", "Omega": "Ω",
+}
+
 _TEXT_SYMBOLS = {
     "–": "--", "—": "---", "‘": "`", "’": "'", "“": "``", "”": "''",
     "…": r"\dots{}", "≤": r"\ensuremath{\leq}", "≥": r"\ensuremath{\geq}",
@@ -51,7 +61,7 @@ _TEXT_SYMBOLS = {
 }
 
 
-_CARET_POWER = re.compile(r"\\textasciicircum\{\}([0-9]+)")
+_CARET_POWER = re.compile(r"\\textasciicircum\{\}(-?[0-9]+)")
 
 
 def tex_escape(text: object) -> str:
@@ -78,7 +88,7 @@ def tex_escape(text: object) -> str:
         else:
             out.append(ch)
     # a power in running text (c^2) is set as a superscript, as it is read
-    return _CARET_POWER.sub(r"\\textsuperscript{\1}", "".join(out))
+    return _CARET_POWER.sub(r"\\ensuremath{^{\1}}", "".join(out))
 
 
 def tex_paragraphs(text: object) -> str:
@@ -142,7 +152,5 @@ def spoken(text: object) -> str:
     >>> spoken("differs from the eigenvalue -lambda + 2")
     'differs from the eigenvalue -λ + 2'
     """
-    from .printing import GREEK_LETTERS
-
     text = re.sub(r"\s*\*\s*", " ", str(text).replace("**", "^"))
     return _GREEK_WORD.sub(lambda m: GREEK_LETTERS[m.group(1)], text)

@@ -28,7 +28,6 @@ early break.
 
 from __future__ import annotations
 
-import math
 import re
 from dataclasses import dataclass
 from typing import Any, Iterable, Sequence
@@ -37,7 +36,9 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
-from .escape import tex_escape, tex_paragraphs
+from .decimals import format_decimal
+from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
+from .measure import visible_width
 
 __all__ = [
     "plain_text",
@@ -152,60 +153,6 @@ def collect_roots(
 
 
 # ---------------------------------------------------------------------------
-# Decimals
-
-
-def _float_text(value: float, digits: int, *, latex: bool) -> str:
-    if value == 0:
-        return "0"
-    text = f"{value:.{digits}g}"
-    if "e" in text:
-        mant, exp = text.split("e")
-        if latex:
-            return r"%s \times 10^{%d}" % (mant, int(exp))
-        return f"{mant}e{int(exp)}"
-    return text
-
-
-def format_decimal(
-    value: sp.Expr, *, digits: int = 5, unit: str = "i", latex: bool = False
-) -> str:
-    """A short decimal of an exact number, complex as ``a + b i``; "" if not numeric.
-
-    >>> format_decimal(sp.sqrt(2))
-    '1.4142'
-    >>> format_decimal(1 - 2*sp.I, unit="j")
-    '1 - 2 j'
-    """
-    expr = sp.sympify(value, strict=True)
-    if not expr.is_number:
-        return ""
-    roots = expr.atoms(sp.CRootOf)
-    if roots:  # evalf refines a CRootOf slowly; use the cached decimals
-        from ..exact import root_value
-
-        expr = expr.xreplace({r: root_value(r) for r in roots})
-    num = sp.N(expr, digits + 5)
-    re_, im_ = (float(part) for part in num.as_real_imag())
-    # Keep the display from showing round-off of an exact zero part.
-    scale = max(abs(re_), abs(im_))
-    if scale and abs(re_) < 10 ** (-digits - 3) * scale:
-        re_ = 0.0
-    if scale and abs(im_) < 10 ** (-digits - 3) * scale:
-        im_ = 0.0
-    if math.isnan(re_) or math.isnan(im_):
-        return ""
-    if im_ == 0:
-        return _float_text(re_, digits, latex=latex)
-    imag = _float_text(abs(im_), digits, latex=latex)
-    imag = unit if imag == "1" else f"{imag} {unit}"
-    if re_ == 0:
-        return f"-{imag}" if im_ < 0 else imag
-    sign = "-" if im_ < 0 else "+"
-    return f"{_float_text(re_, digits, latex=latex)} {sign} {imag}"
-
-
-# ---------------------------------------------------------------------------
 # Printers
 
 
@@ -280,17 +227,6 @@ class _RootStandIns:
 
 #: A name of two or more Latin letters, which TeX would set as a product of letters.
 _MULTI_LETTER = re.compile(r"[A-Za-z]{2,}")
-
-#: Greek letter names, printed as the letters in plain text (lambda as λ).
-GREEK_LETTERS: dict[str, str] = {
-    "alpha": "α", "beta": "β", "gamma": "γ", "delta": "δ", "epsilon": "ε", "zeta": "ζ",
-    "eta": "η", "theta": "θ", "iota": "ι", "kappa": "κ", "lambda": "λ", "mu": "μ",
-    "nu": "ν", "xi": "ξ", "pi": "π", "rho": "ρ", "sigma": "σ", "tau": "τ",
-    "upsilon": "υ", "phi": "φ", "chi": "χ", "psi": "ψ", "omega": "ω",
-    "Gamma": "Γ", "Delta": "Δ", "Theta": "Θ", "Lambda": "Λ", "Xi": "Ξ", "Pi": "Π",
-    "Sigma": "Σ", "Phi": "Φ", "Psi": "Ψ", "Omega": "Ω",
-}
-
 
 def greek_text(name: str) -> str:
     """A symbol's name for plain text, a Greek name (alone or before ``_``) as its letter.
@@ -478,80 +414,6 @@ def plain_text(obj: Any) -> str:
     if isinstance(obj, sp.Basic):
         return printer.doprint(obj)
     return str(obj)
-
-
-def _group(tex: str, start: int) -> tuple[str, int]:
-    """The brace group starting at ``tex[start] == '{'`` and the index after it."""
-    depth = 0
-    for k in range(start, len(tex)):
-        ch = tex[k]
-        if ch == "\\":
-            continue
-        if ch == "{" and (k == 0 or tex[k - 1] != "\\"):
-            depth += 1
-        elif ch == "}" and tex[k - 1] != "\\":
-            depth -= 1
-            if depth == 0:
-                return tex[start + 1 : k], k + 1
-    return tex[start + 1 :], len(tex)
-
-
-_ZERO_WIDTH = re.compile(
-    r"\\(left|right|bigl|bigr|Bigl|Bigr|biggl|biggr|big|Big|bigg|Bigg"
-    r"|operatorname|mathrm|mathbf|mathit|mathbb|text|displaystyle|quad|qquad"
-    r"|,|;|!|\s)(?![A-Za-z])"
-)
-
-
-def visible_width(tex: str) -> int:
-    """Rough printed width of a LaTeX math string, in glyphs.
-
-    A fraction counts as its wider part, sub- and superscripts count fully
-    (an overestimate), ``\\left``/``\\right`` and spacing count nothing.
-
-    >>> visible_width(r"\\frac{a + b}{c}")
-    4
-    """
-    width = 0
-    k = 0
-    while k < len(tex):
-        if tex.startswith(r"\begin{bmatrix}", k):
-            end = tex.find(r"\end{bmatrix}", k)
-            end = len(tex) if end < 0 else end
-            body = tex[k + len(r"\begin{bmatrix}") : end]
-            rows = [row.split("&") for row in body.split(r"\\")]
-            ncols = max(len(row) for row in rows)
-            cols = [
-                max((visible_width(row[j]) for row in rows if j < len(row)), default=0)
-                for j in range(ncols)
-            ]
-            width += sum(cols) + 2 * ncols
-            k = end + len(r"\end{bmatrix}")
-            continue
-        if tex.startswith(r"\frac", k) or tex.startswith(r"\dfrac", k):
-            k = tex.index("{", k)
-            num, k = _group(tex, k)
-            while k < len(tex) and tex[k] == " ":
-                k += 1
-            den, k = (_group(tex, k) if k < len(tex) and tex[k] == "{" else ("", k))
-            width += max(visible_width(num), visible_width(den))
-            continue
-        m = _ZERO_WIDTH.match(tex, k)
-        if m:
-            k = m.end()
-            continue
-        if tex[k] == "\\":
-            m = re.compile(r"\\([A-Za-z]+|.)").match(tex, k)
-            assert m is not None
-            k = m.end()
-            width += 1
-            continue
-        if tex[k] in "{}^_& \t\n":
-            k += 1
-            continue
-        width += 2 if tex[k] in "+-=<>" else 1
-        k += 1
-    return width
 
 
 # ---------------------------------------------------------------------------
@@ -906,6 +768,12 @@ def domain_tex(domain: str) -> str:
             return _DOMAINS[key]
         if domain.startswith(key + "(") or domain.startswith(key + "[") or domain.startswith(key + "<"):
             rest = domain[len(key):]
+            names = re.fullmatch(r"([(\[])([A-Za-z_][\w]*(?:,\s*[A-Za-z_]\w*)*)([)\]])", rest)
+            if names:
+                # the field's generators are the parameters: printed as they are in the formulas
+                printer = SheetLatexPrinter()
+                inner = ", ".join(printer.doprint(sp.Symbol(n.strip())) for n in names.group(2).split(","))
+                return r"%s%s%s%s" % (_DOMAINS[key], names.group(1), inner, names.group(3))
             return r"%s\text{%s}" % (_DOMAINS[key], tex_escape(rest))
     return r"\text{%s}" % tex_escape(domain)
 
