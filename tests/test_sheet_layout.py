@@ -251,3 +251,19 @@ def test_the_six_state_chain_keeps_its_main_sheet_short(tmp_path: Path) -> None:
     start = next(k for k, page in enumerate(pages, start=1) if "Appendix A: intermediate algebra" in page)
     # 27 pages with every row reduction, chain link and complex-form recombination inline; 17 after the move
     assert start <= 18, start
+
+
+def test_a_wide_condition_is_displayed_and_broken() -> None:
+    from derive.model import Condition
+    from derive.render.latex_sheet import sheet_context
+
+    f = MathFormatter.for_roots(())
+    a = sp.symbols("a0:30")
+    sol = _solve("demo")
+    helpers = sheet_context(sol, style=MathStyle(), fragment=False)
+    wide = helpers["condition_tex"](Condition(expr=sum(x**2 for x in a), relation="!= 0", reason="test"))
+    assert wide.startswith("\\begin{align*}") and wide.rstrip().endswith("\\end{align*}")
+    rows = _rows(wide)
+    assert len(rows) > 1 and rows[-1].endswith(r"\neq 0")
+    assert all(visible_width(r) <= f.style.line_width + 4 for r in rows)
+    assert helpers["condition_tex"](Condition(expr=a[0] - a[1], relation="!= 0", reason="test")) == r"$a_{0} - a_{1} \neq 0$"

@@ -26,7 +26,7 @@ from ..errors import OutputError
 from ..model import SheetMeta, Solution
 from .escape import tex_escape
 from .latex_blocks import blocks_latex
-from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows
+from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows, visible_width
 from .templating import FRAGMENT_PACKAGES, get_template
 
 __all__ = ["sheet_context", "render_sheet"]
@@ -113,6 +113,7 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "derivation": lambda: derivation,
         "appendix": lambda: appendix,
         "relation_tex": _relation_tex,
+        "condition_tex": lambda c: _condition_tex(fmt, c),
         "legend": ctx.legend,
         "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
         "vector": lambda items: sp.ImmutableMatrix([[e] for e in items]),
@@ -133,6 +134,17 @@ def _relation_tex(relation: str) -> str:
             rest_tex = rest if all(c in "0123456789.-+ " for c in rest) else r"\text{%s}" % tex_escape(rest)
             return f" {tex} {rest_tex}"
     return r"\ \text{%s}" % tex_escape(text)
+
+
+def _condition_tex(fmt: MathFormatter, condition: Any) -> str:
+    """A stated condition inline, or displayed and broken at its terms when too wide for a line."""
+    inline = fmt.m(condition.expr) + _relation_tex(condition.relation)
+    if visible_width(inline) <= fmt.style.line_width - 16:
+        return f"${inline}$"
+    lines = fmt.split(condition.expr, lead=2)
+    lines[-1] += _relation_tex(condition.relation)
+    body = " \\\\\n".join(("&" if k == 0 else "&\\quad ") + line for k, line in enumerate(lines))
+    return "\\begin{align*}\n" + body + "\n\\end{align*}"
 
 
 def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> dict[str, Any]:
