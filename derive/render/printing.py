@@ -338,6 +338,8 @@ class PlainPrinter(_RootStandIns, StrPrinter):
         **StrPrinter._default_settings,
         "root_names": {},
         "imaginary_unit": "i",
+        # Greek names as letters (λ); the ASCII names where a caller's text is ASCII
+        "greek_letters": True,
     }
 
     def doprint(self, expr: Any) -> str:
@@ -350,11 +352,11 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_Symbol(self, expr: sp.Symbol) -> str:
         if expr in self._standing:
             return super()._print_Symbol(expr)
-        return greek_text(expr.name)
+        return greek_text(expr.name) if self._settings["greek_letters"] else expr.name
 
     def _print_Dummy(self, expr: sp.Dummy) -> str:
         # the str printer marks a dummy with a leading underscore, which is program notation
-        return greek_text(expr.name)
+        return self._print_Symbol(expr)
 
     def _print_Heaviside(self, expr: sp.Expr) -> str:
         return "u(%s)" % self._print(expr.args[0])
@@ -370,14 +372,14 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
         if number is not None:
-            return "λ_%d" % number
+            return ("λ_%d" if self._settings["greek_letters"] else "lambda_%d") % number
         return "[root %d of %s = 0]" % (root.index, self._print(root.expr))  # type: ignore[attr-defined]
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
         return "e"
 
     def _print_Pi(self, expr: sp.Expr) -> str:
-        return "π"
+        return "π" if self._settings["greek_letters"] else "pi"
 
     def _print_ExpBase(self, expr: sp.Expr) -> str:
         return "exp(%s)" % self._print(shifted_argument(expr.args[0]))
@@ -401,8 +403,10 @@ def plain_text(obj: Any) -> str:
 
     >>> plain_text(sp.Matrix([1, sp.Symbol("t")]))
     '(1, t)'
+
+    Greek names stay spelled out (``lambda^2``): callers put this into ASCII text.
     """
-    printer = PlainPrinter()
+    printer = PlainPrinter({"greek_letters": False})
     if isinstance(obj, sp.MatrixBase):
         if obj.cols == 1:
             return "(" + ", ".join(printer.doprint(e) for e in obj) + ")"
