@@ -17,6 +17,7 @@ from typing import Any
 import sympy as sp
 
 from ..model import SheetMeta, Solution
+from ..render.escape import spoken
 from ..render.printing import MathFormatter, MathStyle, collect_roots, format_decimal
 from .base import Document, Frame, Layout, label_key, parameter_assumptions, program_versions
 from .blocks import Alert, Block, Eq, Heading, Inline, Items, Math, N, P
@@ -132,18 +133,18 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
     notices = tuple(dict.fromkeys((*(case.notices if case else ()), *solution.notices)))
     if notices:
         b.append(P("Notices from the program:"))
-        b.append(Items(tuple((n,) for n in notices)))
+        b.append(Items(tuple((spoken(n),) for n in notices)))
 
     b.append(Heading(2, "Method"))
     method: list[tuple[Inline, ...]] = [
-        ("Eigenvalues from det(A - lambda I) = 0; eigenvectors span the null space of A - lambda I.",),
+        ("Eigenvalues from det(A - λ I) = 0; eigenvectors span the null space of A - λ I.",),
         ("A = P D P^-1 with the eigenvectors" + ("" if solution.is_diagonalizable else " and Jordan chains") + " as columns of P; the product is checked.",),
         ("x = P y gives y' = D y + g with g = P^-1 f" + ("." if solution.is_diagonalizable else "; Jordan blocks are solved from the bottom row up."),),
-        ("Each y_k' = lambda_k y_k + h_k is multiplied by the integrating factor mu_k = exp(-lambda_k (t - t0)), so (mu_k y_k)' = mu_k h_k is integrated directly.",),
+        ("Each y_k' = λ_k y_k + g_k is multiplied by the integrating factor μ_k = exp(-λ_k (t - t0)), so (μ_k y_k)' = μ_k g_k is integrated from t0 to t (the variable of integration s).",),
         ("x = P y is recombined into homogeneous and particular parts.",),
     ]
     if any(s.kind == "real_form" for s in solution.steps):
-        method.append(("Complex pairs a +- i b are written in real form from Re and Im of v exp(lambda t), each with a real constant.",))
+        method.append(("Complex pairs a +- i b are written in real form from Re and Im of v exp(λ t), each with a real constant.",))
     method.append(("Constants from x(t0) = x0." if system.is_ivp else "No initial values: the constants stay free.",))
     method.append(("Verified by substitution into x' - A x - f, the initial values and a numeric integration.",))
     b.append(Items(tuple(method), numbered=True))
@@ -165,7 +166,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
     b += ctx.legend([solution.x])
     if solution.conditions:
         b.append(P("Holds under these conditions:"))
-        b.append(Items(tuple((Math(c.expr), f" {c.relation}: {c.reason}") for c in solution.conditions)))
+        b.append(Items(tuple((Math(c.expr), f" {c.relation}: {spoken(c.reason)}") for c in solution.conditions)))
     else:
         b.append(P("No condition on the parameters was needed."))
 
@@ -184,13 +185,13 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
             f"Numeric {'integration' if n.rtol is not None else 'solution'} ({n.method}) on "
             f"[{_fmt_float(n.t_start)}, {_fmt_float(n.t_end)}], {n.points} points, "
             + (f"rtol {_fmt_float(n.rtol)}, atol {_fmt_float(n.atol)}" if n.rtol is not None else "no tolerances (direct)")
-            + (f", the state extended by the {n.modes} mode{'' if n.modes == 1 else 's'} t^k e^(gamma t) of f" if n.modes else "")
+            + (f", the state extended by the {n.modes} mode{'' if n.modes == 1 else 's'} t^k e^(γ t) of f" if n.modes else "")
             + f": largest absolute gap {_fmt_float(n.max_abs_gap)}, "
             f"largest relative gap {_fmt_float(n.max_rel_gap)}: " + ("agrees" if n.ok else "DISAGREES"),
         ))
     else:
         checks.append(("Numeric integration: not run.",))
-    checks += [(note,) for note in ver.notes]
+    checks += [(spoken(note),) for note in ver.notes]
     b.append(Items(tuple(checks), numbered=True))
     if not ver.ok:
         b.append(Alert((FAILED,)))
@@ -203,6 +204,8 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
         "under the user's own quality procedures before use. The model (linearity, constant coefficients, parameter "
         "values) is the user's responsibility; applicable codes and licensed practice govern its use."
     ))
+    # the long intermediate algebra the derivation refers to, last, as on the LaTeX sheet
+    b += ctx.appendix_blocks()
     return tuple(b), fmt
 
 
@@ -293,12 +296,12 @@ def solution_record(solution: Solution) -> dict[str, Any]:
             "initial_ok": ver.initial_ok,
             "similarity_ok": ver.similarity_ok,
             "numeric": to_json_value(ver.numeric),
-            "notes": list(ver.notes),
+            "notes": [spoken(n) for n in ver.notes],
         },
         "conditions": [
-            {"expr": str(c.expr), "relation": c.relation, "reason": c.reason} for c in solution.conditions
+            {"expr": str(c.expr), "relation": c.relation, "reason": spoken(c.reason)} for c in solution.conditions
         ],
-        "notices": list(dict.fromkeys((*(case.notices if case else ()), *solution.notices))),
+        "notices": [spoken(n) for n in dict.fromkeys((*(case.notices if case else ()), *solution.notices))],
         "steps": [
             {"kind": step.kind, "fields": to_json_value(step)} for step in solution.steps
         ],

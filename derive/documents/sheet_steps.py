@@ -10,14 +10,14 @@ to this description for a kind without one.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Callable, Sequence
 
 import sympy as sp
 
 from ..model import Solution
-from ..render.escape import tex_escape
-from ..render.printing import MathFormatter, domain_tex, root_legend_rows
+from ..render.escape import spoken, tex_escape
+from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
@@ -30,6 +30,28 @@ class StepContext:
     solution: Solution
     fmt: MathFormatter
     lam: sp.Symbol
+    #: (label, heading, blocks) of the long intermediate algebra, moved to the
+    #: appendix at the end of the sheet; filled as the steps are described
+    appendix: list[tuple[str, Heading, list[Block]]] = field(default_factory=list)
+
+    def to_appendix(self, title: str, math: Name | None, bookmark: str, blocks: list[Block]) -> str:
+        """Move ``blocks`` to the appendix under ``title`` (+ ``math``); returns their label, ``A.3``."""
+        label = f"A.{len(self.appendix) + 1}"
+        self.appendix.append((label, Heading(4, f"{label} {title}", math, bookmark), blocks))
+        return label
+
+    def appendix_blocks(self) -> list[Block]:
+        """The appendix section: every moved piece of algebra under its label (empty when none)."""
+        if not self.appendix:
+            return []
+        out: list[Block] = [
+            Heading(2, "Appendix A: intermediate algebra"),
+            P("The row reductions behind the eigenvectors and Jordan chains of the derivation, in the order they are used."),
+        ]
+        for _, heading, blocks in self.appendix:
+            out.append(heading)
+            out += blocks
+        return out
 
     @property
     def t(self) -> sp.Symbol:
@@ -102,6 +124,17 @@ class StepContext:
         return Name(f"y_{{{step.conjugate_of}}}", f"y_{step.conjugate_of}")
 
 
+def integration_variable(t: sp.Symbol, *exprs: Any) -> sp.Symbol:
+    """A variable of integration distinct from the limit ``t`` and from every name in ``exprs``.
+
+    >>> integration_variable(sp.Symbol("t"), sp.Symbol("s"))
+    tau
+    """
+    used = {t.name} | {x.name for e in exprs if isinstance(e, sp.Basic) for x in e.free_symbols}
+    name = next(n for n in ("s", "tau", "sigma", "xi", "s_1") if n not in used)
+    return sp.Symbol(name, real=True)
+
+
 def _mat(name: str, plain: str, M: Any) -> Eq:
     return Eq(((Name(name, plain), M),))
 
@@ -164,7 +197,7 @@ def _eigenvalues(s: Any, c: StepContext) -> list[Block]:
         P("Each irreducible factor is set to zero. The eigenvalues, in the order used for the columns of ", N("P"), ", are:"),
         MathRows(tuple(rows)),
     ]
-    out += [P("Form of ", Math(e.value), f": {e.rule}.", runs_on=True) for e in s.entries if e.rule]
+    out += [P("Form of ", Math(e.value), f": {spoken(e.rule)}.", runs_on=True) for e in s.entries if e.rule]
     out += c.legend([e.value for e in s.entries])
     return out
 
@@ -196,7 +229,7 @@ def _eigenvector(s: Any, c: StepContext) -> list[Block]:
         out: list[Block] = [
             Heading(3, "Eigenvectors for ", at, "an eigenvalue"),
             P("The eigenvectors for ", at, f" (algebraic multiplicity {s.algebraic}) span the null space of ", shifted,
-              ", found by row reduction:"),
+              ", found by row reduction."),
         ]
     else:
         q = N(f"q({L})", f"q({Lp})")
@@ -204,12 +237,16 @@ def _eigenvector(s: Any, c: StepContext) -> list[Block]:
             Heading(3, "Eigenvectors for the roots of ", q, "q"),
             P("For each root ", N(L, Lp), " of ", N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0"),
               " the computation is the same, so it is done once for a generic root, using ", N(f"q({L}) = 0", f"q({Lp}) = 0"),
-              " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction:"),
+              " to reduce powers of ", N(L, Lp), ". The eigenvectors span the null space of ", shifted, ", found by row reduction."),
         ]
-    out += [
+    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0")
+    label = c.to_appendix("Row reduction for ", at_math, "an eigenvalue", [
         _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
         _mat(rf"\operatorname{{rref}}(A - {L} I)", f"rref(A - {Lp} I)", s.rref),
-        P(f"The pivot columns are {_cols(s.pivots)}; the free columns are {_cols(s.free)}. Setting each free unknown "
+    ])
+    out += [
+        P(f"(The matrix and its reduced row echelon form are in Appendix {label}.) "
+          f"The pivot columns are {_cols(s.pivots)}; the free columns are {_cols(s.free)}. Setting each free unknown "
           "to one in turn (and scaling to small integers) gives the basis"),
     ]
     many = len(s.basis) > 1
@@ -237,20 +274,22 @@ def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
               f" the algebraic multiplicity is {s.algebraic} but there {'is' if s.geometric == 1 else 'are'} only "
               f"{s.geometric} independent eigenvector{plural}; the chain is computed once for a generic root."),
         ]
-    out += [
-        P("A chain of generalized eigenvectors completes the basis: each solves ",
-          N(rf"(A - {L} I)\,v_{{k+1}} = v_k", f"(A - {Lp} I) v_(k+1) = v_k"), ", starting from the eigenvector ", N("v_1"), ".",
-          runs_on=True),
-        _mat(f"A - {L} I", f"A - {Lp} I", s.shifted),
-    ]
+    links: list[Block] = [_mat(f"A - {L} I", f"A - {Lp} I", s.shifted)]
     for k, link in enumerate(s.links, start=1):
-        out += [
+        links += [
             P("For ", N(f"v_{{{k + 1}}}", f"v_{k + 1}"), ": the right side is ",
               N(f"v_{{{k}}} = {f.m(link.rhs.T)}^{{T}}", f"v_{k} = {f.plain(link.rhs.T)}^T"), " and the augmented matrix reduces to"),
             _mat(rf"\operatorname{{rref}}\bigl[A - {L} I \mid v_{{{k}}}\bigr]", f"rref[A - {Lp} I | v_{k}]", link.augmented_rref),
             P("so that (free unknowns set to zero)"),
             _mat(f"v_{{{k + 1}}}", f"v_{k + 1}", link.solution),
         ]
+    at_math = N(f"{L} = {f.root_value(s.eigenvalue)}", f"{Lp} = {f.root_value_plain(s.eigenvalue)}") if s.root_of is None else N(f"q({L}) = {f.m(s.root_of)} = 0", f"q({Lp}) = {f.plain(s.root_of)} = 0")
+    label = c.to_appendix("Jordan chain links for ", at_math, "a defective eigenvalue", links)
+    out += [
+        P("A chain of generalized eigenvectors completes the basis: each solves ",
+          N(rf"(A - {L} I)\,v_{{k+1}} = v_k", f"(A - {Lp} I) v_(k+1) = v_k"), ", starting from the eigenvector ", N("v_1"),
+          f"; the reduction of each link is in Appendix {label}.", runs_on=True),
+    ]
     out.append(P("The chain:"))
     out += [_mat(f"v_{{{k}}}", f"v_{k}", v) for k, v in enumerate(s.vectors, start=1)]
     if s.root_of is not None and s.instances:
@@ -334,19 +373,29 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
         P("The equation for ", N(Y, Yp), ", with eigenvalue ", c.root_value(s.eigenvalue), ", is"),
         Eq(((N(f"{Y}'({T})", f"{Yp}'({Tp})"), s.eigenvalue * s.y + s.rhs),)),
     ]
+    k = s.index
+    g, gp = f"g_{{{k}}}", f"g_{k}"
     if s.coupling is not None:
+        # the right side is still named after the decoupled forcing g_k, plus the solved y_{k+1}
+        G, Gp = rf"\bigl(g_{{{k}}} + {f.m(s.coupling)}\bigr)", f"(g_{k} + {f.plain(s.coupling)})"
         out += [
-            P("Its forcing includes the next component of the same Jordan block, already solved, ",
+            P("Its forcing is the decoupled forcing ", N(rf"{g}({T}) = {f.m(s.g)}", f"{gp}({Tp}) = {f.plain(s.g)}"),
+              " plus the next component of the same Jordan block, already solved, ",
               N(f"{f.m(s.coupling)} = {f.m(s.coupling_value)}", f"{f.plain(s.coupling)} = {f.plain(s.coupling_value)}"),
-              "; with ", N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"), " the right side is"),
-            Eq(((N(f"h({T})", f"h({Tp})"), s.rhs),)),
+              "; together"),
+            Eq(((N(rf"{g}({T}) + {f.m(s.coupling)}({T})", f"{gp}({Tp}) + {f.plain(s.coupling)}({Tp})"), s.rhs),)),
         ]
+    else:
+        G, Gp = g, gp
+    # the variable of integration is a letter of its own, never the limit t
+    var = integration_variable(s.t, s.integrand, s.integral, s.solution)
+    V, Vp = f.m(var), f.plain(var)
     out += [
         P("Multiplying by the integrating factor"),
-        Eq(((N(rf"\mu({T})", f"mu({Tp})"), s.factor),)),
+        Eq(((N(rf"\mu({T})", f"μ({Tp})"), s.factor),)),
         P("makes the left side an exact derivative, ",
-          N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,h", f"d/d{Tp} (mu {Yp}) = mu h"), ", with"),
-        Eq(((N(rf"\mu({T})\,h({T})", f"mu({Tp}) h({Tp})"), s.integrand),)),
+          N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,{G}", f"d/d{Tp} (μ {Yp}) = μ {Gp}"), ", with"),
+        Eq(((N(rf"\mu({V})\,{G}({V})", f"μ({Vp}) {Gp}({Vp})"), s.integrand.xreplace({s.t: var})),)),
     ]
     if s.resonant:
         out.append(P("The forcing has the same exponent as the eigenvalue (resonance): the exponentials cancel in the "
@@ -355,28 +404,41 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
         t0, t0p = f.m(s.t0), f.plain(s.t0)
         out += [
             P("Integrating from ", N(f"{T}_0 = {t0}", f"{Tp}0 = {t0p}"), " to ", N(T, Tp), ":", runs_on=True),
-            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu\,h \, d{T}", f"integral from {t0p} to {Tp} of mu h"), s.integral),)),
+            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu({V})\,{G}({V}) \, d{V}", f"integral from {t0p} to {Tp} of μ({Vp}) {Gp}({Vp}) d{Vp}"), s.integral),)),
         ]
     else:
-        out += [P("An antiderivative is", runs_on=True), Eq(((N(rf"\int \mu\,h \, d{T}", "antiderivative of mu h"), s.integral),))]
+        out += [P("An antiderivative is", runs_on=True),
+                Eq(((N(rf"\int \mu({V})\,{G}({V}) \, d{V}", f"antiderivative of μ({Vp}) {Gp}({Vp})"), s.integral),))]
     out += [
-        P("Dividing by ", N(r"\mu", "mu"), ", with the constant ", Math(s.constant), ":"),
+        P("Dividing by ", N(r"\mu", "μ"), ", with the constant ", Math(s.constant), ":"),
         Eq(((c.fn(s.y), s.solution),)),
     ]
     return out
 
 
 def _recombine(s: Any, c: StepContext) -> list[Block]:
-    return [
-        Heading(3, "Recombination"),
-        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
-          "-th column of ", N("P"), ". The terms carrying the constants form the homogeneous part,"),
-        TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
-        P("that is,"),
+    complex_form = any(getattr(other, "kind", "") == "real_form" for other in c.solution.steps)
+    parts: list[Block] = [
         _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
         P("and the remaining terms the particular part,"),
         _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
     ]
+    moved: list[Block] = [
+        P("Each solved ", N("y_k"), " times the ", N("k"), "-th column of ", N("P"), ", the terms carrying the constants:"),
+        TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
+    ]
+    if complex_form:
+        # the complex form is only a stage on the way to the real form shown next
+        moved += [P("that is, the homogeneous part"), *parts]
+    label = c.to_appendix("Recombination term by term", None, "", moved)
+    out: list[Block] = [
+        Heading(3, "Recombination"),
+        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
+          f"-th column of ", N("P"), f" (term by term in Appendix {label}). The terms carrying the constants form the homogeneous part"
+          + (", and the remaining terms the particular part; in complex form both are in the appendix, and the real form follows."
+             if complex_form else ","))
+    ]
+    return out if complex_form else out + parts
 
 
 def _real_form(s: Any, c: StepContext) -> list[Block]:
@@ -389,22 +451,29 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         Heading(3, "Real form"),
         P(N("A"), " and ", N("f"), " are real, so each complex pair of terms is rewritten with real functions and real constants."),
     ]
+    moved: list[Block] = []
     for p in s.pairs:
         c1, c2 = p.real_constants[0], p.real_constants[1]
-        out += [
-            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"lambda = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
+        moved += [
+            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
               " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
               N(rf"v = \operatorname{{Re}} v + {j} \operatorname{{Im}} v", f"v = Re v + {j} Im v"), ":", runs_on=True),
             _mat(r"\operatorname{Re} v", "Re v", p.vector_re),
             _mat(r"\operatorname{Im} v", "Im v", p.vector_im),
-            P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(lambda {Tp})"), " are two real solutions:"),
-            _mat(re_v, f"Re(v exp(lambda {Tp}))", p.real_part),
-            _mat(im_v, f"Im(v exp(lambda {Tp}))", p.imag_part),
-            P("The complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
+            P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(λ {Tp})"), " are two real solutions:"),
+            _mat(re_v, f"Re(v exp(λ {Tp}))", p.real_part),
+            _mat(im_v, f"Im(v exp(λ {Tp}))", p.imag_part),
+        ]
+        out.append(
+            P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
+              " the complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
               " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
               ", the pair contributing ",
-              N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(lambda {Tp})) + {f.plain(c2)} Im(v exp(lambda {Tp}))"), "."),
-        ]
+              N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(λ {Tp})) + {f.plain(c2)} Im(v exp(λ {Tp}))"), "."),
+        )
+    if moved:
+        label = c.to_appendix("Real and imaginary parts of the complex pairs", None, "", moved)
+        out.append(P(f"The real and imaginary parts of each pair are worked out in Appendix {label}.", runs_on=True))
     out += [
         P("In real form:", runs_on=True),
         _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
@@ -416,31 +485,27 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
 def _initial_values(s: Any, c: StepContext) -> list[Block]:
     f = c.fmt
     t = c.solution.system.t
+    label = c.to_appendix("The linear system for the constants", None, "", [_mat("M", "M", s.matrix), _mat("r", "r", s.rhs)])
     return [
         Heading(3, "Constants from the initial values"),
         P("Setting ", N(f"{f.m(t)} = {f.m(s.t0)}", f"{f.plain(t)} = {f.plain(s.t0)}"),
           " in the general solution and equating it to ", N("x_0", "x0"), " gives a linear system ", N(r"M\,c = r", "M c = r"),
           " for the constants ", N(f"c = ({c.m_list(s.constants)})^{{T}}", f"c = ({c.plain_list(s.constants)})^T"), ":"),
         _mat("x_0", "x0", s.x0),
-        _mat("M", "M", s.matrix),
-        _mat("r", "r", s.rhs),
-        P("Its solution:"),
+        P(f"The matrix ", N("M"), " and the right side ", N("r"), f" are written out in Appendix {label}. Its solution:"),
         Eq(tuple((N(f.m(k), f.plain(k)), v) for k, v in s.values)),
     ]
 
 
 def _result(s: Any, c: StepContext) -> list[Block]:
+    # the result itself is written once, in the Result section
+    where = " is the result stated, component by component and with its parts, in the Result section."
     lead = (
-        P("The general solution, with the free constants ", N(c.m_list(s.constants), c.plain_list(s.constants)), ", is")
+        P("The general solution, with the free constants ", N(c.m_list(s.constants), c.plain_list(s.constants)), ",", where)
         if s.constants
-        else P("Substituting the constants gives")
+        else P("Substituting the constants gives the result stated, component by component and with its parts, in the Result section.")
     )
-    return [
-        Heading(3, "Collected result"),
-        lead,
-        Eq(c.state_rows(s.x)),
-        P("This is the result stated, with its parts, in the Result section."),
-    ]
+    return [Heading(3, "Collected result"), lead]
 
 
 def _interval(s: Any, c: StepContext) -> list[Block]:
@@ -508,7 +573,7 @@ def _convolution(s: Any, c: StepContext) -> list[Block]:
           "convolution (the free part plus the response to the input from ", Math(s.t0), " to ", N(T, Tp), "):"),
         Eq(((c.fn(s.y), s.written),)),
         P("Since ", N(rf"e^{{\lambda({T} - {S})}} = e^{{\lambda({T} - {t0})}}\,e^{{-\lambda({S} - {t0})}}",
-                      f"exp(lambda ({Tp} - {Sp})) = exp(lambda ({Tp} - {t0p})) exp(-lambda ({Sp} - {t0p}))"),
+                      f"exp(λ ({Tp} - {Sp})) = exp(λ ({Tp} - {t0p})) exp(-λ ({Sp} - {t0p}))"),
           ", the convolution is a combination of integrals whose integrands do not contain ", N(T, Tp), ":"),
     ]
     for integral, value in s.integrals:
@@ -555,15 +620,27 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
                 (N(f.m(ph) + p_tex, f.plain(ph) + p_plain),),
             ))
         out += [
-            P("The sinusoidal part is ", N(rf"\operatorname{{Re}}(F\,e^{{{j} \omega {T}}})", f"Re(F exp({j} omega {Tp}))"),
-              " with ", N(rf"\omega = {f.m(s.omega)}", f"omega = {f.plain(s.omega)}"), "; trying ",
-              N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} omega {Tp}))"), " gives ",
-              N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} omega I - A)^-1 F"), ":", runs_on=True),
+            P("The sinusoidal part is ", N(rf"\operatorname{{Re}}(F\,e^{{{j} \omega {T}}})", f"Re(F exp({j} ω {Tp}))"),
+              " with ", N(rf"\omega = {f.m(s.omega)}", f"ω = {f.plain(s.omega)}"), "; trying ",
+              N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} ω {Tp}))"), " gives ",
+              N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} ω I - A)^-1 F"), ":", runs_on=True),
             _mat("F", "F", s.phasor_in),
             _mat("X", "X", s.phasor),
-            P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(omega {Tp} + arg X_k)"), ":"),
-            Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"),
+            P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(ω {Tp} + arg X_k)"), ":"),
         ]
+        cell_widths = [visible_width(f.m(v)) for v in (*s.amplitude, *s.phase)]
+        if max(cell_widths, default=0) <= f.style.line_width // 3:
+            out.append(Table(("State", ("Amplitude ", N("|X_k|")), ("Phase ", N(r"\arg X_k", "arg X_k"), " (rad)")), tuple(rows), align="lll"))
+        else:
+            # too wide for a table cell: each amplitude and phase as a display of its own, broken as needed
+            for k, (amp, ph) in enumerate(zip(s.amplitude, s.phase), start=1):
+                amp, ph = _over_one_denominator(amp), _over_one_denominator(ph)
+                a_tex, a_plain = approx(amp)
+                p_tex, p_plain = approx(ph)
+                out.append(Eq(((N(f"|X_{{{k}}}|", f"|X_{k}|"), amp), (N(rf"\arg X_{{{k}}}", f"arg X_{k}"), ph))))
+                if a_tex and p_tex:
+                    out.append(P("so that ", N(f"|X_{{{k}}}|{a_tex}", f"|X_{k}|{a_plain}"), " and ",
+                                 N(rf"\arg X_{{{k}}}{p_tex}", f"arg X_{k}{p_plain}"), " rad.", runs_on=True))
     out += [
         P("The steady state and the transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), ", which decays:", runs_on=True),
         Eq(c.state_rows(s.x_ss, "ss")),
@@ -572,6 +649,20 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
           *((" leaves a zero residual.",) if s.residual_zero else (" does ", Strong("not"), " leave a zero residual."))),
     ]
     return out
+
+
+def _over_one_denominator(e: Any) -> Any:
+    """The argument of each square root and arctangent in ``e`` over one denominator, for display.
+
+    A sum of fractions under a root cannot be broken across lines; over a
+    common denominator it is one short fraction.  The value is unchanged.
+    """
+    if not isinstance(e, sp.Basic):
+        return e
+    return e.replace(
+        lambda x: isinstance(x, sp.atan) or (x.is_Pow and x.exp == sp.S.Half and x.base.is_Add),
+        lambda x: sp.atan(sp.cancel(sp.together(x.args[0]))) if isinstance(x, sp.atan) else sp.sqrt(sp.factor(sp.cancel(sp.together(x.base)))),
+    )
 
 
 #: Step kind -> blocks; every kind in ``derive.steps.STEP_KINDS`` has an entry.

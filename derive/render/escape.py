@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash"]
+__all__ = ["tex_escape", "tex_paragraphs", "md_escape", "squash", "spoken", "GREEK_LETTERS"]
 
 
 # ---------------------------------------------------------------------------
@@ -43,12 +43,25 @@ _GREEK = {
     "Λ": "Lambda", "Ξ": "Xi", "Π": "Pi", "Σ": "Sigma", "Φ": "Phi",
     "Ψ": "Psi", "Ω": "Omega",
 }
+#: Greek letter names, printed as the letters in plain text (lambda as λ).
+GREEK_LETTERS: dict[str, str] = {
+    "alpha": "α", "beta": "β", "gamma": "γ", "delta": "δ", "epsilon": "ε", "zeta": "ζ",
+    "eta": "η", "theta": "θ", "iota": "ι", "kappa": "κ", "lambda": "λ", "mu": "μ",
+    "nu": "ν", "xi": "ξ", "pi": "π", "rho": "ρ", "sigma": "σ", "tau": "τ",
+    "upsilon": "υ", "phi": "φ", "chi": "χ", "psi": "ψ", "omega": "ω",
+    "Gamma": "Γ", "Delta": "Δ", "Theta": "Θ", "Lambda": "Λ", "Xi": "Ξ", "Pi": "Π",
+    "Sigma": "Σ", "Phi": "Φ", "Psi": "Ψ", "Omega": "Ω",
+}
+
 _TEXT_SYMBOLS = {
     "–": "--", "—": "---", "‘": "`", "’": "'", "“": "``", "”": "''",
     "…": r"\dots{}", "≤": r"\ensuremath{\leq}", "≥": r"\ensuremath{\geq}",
     "≠": r"\ensuremath{\neq}", "≈": r"\ensuremath{\approx}",
     "−": "-", "·": r"\ensuremath{\cdot}", "√": r"\ensuremath{\surd}",
 }
+
+
+_CARET_POWER = re.compile(r"\\textasciicircum\{\}(-?[0-9]+)")
 
 
 def tex_escape(text: object) -> str:
@@ -74,7 +87,8 @@ def tex_escape(text: object) -> str:
             out.append("[U+%04X]" % ord(ch))
         else:
             out.append(ch)
-    return "".join(out)
+    # a power in running text (c^2) is set as a superscript, as it is read
+    return _CARET_POWER.sub(r"\\ensuremath{^{\1}}", "".join(out))
 
 
 def tex_paragraphs(text: object) -> str:
@@ -114,3 +128,29 @@ def md_escape(text: object) -> str:
     'x\\\\_1 \\\\<b\\\\>\\\\*'
     """
     return _MD_SPECIALS.sub(r"\\\1", squash(str(text)))
+
+
+# ---------------------------------------------------------------------------
+# Program text that quotes expressions
+
+
+_GREEK_WORD = re.compile(
+    r"(?<![A-Za-z\\])(alpha|beta|gamma|delta|epsilon|zeta|eta|theta|kappa|lambda|mu|nu|xi|pi|rho|sigma|tau|phi|chi|psi|omega)(?![A-Za-z])"
+)
+
+
+def spoken(text: object) -> str:
+    """Text from the solving code that quotes expressions in program notation, as mathematics.
+
+    The one display rule for such text (notices, reasons of conditions, the rule
+    behind an eigenvalue's form): a power ``**`` is written ``^``, the ``*``
+    between factors becomes a space, and a Greek name is written as its letter.
+    It is for program-made text only; user text is shown as written.
+
+    >>> spoken("solved on the relation k = c**2/(4*m)")
+    'solved on the relation k = c^2/(4 m)'
+    >>> spoken("differs from the eigenvalue -lambda + 2")
+    'differs from the eigenvalue -λ + 2'
+    """
+    text = re.sub(r"\s*\*\s*", " ", str(text).replace("**", "^"))
+    return _GREEK_WORD.sub(lambda m: GREEK_LETTERS[m.group(1)], text)

@@ -26,7 +26,7 @@ from ..errors import OutputError
 from ..model import SheetMeta, Solution
 from .escape import tex_escape
 from .latex_blocks import blocks_latex
-from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows
+from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows, visible_width
 from .templating import FRAGMENT_PACKAGES, get_template
 
 __all__ = ["sheet_context", "render_sheet"]
@@ -94,9 +94,11 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         names = [fmt.m(s) for s in solution.system.states]
         return [(f"{{{names[i]}}}{mark}({fmt.m(t)})", vec[i]) for i in range(vec.rows)]
 
-    def step_latex(step: Any) -> str:
-        """A derivation step, set from its blocks (``derive.documents.sheet_steps``)."""
-        return blocks_latex(step_blocks(step, StepContext(solution=solution, fmt=fmt, lam=ctx.lam)), fmt)
+    # one context for every step, so the algebra they move to the appendix is
+    # collected in order and numbered once
+    steps_ctx = StepContext(solution=solution, fmt=fmt, lam=ctx.lam)
+    derivation = "\n\n".join(blocks_latex(step_blocks(step, steps_ctx), fmt) for step in solution.steps)
+    appendix = blocks_latex(steps_ctx.appendix_blocks(), fmt)
 
     def m_list(items: Any) -> str:
         return ", ".join(fmt.m(e) for e in items)
@@ -108,8 +110,10 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "num": _float,
         "rows_for_states": rows_for_states,
         "m_list": m_list,
-        "step_latex": step_latex,
+        "derivation": lambda: derivation,
+        "appendix": lambda: appendix,
         "relation_tex": _relation_tex,
+        "condition_tex": lambda c: _condition_tex(fmt, c),
         "legend": ctx.legend,
         "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
         "vector": lambda items: sp.ImmutableMatrix([[e] for e in items]),
@@ -130,6 +134,17 @@ def _relation_tex(relation: str) -> str:
             rest_tex = rest if all(c in "0123456789.-+ " for c in rest) else r"\text{%s}" % tex_escape(rest)
             return f" {tex} {rest_tex}"
     return r"\ \text{%s}" % tex_escape(text)
+
+
+def _condition_tex(fmt: MathFormatter, condition: Any) -> str:
+    """A stated condition inline, or displayed and broken at its terms when too wide for a line."""
+    inline = fmt.m(condition.expr) + _relation_tex(condition.relation)
+    if visible_width(inline) <= fmt.style.line_width - 16:
+        return f"${inline}$"
+    lines = fmt.split(condition.expr, lead=2)
+    lines[-1] += _relation_tex(condition.relation)
+    body = " \\\\\n".join(("&" if k == 0 else "&\\quad ") + line for k, line in enumerate(lines))
+    return "\\begin{align*}\n" + body + "\n\\end{align*}"
 
 
 def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> dict[str, Any]:

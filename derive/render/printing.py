@@ -28,7 +28,6 @@ early break.
 
 from __future__ import annotations
 
-import math
 import re
 from dataclasses import dataclass
 from typing import Any, Iterable, Sequence
@@ -37,7 +36,9 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
-from .escape import tex_escape, tex_paragraphs
+from .decimals import format_decimal
+from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
+from .measure import visible_width
 
 __all__ = [
     "plain_text",
@@ -53,6 +54,8 @@ __all__ = [
     "tex_escape",
     "tex_paragraphs",
     "domain_tex",
+    "greek_text",
+    "GREEK_LETTERS",
 ]
 
 
@@ -150,60 +153,6 @@ def collect_roots(
 
 
 # ---------------------------------------------------------------------------
-# Decimals
-
-
-def _float_text(value: float, digits: int, *, latex: bool) -> str:
-    if value == 0:
-        return "0"
-    text = f"{value:.{digits}g}"
-    if "e" in text:
-        mant, exp = text.split("e")
-        if latex:
-            return r"%s \times 10^{%d}" % (mant, int(exp))
-        return f"{mant}e{int(exp)}"
-    return text
-
-
-def format_decimal(
-    value: sp.Expr, *, digits: int = 5, unit: str = "i", latex: bool = False
-) -> str:
-    """A short decimal of an exact number, complex as ``a + b i``; "" if not numeric.
-
-    >>> format_decimal(sp.sqrt(2))
-    '1.4142'
-    >>> format_decimal(1 - 2*sp.I, unit="j")
-    '1 - 2 j'
-    """
-    expr = sp.sympify(value, strict=True)
-    if not expr.is_number:
-        return ""
-    roots = expr.atoms(sp.CRootOf)
-    if roots:  # evalf refines a CRootOf slowly; use the cached decimals
-        from ..exact import root_value
-
-        expr = expr.xreplace({r: root_value(r) for r in roots})
-    num = sp.N(expr, digits + 5)
-    re_, im_ = (float(part) for part in num.as_real_imag())
-    # Keep the display from showing round-off of an exact zero part.
-    scale = max(abs(re_), abs(im_))
-    if scale and abs(re_) < 10 ** (-digits - 3) * scale:
-        re_ = 0.0
-    if scale and abs(im_) < 10 ** (-digits - 3) * scale:
-        im_ = 0.0
-    if math.isnan(re_) or math.isnan(im_):
-        return ""
-    if im_ == 0:
-        return _float_text(re_, digits, latex=latex)
-    imag = _float_text(abs(im_), digits, latex=latex)
-    imag = unit if imag == "1" else f"{imag} {unit}"
-    if re_ == 0:
-        return f"-{imag}" if im_ < 0 else imag
-    sign = "-" if im_ < 0 else "+"
-    return f"{_float_text(re_, digits, latex=latex)} {sign} {imag}"
-
-
-# ---------------------------------------------------------------------------
 # Printers
 
 
@@ -276,6 +225,19 @@ class _RootStandIns:
         return super()._print_Symbol(expr, *args, **kwargs)  # type: ignore[misc]
 
 
+#: A name of two or more Latin letters, which TeX would set as a product of letters.
+_MULTI_LETTER = re.compile(r"[A-Za-z]{2,}")
+
+def greek_text(name: str) -> str:
+    """A symbol's name for plain text, a Greek name (alone or before ``_``) as its letter.
+
+    >>> greek_text("lambda_1"), greek_text("omega"), greek_text("Kq")
+    ('λ_1', 'ω', 'Kq')
+    """
+    base, sep, rest = name.partition("_")
+    return GREEK_LETTERS.get(base, base) + sep + rest
+
+
 class SheetLatexPrinter(_RootStandIns, LatexPrinter):
     """sympy's LaTeX printer with the sheet's notation (see the module docstring).
 
@@ -289,6 +251,27 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         "root_names": {},
         "exp_threshold": 10,
     }
+
+    def _print_Symbol(self, expr: sp.Symbol, style: str = "plain") -> str:
+        # A multi-letter name (Kq, Rth) is one symbol, set in italic as a whole
+        # rather than read as the product K q; a multi-letter subscript or
+        # superscript (k_on) is a label, set upright.  Greek names and sympy's
+        # modifiers (alpha, xdot) are translated first and stay as they are.
+        # Function names (atan) do not pass here.
+        if expr in self._standing or expr in self._settings["symbol_names"] or "{" in expr.name:
+            return super()._print_Symbol(expr, style=style)
+        base, supers, subs = self._split_super_sub(expr.name)
+        if _MULTI_LETTER.fullmatch(base):
+            base = r"\mathit{%s}" % base
+        if style == "bold":
+            base = r"\mathbf{%s}" % base
+        label = [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in supers]
+        if label:
+            base += "^{%s}" % " ".join(label)
+        label = [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in subs]
+        if label:
+            base += "_{%s}" % " ".join(label)
+        return base
 
     def _print_Heaviside(self, expr: sp.Expr, exp: str | None = None) -> str:
         tex = r"u\left(%s\right)" % self._print(expr.args[0])
@@ -355,7 +338,25 @@ class PlainPrinter(_RootStandIns, StrPrinter):
         **StrPrinter._default_settings,
         "root_names": {},
         "imaginary_unit": "i",
+        # Greek names as letters (λ); the ASCII names where a caller's text is ASCII
+        "greek_letters": True,
     }
+
+    def doprint(self, expr: Any) -> str:
+        # Mathematics, not program text: a power is written ^ and a product by
+        # juxtaposition (a space), the way a formula is typed by hand.  The str
+        # printer writes ** only for a power and * only between the factors of
+        # a product (names never hold either), so the rewrite is exact.
+        return str(super().doprint(expr)).replace("**", "^").replace("*", " ")
+
+    def _print_Symbol(self, expr: sp.Symbol) -> str:
+        if expr in self._standing:
+            return super()._print_Symbol(expr)
+        return greek_text(expr.name) if self._settings["greek_letters"] else expr.name
+
+    def _print_Dummy(self, expr: sp.Dummy) -> str:
+        # the str printer marks a dummy with a leading underscore, which is program notation
+        return self._print_Symbol(expr)
 
     def _print_Heaviside(self, expr: sp.Expr) -> str:
         return "u(%s)" % self._print(expr.args[0])
@@ -371,11 +372,14 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
         if number is not None:
-            return "lambda_%d" % number
+            return ("λ_%d" if self._settings["greek_letters"] else "lambda_%d") % number
         return "[root %d of %s = 0]" % (root.index, self._print(root.expr))  # type: ignore[attr-defined]
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
         return "e"
+
+    def _print_Pi(self, expr: sp.Expr) -> str:
+        return "π" if self._settings["greek_letters"] else "pi"
 
     def _print_ExpBase(self, expr: sp.Expr) -> str:
         return "exp(%s)" % self._print(shifted_argument(expr.args[0]))
@@ -399,8 +403,10 @@ def plain_text(obj: Any) -> str:
 
     >>> plain_text(sp.Matrix([1, sp.Symbol("t")]))
     '(1, t)'
+
+    Greek names stay spelled out (``lambda^2``): callers put this into ASCII text.
     """
-    printer = PlainPrinter()
+    printer = PlainPrinter({"greek_letters": False})
     if isinstance(obj, sp.MatrixBase):
         if obj.cols == 1:
             return "(" + ", ".join(printer.doprint(e) for e in obj) + ")"
@@ -412,80 +418,6 @@ def plain_text(obj: Any) -> str:
     if isinstance(obj, sp.Basic):
         return printer.doprint(obj)
     return str(obj)
-
-
-def _group(tex: str, start: int) -> tuple[str, int]:
-    """The brace group starting at ``tex[start] == '{'`` and the index after it."""
-    depth = 0
-    for k in range(start, len(tex)):
-        ch = tex[k]
-        if ch == "\\":
-            continue
-        if ch == "{" and (k == 0 or tex[k - 1] != "\\"):
-            depth += 1
-        elif ch == "}" and tex[k - 1] != "\\":
-            depth -= 1
-            if depth == 0:
-                return tex[start + 1 : k], k + 1
-    return tex[start + 1 :], len(tex)
-
-
-_ZERO_WIDTH = re.compile(
-    r"\\(left|right|bigl|bigr|Bigl|Bigr|biggl|biggr|big|Big|bigg|Bigg"
-    r"|operatorname|mathrm|mathbf|mathit|mathbb|text|displaystyle|quad|qquad"
-    r"|,|;|!|\s)(?![A-Za-z])"
-)
-
-
-def visible_width(tex: str) -> int:
-    """Rough printed width of a LaTeX math string, in glyphs.
-
-    A fraction counts as its wider part, sub- and superscripts count fully
-    (an overestimate), ``\\left``/``\\right`` and spacing count nothing.
-
-    >>> visible_width(r"\\frac{a + b}{c}")
-    4
-    """
-    width = 0
-    k = 0
-    while k < len(tex):
-        if tex.startswith(r"\begin{bmatrix}", k):
-            end = tex.find(r"\end{bmatrix}", k)
-            end = len(tex) if end < 0 else end
-            body = tex[k + len(r"\begin{bmatrix}") : end]
-            rows = [row.split("&") for row in body.split(r"\\")]
-            ncols = max(len(row) for row in rows)
-            cols = [
-                max((visible_width(row[j]) for row in rows if j < len(row)), default=0)
-                for j in range(ncols)
-            ]
-            width += sum(cols) + 2 * ncols
-            k = end + len(r"\end{bmatrix}")
-            continue
-        if tex.startswith(r"\frac", k) or tex.startswith(r"\dfrac", k):
-            k = tex.index("{", k)
-            num, k = _group(tex, k)
-            while k < len(tex) and tex[k] == " ":
-                k += 1
-            den, k = (_group(tex, k) if k < len(tex) and tex[k] == "{" else ("", k))
-            width += max(visible_width(num), visible_width(den))
-            continue
-        m = _ZERO_WIDTH.match(tex, k)
-        if m:
-            k = m.end()
-            continue
-        if tex[k] == "\\":
-            m = re.compile(r"\\([A-Za-z]+|.)").match(tex, k)
-            assert m is not None
-            k = m.end()
-            width += 1
-            continue
-        if tex[k] in "{}^_& \t\n":
-            k += 1
-            continue
-        width += 2 if tex[k] in "+-=<>" else 1
-        k += 1
-    return width
 
 
 # ---------------------------------------------------------------------------
@@ -588,12 +520,19 @@ class MathFormatter:
 
     # -- breaking long sums ----------------------------------------------
 
-    def _signed_terms(self, expr: sp.Expr) -> list[tuple[str, str]]:
-        """Top-level terms of a sum as (sign, LaTeX), in the printer's order."""
+    def _signed_terms(self, expr: sp.Expr, *, budget: int | None = None) -> list[tuple[str, str]]:
+        """Top-level terms of a sum as (sign, LaTeX), in the printer's order.
+
+        With a ``budget``, a term wider than it that is a product holding a
+        sum, c (a + b + ...) e^{...}, is opened into pieces of its own: the
+        bracket's terms become separate pieces, the first carrying the
+        coefficient and an opening bracket, the last the closing bracket and
+        the remaining factors, so the packer can break inside the term.
+        """
         p = self.latex_printer
         terms = p._as_ordered_terms(expr, order=None)
         out: list[tuple[str, str]] = []
-        for i, term in enumerate(terms):
+        for term in terms:
             sign = "+"
             if term.could_extract_minus_sign():
                 sign = "-"
@@ -601,8 +540,43 @@ class MathFormatter:
             tex = p._print(term)
             if p._needs_add_brackets(term):
                 tex = r"\left(%s\right)" % tex
+            if budget is not None and visible_width(tex) > budget:
+                opened = self._open_term(term, budget)
+                if opened:
+                    out.append((sign, opened[0][1]))
+                    out += opened[1:]
+                    continue
             out.append((sign, tex))
         return out
+
+    def _open_term(self, term: sp.Expr, budget: int) -> list[tuple[str, str]]:
+        r"""A wide product c (a + b + ...) F as pieces ``c \biggl(a``, ``+ b``, ..., ``+ z \biggr) F``; [] if it has no sum."""
+        if not isinstance(term, sp.Mul):
+            return []
+        factors = sp.Mul.make_args(term)
+        if any(f.is_Pow and f.exp.is_negative and not f.is_number for f in factors):
+            return []  # a fraction with a symbolic denominator stays whole
+        adds = [f for f in factors if isinstance(f, sp.Add)]
+        if not adds:
+            return []
+        big = max(adds, key=lambda f: visible_width(self.m(f)))
+        rest = [f for f in factors if f is not big]
+        den = sp.Integer(1)
+        # the coefficient before the bracket, the functions of time (e^{...}, sin, a step) after it
+        timed = [f for f in rest if f.has(sp.exp, sp.sin, sp.cos, sp.Heaviside)]
+        coeff = sp.Mul(*[f for f in rest if f not in timed]) / den
+        after = sp.Mul(*timed)
+        before = "" if coeff == 1 else self.m(coeff)
+        after_tex = "" if after == 1 else " " + self.m(after)
+        inner = self._signed_terms(big, budget=budget)
+        if len(inner) < 2:
+            return []
+        first_sign, first_tex = inner[0]
+        pieces = [("+", f"{before} \\biggl({'-' if first_sign == '-' else ''}{first_tex}".strip())]
+        pieces += inner[1:]
+        last_sign, last_tex = pieces[-1]
+        pieces[-1] = (last_sign, f"{last_tex} \\biggr){after_tex}")
+        return pieces
 
     def _pack(self, pieces: list[tuple[str, str]], first_width: int) -> list[str]:
         """Greedy lines of signed pieces within the line width and term cap."""
@@ -621,8 +595,9 @@ class MathFormatter:
             ):
                 lines.append(current)
                 current, count = "", 0
-                # continuation lines are indented by a quad in the align
-                budget = max(self.style.line_width - 4, 20)
+                # continuation lines start at the alignment point after the left
+                # side, indented by a quad
+                budget = max(self.style.line_width - first_width - 4, 20)
             current = f"{current} {chunk}" if current else chunk
             count += 1
         if current:
@@ -633,6 +608,9 @@ class MathFormatter:
         """An expression as one or more LaTeX lines; continuation lines start with a sign.
 
         ``lead`` is the width already used on the first line (the left side).
+        A sum is broken at its top-level + and -; a term too wide for a line
+        is opened at the sum inside it (``_open_term``); a product c (long sum)
+        is broken inside big brackets.
         """
         obj = _as_expr(obj)
         if isinstance(obj, str):
@@ -640,27 +618,47 @@ class MathFormatter:
         whole = self.m(obj)
         if isinstance(obj, sp.MatrixBase) or visible_width(whole) + lead <= self.style.line_width:
             return [whole]
+        budget = max(self.style.line_width - lead - 4, 20)
         if isinstance(obj, sp.Add):
-            return self._pack(self._signed_terms(obj), lead)
+            return self._pack(self._signed_terms(obj, budget=budget), lead)
         if isinstance(obj, sp.Mul):
-            # c * (long sum): break the sum inside big brackets.  \biggl( and
-            # \biggr) need no partner on the same align row, unlike \left.
-            adds = [f for f in obj.args if isinstance(f, sp.Add)]
-            if adds:
-                big = max(adds, key=lambda f: visible_width(self.m(f)))
-                rest = sp.Mul(*[f for f in obj.args if f is not big])
-                if rest == 1:
-                    coeff = ""
-                elif rest.could_extract_minus_sign():
-                    coeff = "-" if rest == -1 else "-" + self.m(-rest)
-                else:
-                    coeff = self.m(rest)
-                inner = self._pack(self._signed_terms(big), lead + visible_width(coeff) + 2)
-                if len(inner) > 1:
-                    inner[0] = coeff + r" \biggl(" + inner[0]
-                    inner[-1] = inner[-1] + r" \biggr)"
-                    return inner
+            negative = obj.could_extract_minus_sign()
+            pieces = self._open_term(-obj if negative else obj, budget)
+            if len(pieces) > 1:
+                if negative:
+                    pieces[0] = ("-", pieces[0][1])
+                return self._pack(pieces, lead)
         return [whole]
+
+    def piecewise_rows(self, lhs: str, expr: sp.Piecewise, *, relation: str = "=") -> list[str]:
+        r"""A piecewise value one interval per row, each with its condition; long values broken.
+
+        The condition leads its interval (``for 1 \le t < 3:``) when the value
+        needs the whole line, and follows it otherwise.
+        """
+        rows: list[str] = []
+        last_bound: Any = None
+        lower: Any = None
+        for k, (value, cond) in enumerate(expr.args):
+            if cond is sp.true and lower is not None:
+                cond_tex = r"%s \ge %s" % (self.m(lower.lhs), self.m(lower.rhs))
+            elif cond is sp.true:
+                cond_tex = r"\text{otherwise}"
+            elif isinstance(cond, sp.StrictLessThan) and lower is not None:
+                cond_tex = r"%s \le %s < %s" % (self.m(lower.rhs), self.m(cond.lhs), self.m(cond.rhs))
+            else:
+                cond_tex = self.m(cond)
+            if isinstance(cond, sp.StrictLessThan):
+                lower = cond
+            head = f"{lhs} &{relation} " if k == 0 else f"&{relation} "
+            lines = self.split(value, lead=visible_width(lhs) + 12)
+            tail = r"\qquad \text{for } " + cond_tex
+            if len(lines) == 1 and visible_width(lines[0]) + visible_width(tail) + visible_width(lhs) + 4 <= self.style.line_width:
+                rows.append(head + lines[0] + tail)
+                continue
+            rows.append(head + r"\text{for } " + cond_tex + ":")
+            rows += [rf"&\quad {line}" for line in lines]
+        return rows
 
     def equation_rows(self, rows: Sequence[tuple[str, Any]], *, relation: str = "=") -> str:
         """Rows ``lhs = rhs`` as the body of an ``align*`` (rhs split when long)."""
@@ -670,6 +668,11 @@ class MathFormatter:
             rel = relation
             if isinstance(rhs, tuple) and len(rhs) == 2 and isinstance(rhs[0], str) and rhs[0] in ("=", r"\approx", r"\neq", r"\ne"):
                 rel, rhs = rhs
+            if isinstance(rhs, sp.Piecewise):
+                whole = self.m(rhs)
+                if visible_width(whole) + visible_width(lhs_tex) + 2 > self.style.line_width:
+                    out += self.piecewise_rows(lhs_tex, rhs, relation=rel)
+                    continue
             lines = self.split(rhs, lead=visible_width(lhs_tex) + 2)
             out.append(f"{lhs_tex} &{rel} {lines[0]}")
             for line in lines[1:]:
@@ -769,6 +772,12 @@ def domain_tex(domain: str) -> str:
             return _DOMAINS[key]
         if domain.startswith(key + "(") or domain.startswith(key + "[") or domain.startswith(key + "<"):
             rest = domain[len(key):]
+            names = re.fullmatch(r"([(\[])([A-Za-z_][\w]*(?:,\s*[A-Za-z_]\w*)*)([)\]])", rest)
+            if names:
+                # the field's generators are the parameters: printed as they are in the formulas
+                printer = SheetLatexPrinter()
+                inner = ", ".join(printer.doprint(sp.Symbol(n.strip())) for n in names.group(2).split(","))
+                return r"%s%s%s%s" % (_DOMAINS[key], names.group(1), inner, names.group(3))
             return r"%s\text{%s}" % (_DOMAINS[key], tex_escape(rest))
     return r"\text{%s}" % tex_escape(domain)
 

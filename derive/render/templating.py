@@ -15,7 +15,7 @@ import importlib.resources
 import jinja2
 
 from ..errors import OutputError
-from .escape import tex_escape, tex_paragraphs
+from .escape import spoken, tex_escape, tex_paragraphs
 
 __all__ = ["template_environment", "load_template", "has_template", "get_template", "FRAGMENT_PACKAGES"]
 
@@ -76,6 +76,8 @@ def template_environment() -> jinja2.Environment:
     )
     env.filters["tex"] = tex_escape
     env.filters["texpar"] = tex_paragraphs
+    # program text that quotes expressions (notices, reasons): the one display rule, then escaped
+    env.filters["said"] = lambda text: tex_escape(spoken(text))
     return env
 
 
