@@ -12,6 +12,7 @@ from typing import Callable, Mapping, Sequence
 
 import numpy as np
 import sympy as sp
+from sympy.polys.polyerrors import NotAlgebraic
 
 from ..errors import InputError
 from ..exact import decide_zero, numeric_function, root_value
@@ -20,6 +21,7 @@ from ..model import Solution
 
 __all__ = [
     "decided_sign",
+    "approx",
     "reading_values",
     "has_all_values",
     "at_values",
@@ -50,8 +52,9 @@ def decided_sign(e: sp.Expr) -> int | None:
             if form.is_negative:
                 return -1
         return None
+    exact = e
     if e.has(sp.CRootOf):
-        e = e.xreplace({r: root_value(r, _DIGITS + 10) for r in e.atoms(sp.CRootOf)})
+        e = e.xreplace({r: root_value(r) for r in e.atoms(sp.CRootOf)})
     v = sp.N(e, _DIGITS)
     re, im = v.as_real_imag()
     if abs(im) > _CLEAR:
@@ -59,11 +62,23 @@ def decided_sign(e: sp.Expr) -> int | None:
     if abs(re) > _CLEAR:
         return 1 if re > 0 else -1
     try:
-        if sp.minimal_polynomial(e, sp.Dummy("z")).is_Symbol:
+        if sp.minimal_polynomial(exact, sp.Dummy("z")).is_Symbol:
             return 0
-    except (NotImplementedError, ValueError, TypeError, sp.PolynomialError):
+    except (NotImplementedError, ValueError, TypeError, sp.PolynomialError, NotAlgebraic):
         pass
-    return 0 if decide_zero(e).zero else None
+    return 0 if decide_zero(exact).zero else None
+
+
+def approx(e: sp.Expr, digits: int = 30) -> complex:
+    """A complex decimal of a number, indexed roots read from their cached decimals.
+
+    >>> approx(sp.sqrt(-4))
+    2j
+    """
+    e = sp.sympify(e, strict=True)
+    if e.has(sp.CRootOf):
+        e = e.xreplace({r: root_value(r) for r in e.atoms(sp.CRootOf)})
+    return complex(sp.N(e, digits))
 
 
 def reading_values(solution: Solution, values: Mapping[sp.Basic, object] | None) -> dict[sp.Symbol, sp.Expr]:

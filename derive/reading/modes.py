@@ -15,7 +15,7 @@ from typing import Mapping
 import sympy as sp
 
 from ..model import Solution
-from .evaluation import decided_sign
+from .evaluation import approx, decided_sign
 from .records import Mode
 from .stability import jordan_blocks
 
@@ -23,6 +23,8 @@ __all__ = ["modes_of", "time_span"]
 
 
 def _clean(e: sp.Expr) -> sp.Expr:
+    if e.has(sp.CRootOf):
+        return e  # an indexed root is already its simplest exact form; simplify only re-evaluates it
     return sp.radsimp(sp.simplify(e)) if not e.free_symbols else sp.simplify(e)
 
 
@@ -67,6 +69,8 @@ def modes_of(solution: Solution, values: Mapping[sp.Symbol, sp.Expr]) -> tuple[M
 
 def _equal(a: sp.Expr, b: sp.Expr) -> bool:
     d = a - b
+    if not d.free_symbols and abs(approx(d)) > 1e-20:
+        return False  # clearly apart: no exact test needed
     return decided_sign(sp.re(d)) == 0 and decided_sign(sp.im(d)) == 0
 
 
@@ -118,20 +122,25 @@ def _shape(vec: list[sp.Expr], *, real: bool) -> tuple[tuple[sp.Expr, ...] | Non
         return None, None
     numeric = not any(v.free_symbols for v in vec)
     if numeric:
-        ref = max(range(len(vec)), key=lambda i: abs(complex(sp.N(vec[i]))))
+        ref = max(range(len(vec)), key=lambda i: abs(approx(vec[i])))
     else:
         ref = next((i for i, v in enumerate(vec) if decided_sign(sp.Abs(v)) != 0), 0)
     scaled = [_clean(v / vec[ref]) for v in vec]
     if real:
         return tuple(scaled), None
-    return tuple(_clean(sp.Abs(v)) for v in scaled), tuple(_clean(sp.arg(v)) for v in scaled)
+    # with indexed roots, Abs and arg would evaluate to decimals to decide signs: keep them formal
+    formal = any(v.has(sp.CRootOf) for v in scaled)
+    return (
+        tuple(_clean(sp.Abs(v, evaluate=not formal)) for v in scaled),
+        tuple(_clean(sp.arg(v, evaluate=not formal)) for v in scaled),
+    )
 
 
 def _mark_dominant(found: list[Mode]) -> tuple[Mode, ...]:
     rates = [sp.re(m.eigenvalue) for m in found]
     if not found or any(r.free_symbols for r in rates):
         return tuple(found)
-    top = max(range(len(found)), key=lambda i: float(sp.N(rates[i], 30)))
+    top = max(range(len(found)), key=lambda i: approx(rates[i]).real)
     if decided_sign(rates[top]) != -1:
         return tuple(found)  # nothing decays, so no mode is the slowest to decay
     return tuple(Mode(**{**m.__dict__, "dominant": i == top}) for i, m in enumerate(found))
@@ -150,10 +159,10 @@ def time_span(modes: tuple[Mode, ...], *, last_switch: float = 0.0, forcing_freq
         return None
     spans: list[float] = []
     for m in modes:
-        sigma = float(sp.N(sp.re(m.eigenvalue)))
-        omega = float(sp.N(m.damped_frequency))
+        sigma = approx(m.eigenvalue).real
+        omega = abs(approx(m.eigenvalue).imag)
         if m.time_constant is not None and sigma < 0:
-            spans.append(5 * float(sp.N(m.time_constant)))
+            spans.append(5 * approx(m.time_constant).real)
         elif sigma > 0:
             spans.append(3 / sigma)
         elif omega > 0:

@@ -11,7 +11,7 @@ from ..errors import InputError
 from ..model import Solution
 from .evaluation import at_values, has_all_values, reading_values, switch_and_impulse_times
 from .modes import modes_of, time_span
-from .records import Response, Samples
+from .records import Mode, Response, Samples
 from .sinusoid import sinusoidal_input, sinusoidal_reading
 from .stability import classify
 from .timeline import sample_solution, state_readings
@@ -34,11 +34,11 @@ def response(solution: Solution, *, values: Mapping[sp.Basic, object] | None = N
     stability = classify(solution, sub)
     modes = modes_of(solution, sub)
     numeric = has_all_values(solution, sub)
-    span = plot_span(solution, values=sub) if numeric else None
+    span = _span(solution, sub, modes) if numeric else None
     states = {}
     if numeric and solution.system.is_ivp and span is not None:
         switches, _impulses = switch_and_impulse_times(solution, sub)
-        states = state_readings(solution, at_values(solution, sub), modes=modes, span=span, breaks=switches)
+        states = state_readings(solution, at_values(solution, sub), modes=modes, span=span, breaks=switches, values=sub)
     return Response(
         stability=stability.kind,
         reason=stability.reason,
@@ -61,12 +61,16 @@ def plot_span(solution: Solution, *, values: Mapping[sp.Basic, object] | None = 
     sub = reading_values(solution, values)
     if not has_all_values(solution, sub):
         return None
+    return _span(solution, sub, modes_of(solution, sub))
+
+
+def _span(solution: Solution, sub: dict[sp.Symbol, sp.Expr], modes: tuple[Mode, ...]) -> float | None:
     switches, _ = switch_and_impulse_times(solution, sub)
     t0 = float(sp.N(sp.sympify(solution.system.t0).xreplace(sub)))
     last = max([s - t0 for s in switches if s > t0], default=0.0)
     found = sinusoidal_input(solution.system.f.xreplace(sub), solution.system.t)
     frequency = float(sp.N(found[0])) if found is not None else None
-    return time_span(modes_of(solution, sub), last_switch=last, forcing_frequency=frequency)
+    return time_span(modes, last_switch=last, forcing_frequency=frequency)
 
 
 def samples(

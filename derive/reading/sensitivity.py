@@ -36,7 +36,7 @@ def sensitivity(solution: Solution, parameter: sp.Symbol | str) -> sp.ImmutableM
     rows = []
     for e in solution.x:
         d = sp.diff(e, p)
-        rows.append(sp.Add(*[sp.simplify(term) for term in sp.Add.make_args(sp.expand(d))]))
+        rows.append(sp.Add(*[sp.simplify(term) for term in sp.Add.make_args(d)]))  # the product rule's terms, one by one
     return sp.ImmutableMatrix(rows)
 
 

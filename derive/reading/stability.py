@@ -16,7 +16,7 @@ from typing import Mapping, Sequence
 import sympy as sp
 
 from ..model import Solution
-from .evaluation import decided_sign
+from .evaluation import approx, decided_sign
 from .records import Stability, StabilityReading
 
 __all__ = ["jordan_blocks", "classify", "hurwitz_determinants"]
@@ -56,6 +56,10 @@ def hurwitz_determinants(A: sp.MatrixBase) -> tuple[sp.Expr, ...]:
     return tuple(sp.factor(sp.simplify(H[:k, :k].det())) for k in range(1, n + 1))
 
 
+def _settled(e: sp.Expr) -> sp.Expr:
+    return e if e.has(sp.CRootOf) else sp.simplify(e)
+
+
 def _word(lam: sp.Expr) -> str:
     return sp.sstr(lam)
 
@@ -71,7 +75,7 @@ def classify(
     """
     sub = dict(values)
     A = sp.Matrix(solution.system.A.xreplace(sub))
-    lams = [sp.simplify(lam.xreplace(sub)) for lam in (eigenvalues or solution.eigenvalues)]
+    lams = [_settled(lam.xreplace(sub)) for lam in (eigenvalues or solution.eigenvalues)]
     signs = [decided_sign(sp.re(lam)) for lam in lams]
     if all(s is not None for s in signs):
         return _decided(A, lams, [int(s) for s in signs if s is not None], solution, sub)
@@ -92,8 +96,8 @@ def _decided(A: sp.Matrix, lams: list[sp.Expr], signs: list[int], solution: Solu
             "its mode grows without bound",
         )
     if all(s < 0 for s in signs):
-        slow = max(lams, key=lambda lam: float(sp.N(sp.re(lam)))) if not any(l.free_symbols for l in lams) else None
-        tail = f" (the slowest, {_word(slow)}, decays like exp({_word(sp.simplify(sp.re(slow)))} t))" if slow is not None else ""
+        slow = max(lams, key=lambda lam: approx(lam).real) if not any(l.free_symbols for l in lams) else None
+        tail = f" (the slowest, {_word(slow)}, decays like exp({_word(sp.simplify(sp.re(slow)) * sp.Symbol('t'))}))" if slow is not None else ""
         return StabilityReading(Stability.ASYMPTOTIC, f"every eigenvalue has a negative real part{tail}: every mode decays")
     axis: list[sp.Expr] = []
     for lam, s in zip(lams, signs):
@@ -119,7 +123,10 @@ def _decided(A: sp.Matrix, lams: list[sp.Expr], signs: list[int], solution: Solu
 
 
 def _same(a: sp.Expr, b: sp.Expr) -> bool:
-    d = sp.simplify(a - b)
+    d = a - b
+    if not d.free_symbols and abs(approx(d)) > 1e-20:
+        return False  # clearly apart: no exact test needed
+    d = sp.simplify(d)
     return decided_sign(sp.re(d)) == 0 and decided_sign(sp.im(d)) == 0
 
 

@@ -33,7 +33,7 @@ import sympy as sp
 from scipy.optimize import brentq
 
 from ..model import Solution
-from .evaluation import decided_sign, numeric_series
+from .evaluation import approx, decided_sign, numeric_series
 from .records import Mode, Samples, StateReading
 
 __all__ = ["final_value", "state_readings", "sample_solution"]
@@ -93,11 +93,11 @@ def _term_kind(term: sp.Expr, t: sp.Symbol) -> str:
 def _grid_step(modes: Sequence[Mode], span: float) -> float:
     step = span / 2000
     for m in modes:
-        omega = float(sp.N(m.damped_frequency))
+        omega = abs(approx(m.eigenvalue).imag)
         if omega > 0:
             step = min(step, 2 * math.pi / omega / 40)
         if m.time_constant is not None:
-            step = min(step, abs(float(sp.N(m.time_constant))) / 20)
+            step = min(step, abs(approx(m.time_constant)) / 20)
     return max(step, span / 200_000)
 
 
@@ -141,21 +141,29 @@ class _Curve:
 
 
 def state_readings(
-    solution: Solution, x: sp.ImmutableMatrix, *, modes: Sequence[Mode], span: float, breaks: Sequence[float]
+    solution: Solution,
+    x: sp.ImmutableMatrix,
+    *,
+    modes: Sequence[Mode],
+    span: float,
+    breaks: Sequence[float],
+    values: Mapping[sp.Symbol, sp.Expr],
 ) -> dict[str, StateReading]:
     """The figures of every state of an initial value problem with every value given (see the module text)."""
     t = solution.system.t
-    t0 = float(sp.N(solution.system.t0))
+    t0 = approx(sp.sympify(solution.system.t0).xreplace(dict(values))).real
     step = _grid_step(modes, span)
     out: dict[str, StateReading] = {}
-    for name, xi in zip((s.name for s in solution.system.states), x):
+    x0 = solution.system.x0
+    for i, (name, xi) in enumerate(zip((s.name for s in solution.system.states), x)):
         curve = _Curve(xi, t, t0, breaks, step)
-        out[name] = _reading(curve, xi, t, t0 + span, span)
+        start = x0[i].xreplace(dict(values)) if x0 is not None else None
+        out[name] = _reading(curve, xi, t, t0 + span, span, start)
     return out
 
 
-def _reading(curve: _Curve, xi: sp.Expr, t: sp.Symbol, end: float, span: float) -> StateReading:
-    x0 = curve.value(curve.t0)
+def _reading(curve: _Curve, xi: sp.Expr, t: sp.Symbol, end: float, span: float, start: sp.Expr | None) -> StateReading:
+    x0 = approx(start).real if start is not None and not start.free_symbols else curve.value(curve.t0)
     kind, exact_final = final_value(xi, t)
     final = float(sp.N(exact_final)) if exact_final is not None else None
     change = (final - x0) if final is not None else 0.0
