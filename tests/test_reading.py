@@ -273,3 +273,43 @@ def test_envelope_holds_every_corner_solved_again():
         at = [float(sp.N(line.subs(t, sp.Float(band.times[i], 30)))) for line in lines]
         assert band.lower["x_1"][i] == pytest.approx(min(at), abs=1e-12)
         assert band.upper["x_1"][i] == pytest.approx(max(at), abs=1e-12)
+
+
+# ---------------------------------------------------------------------------
+# values where the symbolic closed form is singular, a late start, a general solution
+
+
+def test_critical_damping_values_read_the_system_as_it_is():
+    # at c^2 = 4 k m the symbolic route divides by sqrt(c^2 - 4 k m); the reading solves again at the values.
+    # Unit step of x'' + 2x' + x = 1 from rest: x = 1 - (1 + t) e^-t (direct substitution)
+    sol = derive.solve([[0, 1], [-k / m, -c / m]], [0, 1 / m], t=t, x0=[0, 0])
+    r = response(sol, values={k: 1, m: 1, c: 2})
+    (mode,) = r.modes
+    assert mode.eigenvalue == -1 and mode.multiplicity == 2 and mode.damping_ratio == 1
+    s = r.states["x_1"]
+    ts = s.settling_time
+    assert (1 + ts) * math.exp(-ts) == pytest.approx(0.02, rel=1e-10)
+    assert s.peak is None  # critically damped: no overshoot
+
+
+def test_late_start_measures_durations_from_t0():
+    # x' = -(x - 1) from x(2) = 3: |x - 1| = 2 e^-(t-2) reaches 2 % of 2 after ln 50 (direct)
+    r = response(derive.solve([[-1]], [1], t=t, x0=[3], t0=2))
+    assert r.states["x_1"].initial_value == 3.0
+    assert r.states["x_1"].settling_time == pytest.approx(math.log(50), rel=1e-10)
+    assert samples(derive.solve([[-1]], [1], t=t, x0=[3], t0=2), points=3, span=1.0).times.tolist() == [2.0, 2.5, 3.0]
+
+
+def test_a_general_solution_has_modes_but_no_state_figures():
+    r = response(derive.solve([[-1, 0], [0, -2]], t=t))
+    assert r.states == {} and len(r.modes) == 2 and r.span == 5.0  # five of the slowest time constant, 1
+
+
+@pytest.mark.parametrize("name", ["evaluation", "modes", "reading", "sensitivity", "sinusoid", "stability", "timeline", "records"])
+def test_docstring_examples(name):
+    import doctest
+    import importlib
+
+    module = importlib.import_module(f"derive.reading.{name}")
+    result = doctest.testmod(module)
+    assert result.attempted > 0 and result.failed == 0
