@@ -313,3 +313,23 @@ def test_docstring_examples(name):
     module = importlib.import_module(f"derive.reading.{name}")
     result = doctest.testmod(module)
     assert result.attempted > 0 and result.failed == 0
+
+
+def test_values_must_be_numbers_never_text():
+    sol = derive.solve([[-k]], [1], t=t, x0=[0], params={k: 2})
+    with pytest.raises(InputError, match="must be a number"):
+        response(sol, values={k: "2"})
+    with pytest.raises(InputError, match="not a parameter"):
+        response(sol, values={"q": 1})
+
+
+def test_complex_mode_shape_is_magnitudes_and_phases():
+    # x1' = x2: the eigenvector of lambda is (1, lambda), so x2 moves |lambda| times as far as x1 and leads
+    # it by arg(lambda) (direct substitution); here lambda = -1/2 + i sqrt(15)/2, |lambda| = 2
+    r = response(derive.solve([[0, 1], [-4, -1]], t=t, x0=[1, 0]))
+    (mode,) = r.modes
+    lam = sp.Rational(-1, 2) + sp.I * sp.sqrt(15) / 2
+    assert mode.eigenvalue == lam
+    assert mode.shape == (sp.Rational(1, 2), 1)
+    assert abs(sp.N(mode.phase[0] + sp.arg(lam), 40)) < 1e-35 and mode.phase[1] == 0
+    assert samples(derive.solve([[0, 1], [-4, -1]], t=t, x0=[1, 0]), ["x_2"], points=5).values.keys() == {"x_2"}

@@ -85,7 +85,14 @@ def reading_values(solution: Solution, values: Mapping[sp.Basic, object] | None)
     """The parameter values to read at: the caller's (names or symbols) over the declared ones."""
     out: dict[sp.Symbol, sp.Expr] = dict(solution.system.parameter_values())
     for key, value in (values or {}).items():
-        out[parameter_symbol(solution, key)] = sp.nsimplify(value, rational=True) if isinstance(value, float) else sp.sympify(value)
+        symbol = parameter_symbol(solution, key)
+        if isinstance(value, float):
+            out[symbol] = sp.nsimplify(value, rational=True)
+            continue
+        try:
+            out[symbol] = sp.sympify(value, strict=True)  # numbers and expressions only: never text
+        except sp.SympifyError:
+            raise InputError(f"the value of {symbol} must be a number, got {value!r}", key="values") from None
     return out
 
 

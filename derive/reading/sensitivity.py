@@ -18,6 +18,7 @@ from ..errors import InputError
 from ..exact import numeric_function
 from ..model import Solution
 from .evaluation import at_values, numeric_series, parameter_symbol, reading_values
+from .reading import plot_span
 from .records import Envelope
 
 __all__ = ["sensitivity", "envelope"]
@@ -44,7 +45,7 @@ def envelope(
     solution: Solution,
     tolerances: Mapping[sp.Symbol | str, object],
     *,
-    span: float,
+    span: float | None = None,
     points: int = 200,
     values: Mapping[sp.Basic, object] | None = None,
 ) -> Envelope:
@@ -53,6 +54,7 @@ def envelope(
     ``tolerances`` maps a parameter (Symbol or name) to its relative
     tolerance, e.g. ``{k: Rational(5, 100)}``; the other parameters keep their
     values.  The closed form is compiled once and evaluated at every corner.
+    ``span`` defaults to the reading's plot span.
     """
     base = reading_values(solution, values)
     sy = solution.system
@@ -62,8 +64,11 @@ def envelope(
         raise InputError(f"the parameter {missing[0]} has no value to put a tolerance on", key="tolerance")
     varied = [p for p, _ in toleranced]
     fixed = {s: v for s, v in base.items() if s not in varied}
-    t0 = float(sp.N(sy.t0.xreplace(base)))
-    times = np.linspace(t0, t0 + span, points)
+    width = span if span is not None else plot_span(solution, values=base)
+    if width is None or width <= 0:
+        raise InputError(f"the span must be a positive time, got {width}", key="span")
+    t0 = float(sp.N(sp.sympify(sy.t0).xreplace(base)))
+    times = np.linspace(t0, t0 + width, points)
     exprs = [e.xreplace(fixed) for e in solution.x]
     fn = numeric_function((sy.t, *varied), exprs, "numpy")
     grid = times.astype(complex)

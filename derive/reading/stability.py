@@ -143,7 +143,11 @@ def _rank(M: sp.Matrix, solution: Solution, lam: sp.Expr, sub: dict) -> int:
 
 def _hurwitz(A: sp.Matrix) -> StabilityReading:
     if any(not (e.is_real or e.is_real is None and sp.im(e) == 0) for e in A):
-        return StabilityReading(Stability.UNDECIDED, "the signs of the eigenvalues' real parts cannot be decided for a complex matrix")
+        return StabilityReading(
+            Stability.UNDECIDED,
+            "the signs of the eigenvalues' real parts depend on entries not known to be real "
+            "(declare the parameters real or positive, or give their values)",
+        )
     deltas = hurwitz_determinants(A)
     verdicts = [decided_sign(d) for d in deltas]
     if all(v == 1 for v in verdicts):

@@ -48,6 +48,7 @@ def final_value(expr: sp.Expr, t: sp.Symbol) -> tuple[str, sp.Expr | None]:
     >>> final_value(1 - sp.exp(-t) + t * sp.exp(-2 * t), t), final_value(sp.sin(t), t)[0]
     (('converges', 1), 'bounded')
     """
+    expr = sp.piecewise_fold(expr)
     if isinstance(expr, sp.Piecewise):
         expr = expr.args[-1][0]  # the branch after the last switch
     constant = sp.Integer(0)
