@@ -166,7 +166,7 @@ def state_readings(
 def _reading(curve: _Curve, xi: sp.Expr, t: sp.Symbol, end: float, span: float, start: sp.Expr | None) -> StateReading:
     x0 = approx(start).real if start is not None and not start.free_symbols else curve.value(curve.t0)
     kind, exact_final = final_value(xi, t)
-    final = float(sp.N(exact_final)) if exact_final is not None else None
+    final = approx(exact_final).real if exact_final is not None else None
     change = (final - x0) if final is not None else 0.0
     scale = max(abs(x0), abs(final or 0.0), 1.0)
     moving = final is not None and abs(change) > 1e-12 * scale
