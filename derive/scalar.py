@@ -20,7 +20,7 @@ from typing import Callable, Sequence
 import sympy as sp
 
 from .expoly import ExpPoly, integrate_against, shift_exponents
-from .model import Condition
+from .model import Condition, Relation
 from .steps import Deferred, ScalarStep
 
 __all__ = ["ScalarResult", "solve_blocks", "decouple"]
@@ -91,8 +91,10 @@ def solve_blocks(
                 conditions.append(
                     Condition(
                         expr=key,
-                        relation="!= 0",
-                        reason=f"a forcing exponent differs from the eigenvalue {sp.sstr(lam)} (no resonance)",
+                        relation=Relation.NONZERO,
+                        # the expression is the difference itself; the text names no symbol,
+                        # since a regime's placeholder root is still in lam here
+                        reason="a forcing exponent differs from an eigenvalue (no resonance)",
                     )
                 )
             shift = t - t0 if ivp else t
