@@ -179,4 +179,7 @@ def test_agrees_with_the_shared_structure_tool():
         "long": sorted(ln.split(": ", 1)[1].split(" (")[0] for ln in lines if ln.startswith("module over 850 lines: ")),
     }
     assert ours == theirs
-    assert f"structure: {len(MODULES)} modules" in lines[-1]
+    # the installed package also holds derive.templates (templates/ at the top level of
+    # the checkout, mapped in by pyproject.toml), which the tool does not walk
+    code = [m for m in MODULES if not m.startswith("derive.templates")]
+    assert f"structure: {len(code)} modules" in lines[-1]
