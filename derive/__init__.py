@@ -10,7 +10,27 @@ The public API is what ``__all__`` lists; everything else is internal.
 
 from __future__ import annotations
 
-__version__ = "0.1.0"
+from importlib import metadata as _metadata
+
+
+def _distribution_version() -> str:
+    """The version of the installed distribution that provides this package.
+
+    pyproject.toml is the one place the version is written; the distribution's
+    name is looked up rather than assumed, so a rename of the distribution does
+    not leave a stale number here.  A source tree that was never installed has
+    no metadata and says so instead of guessing.
+    """
+    names = list(dict.fromkeys(_metadata.packages_distributions().get(__name__, ())))
+    for name in (*names, "eigensheet", "derive"):
+        try:
+            return _metadata.version(name)
+        except _metadata.PackageNotFoundError:
+            continue
+    return "0+unknown"
+
+
+__version__ = _distribution_version()
 
 from .errors import (  # noqa: E402
     CaseFileError,

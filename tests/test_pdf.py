@@ -14,9 +14,11 @@ from pathlib import Path
 import pytest
 import sympy as sp
 
+from derive import pipeline
 from derive.errors import OutputError
 from derive.model import SheetMeta
 from derive.output import compile_pdf, write_outputs
+from reference import assert_close, expm_values, solution_values
 
 from test_render import make_solution
 
@@ -83,9 +85,6 @@ def test_tex_failure_reports_the_first_error_lines(tmp_path: Path) -> None:
     assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.tex"]
 
 
-pipeline = pytest.importorskip("derive.pipeline")
-
-
 @pytest.mark.parametrize(
     "name, A, f, x0, expect",
     [
@@ -96,6 +95,9 @@ pipeline = pytest.importorskip("derive.pipeline")
 def test_solved_systems_compile(tmp_path: Path, name: str, A: list, f: object, x0: list, expect: str) -> None:
     t = sp.Symbol("t", real=True)
     sol = pipeline.solve(A, f=f, x0=x0, t=t)
+    # the sheet shows a right answer: scipy.linalg.expm of A t applied to x0 (unforced)
+    times = (0.5, 2.0)
+    assert_close(solution_values(sol.x, times, t=t), expm_values(A, x0, times))
     write_outputs(sol, tmp_path, stem=name, formats=("latex", "markdown", "text", "json"), pdf=True)
     text = pdf_text(tmp_path / f"{name}.pdf")
     assert "Sheet 1 of" in text and expect in text

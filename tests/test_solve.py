@@ -19,6 +19,7 @@ from scipy.integrate import solve_ivp
 
 import derive
 from derive.errors import DeriveError, InputError, UnsupportedError
+from reference import assert_close, ivp_values, solution_values
 
 t = sp.Symbol("t")
 
@@ -105,6 +106,9 @@ def test_by_construction_complex_pair_is_real(data):
     sol = derive.solve(A, f, x0=[1, 0, -1])
     assert not sol.x.has(sp.I)
     assert sol.verification.ok
+    # reference: scipy's solve_ivp, DOP853 at 1e-12 (tests/reference.py)
+    times = (0.5, 1.7)
+    assert_close(solution_values(sol.x, times).real, ivp_values(A, f, [1, 0, -1], times), rtol=1e-8)
     assert sp.I * b + a in sol.eigenvalues or a + sp.I * b in [sp.expand(e) for e in sol.eigenvalues]
 
 
@@ -292,6 +296,11 @@ def test_strings_and_floats_are_exact():
     assert sol.system.A[0, 1] == sp.Rational(1, 4)
     assert any("0.25" in n for n in sol.notices)
     assert sol.verification.ok
+    # reference: sympy's dsolve, one scalar equation at a time (the system is triangular)
+    y = sp.Function("y")
+    x2 = sp.dsolve(sp.Eq(y(t).diff(t), -y(t) + sp.exp(-t)), y(t), ics={y(0): 0}).rhs
+    x1 = sp.dsolve(sp.Eq(y(t).diff(t), -y(t) / 2 + x2 / 4 + 1), y(t), ics={y(0): 0}).rhs
+    assert [sp.simplify(r - x) for r, x in zip((x1, x2), sol.x)] == [0, 0]
 
 
 def test_resonance_complex_pair_gives_t_sin_terms():
@@ -303,6 +312,9 @@ def test_nonzero_initial_time():
     sol = derive.solve([[-1, 0], [1, -2]], [1, 0], x0=[2, 1], t0=3)
     assert sp.simplify(sol.x.subs(t, 3) - sp.Matrix([2, 1])) == sp.zeros(2, 1)
     assert sol.verification.ok
+    # reference: scipy's solve_ivp from t0 = 3, DOP853 at 1e-12 (tests/reference.py)
+    times = (3.5, 5.0)
+    assert_close(solution_values(sol.x, times).real, ivp_values([[-1, 0], [1, -2]], [1, 0], [2, 1], times, t0=3.0))
 
 
 def test_non_square_is_bad_input():

@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 
 import derive
 from derive.spectral import decompose
+from reference import assert_close, expm_values, ivp_values, solution_values
 
 t = sp.Symbol("t")
 
@@ -83,7 +84,10 @@ def test_every_block_structure_by_construction(blocks, data):
     f = [sp.exp(-t) if i == 0 else 0 for i in range(n)] if forced else None
     sol = derive.solve(A, f, x0=[1] + [0] * (n - 1))
     assert sol.verification.ok
+    # by sympy's own substitution and the initial value (common practice: the two
+    # together determine the solution of a linear constant-coefficient system)
     assert residual(A, f, sol.x) == sp.zeros(n, 1)
+    assert sp.simplify(sol.x.subs(t, 0)) == sp.Matrix([1] + [0] * (n - 1))
     # sympy's jordan_form as the independent reference for J (up to block order)
     _, J_ref = sp.Matrix(A).jordan_form()
     assert block_signature(sol.D) == block_signature(J_ref)
@@ -99,14 +103,22 @@ def test_complex_pair_repeated_and_defective_in_real_form(defective):
     P = sp.Matrix([[1, 1, 0, 0], [0, 1, 1, 0], [0, 0, 1, 1], [1, 0, 0, 2]])
     assert P.det() != 0
     A = P * R * P.inv()
-    sol = derive.solve(A, x0=[1, 0, 0, 1])
+    # P^-1 x0 has a component along the second block (the top of each Jordan chain),
+    # so the defective response carries secular terms; x0 = P e1 would have none
+    x0 = [1, 0, 0, 0]
+    assert (P.inv() * sp.Matrix(x0))[2:, 0] != sp.zeros(2, 1)
+    sol = derive.solve(A, x0=x0)
     assert not sol.x.has(sp.I)
     assert sol.verification.ok
     assert sol.is_diagonalizable is (not defective)
-    if defective:
-        assert sol.x.has(t * sp.exp(-t) * sp.cos(2 * t)) or any(
-            a.has(t) and a.is_Mul for a in sp.Add.make_args(sp.expand(sol.x[0]))
-        )
+    # secular terms: e^{t} x(t) is a polynomial in t, cos 2t and sin 2t, of degree 1
+    # in t (t e^{-t} cos 2t, t e^{-t} sin 2t) exactly when the pair is defective
+    c, s = sp.cos(2 * t), sp.sin(2 * t)
+    degrees = [sp.Poly(sp.expand(sp.powsimp(sp.expand(e * sp.exp(t)))), t, c, s).degree(t) for e in sol.x]
+    assert max(degrees) == (1 if defective else 0)
+    # reference: scipy.linalg.expm of A t applied to x0 (see tests/reference.py)
+    times = (0.4, 1.3, 2.9)
+    assert_close(solution_values(sol.x, times), expm_values(A, x0, times))
 
 
 def test_published_defective_boyce_diprima():
@@ -161,6 +173,9 @@ def test_casus_irreducibilis_uses_indexed_roots_and_says_why():
     assert sol.verification.ok
     # the polynomial-ring check reduces the indexed roots with their cubic: exact
     assert sol.verification.residual_method == "exact"
+    # reference: scipy.linalg.expm of A t applied to x0 (see tests/reference.py)
+    times = (0.3, 1.1)
+    assert_close(solution_values(sol.x, times), expm_values(A, [1, 0, 0], times))
 
 
 @pytest.mark.slow
@@ -179,6 +194,9 @@ def test_irreducible_quintic_verified_numerically_against_scipy():
     num = sol.verification.numeric
     assert num is not None and num.ok and num.max_rel_gap < 1e-6
     assert num.method.startswith("scipy")
+    # reference outside the program: scipy.linalg.expm of A t applied to x0
+    times = (0.5, 1.5)
+    assert_close(solution_values(sol.x, times), expm_values(A, [0, 1, 0, 0, 0], times))
 
 
 def test_radical_cubic_within_the_size_rule():
@@ -231,9 +249,13 @@ def test_six_by_six_defective_rational():
     )
     assert P.det() != 0
     A = P * J * P.inv()
-    sol = derive.solve(A, [1, 0, 0, 0, 0, sp.exp(-t)], x0=[1, 0, 0, 0, 0, 0])
+    f = [1, 0, 0, 0, 0, sp.exp(-t)]
+    sol = derive.solve(A, f, x0=[1, 0, 0, 0, 0, 0])
     assert sol.verification.ok
     assert block_signature(sol.D) == block_signature(J)
+    # reference: scipy's solve_ivp, DOP853 at 1e-12 (see tests/reference.py)
+    times = (0.5, 1.0, 1.5)
+    assert_close(solution_values(sol.x, times), ivp_values(A, f, [1, 0, 0, 0, 0, 0], times), rtol=1e-8)
 
 
 def test_underdamped_regime_gives_sines_and_states_the_regime():
@@ -253,6 +275,10 @@ def test_underdamped_regime_gives_sines_and_states_the_regime():
     over = derive.solve(A, x0=[1, 0], assume=["c^2 > 4*k*m"])
     assert not over.x.has(sp.sin) and not over.x.has(sp.I)
     assert over.verification.ok
+    # reference: scipy.linalg.expm at k = 1, m = 1, c = 3 (c^2 > 4 k m)
+    vals = {k: 1, m: 1, c: 3}
+    times = (0.5, 2.0)
+    assert_close(solution_values(over.x.subs(vals), times), expm_values(A.subs(vals), [1, 0], times))
 
 
 def test_regime_with_a_switched_input_puts_the_root_back():
