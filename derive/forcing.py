@@ -17,7 +17,7 @@ switches this module finds and solve each interval on its own:
 from __future__ import annotations
 
 import functools
-from typing import Any, Sequence
+from typing import Any, Sequence, TypeAlias
 
 import sympy as sp
 
@@ -34,7 +34,7 @@ __all__ = [
 
 _SWITCHES = (sp.Heaviside, sp.DiracDelta, sp.Piecewise)
 _ZERO = sp.Integer(0)
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 
 
 # ---------------------------------------------------------------------------

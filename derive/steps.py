@@ -17,7 +17,7 @@ concrete values.
 from __future__ import annotations
 
 from dataclasses import dataclass, fields, is_dataclass, replace
-from typing import Any, Callable, ClassVar, Mapping
+from typing import Any, Callable, ClassVar, Mapping, TypeAlias
 
 import sympy as sp
 
@@ -49,7 +49,7 @@ __all__ = [
     "STEP_KINDS",
 ]
 
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 
 
 class Deferred:

@@ -12,7 +12,7 @@ roots handled the same way for both; and an unverified result raises
 from __future__ import annotations
 
 from dataclasses import replace
-from typing import Sequence
+from typing import Sequence, TypeAlias
 
 import sympy as sp
 
@@ -29,7 +29,7 @@ from .methods.base import Pieces, Problem
 
 __all__ = ["assemble", "regime_conditions", "failure_summary", "verification"]
 
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 
 
 def regime_conditions(regimes: Sequence[tuple[sp.Expr, int]]) -> tuple[Condition, ...]:

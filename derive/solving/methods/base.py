@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import time
 from dataclasses import dataclass, field
-from typing import ClassVar
+from typing import ClassVar, TypeAlias
 
 import sympy as sp
 
@@ -24,7 +24,7 @@ __all__ = [
     "integration_symbol",
 ]
 
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 
 
 def constant_base(system: System) -> str:

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import time
 from dataclasses import replace
-from typing import Sequence
+from typing import Sequence, TypeAlias
 
 import sympy as sp
 from sympy.core.function import AppliedUndef
@@ -32,7 +32,7 @@ from .intervals import Piece, decoupled, group_terms, solve_local
 
 __all__ = ["Convolution", "convolution_piece"]
 
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 _ZERO = sp.Integer(0)
 
 

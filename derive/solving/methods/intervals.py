@@ -9,7 +9,7 @@ in the interval's own time tau = t - start.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
-from typing import Sequence
+from typing import Sequence, TypeAlias
 
 import sympy as sp
 
@@ -23,7 +23,7 @@ from .base import Problem
 
 __all__ = ["Piece", "Local", "decoupled", "solve_local", "closed_piece", "group_terms"]
 
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 _ZERO = sp.Integer(0)
 
 

@@ -14,6 +14,8 @@ is defined for t >= t0.
 
 from __future__ import annotations
 
+from typing import TypeAlias
+
 import sympy as sp
 
 from ...errors import LimitError, UnsupportedError
@@ -27,7 +29,7 @@ from .intervals import Piece, closed_piece, decoupled, group_terms
 
 __all__ = ["Switched"]
 
-Matrix = sp.ImmutableMatrix
+Matrix: TypeAlias = sp.ImmutableMatrix
 _ZERO = sp.Integer(0)
 
 
