@@ -10,6 +10,7 @@ The public API is what ``__all__`` lists; everything else is internal.
 
 from __future__ import annotations
 
+import functools
 from importlib import metadata as _metadata
 
 
@@ -49,6 +50,25 @@ from .casefile import load_case, loads_case  # noqa: E402
 from .render import render  # noqa: E402
 from .check import CheckItem, CheckReport, check  # noqa: E402
 from .batch import BatchReport, CaseResult, batch  # noqa: E402
+from .reading import Response, response  # noqa: E402
+
+
+def _attach_reading() -> None:
+    """Give ``Solution`` its engineering reading as ``Solution.response``.
+
+    The reading is computed on first access and kept (a solve that is never
+    read does not pay for it).  It is attached here, where the package puts its
+    parts together, because the reading re-solves through the pipeline where a
+    closed form is singular at the given values: a ``model -> reading`` import
+    would close an import cycle.
+    """
+    prop = functools.cached_property(response)
+    prop.__set_name__(Solution, "response")
+    prop.__doc__ = "The engineering reading (derive.reading.response) at the declared parameter values."
+    setattr(Solution, "response", prop)
+
+
+_attach_reading()
 
 __all__ = [
     "__version__",
@@ -58,6 +78,8 @@ __all__ = [
     "load_case",
     "loads_case",
     "render",
+    "response",
+    "Response",
     "check",
     "batch",
     "BatchReport",

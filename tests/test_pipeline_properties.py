@@ -262,24 +262,10 @@ def check_independently(case: Case, sol) -> None:
 # the property
 
 #: class combinations that fail today, with a reproducer each (removed once fixed)
-_INDEXED_CONVOLUTION = (
-    "fails today: NameError: name 'CRootOf' is not defined in the numeric check of the "
-    "convolution route (issue 14); reproducer: derive.solve(sp.Matrix([[0, 1, 0], [0, 0, 1], "
-    "[1, 3, 0]]), [1/(1 + t**2), 0, 0], x0=[1, 0, 0])"
-)
-_INDEXED_SWITCHED = (
-    "fails today: NameError: name 'CRootOf' is not defined in the numeric check of the "
-    "interval-by-interval route (issue 14); reproducers: derive.solve(sp.Matrix([[0, 1, 0], "
-    "[0, 0, 1], [1, 3, 0]]), [F, 0, 0], x0=None, t0=T0) with (F, T0) = (Heaviside(t + 1), 0), "
-    "(Heaviside(t), 1), ((t - 1/2)*Heaviside(t - 1/2), 0), ((t - 3/2)*Heaviside(t - 3/2), 1), "
-    "(DiracDelta(t - 1/2), 0), (DiracDelta(t - 3/2), 1)"
-)
-KNOWN: dict[tuple[str, str, str], str] = {
-    ("indexed", "convolution", "t0zero"): _INDEXED_CONVOLUTION,
-    ("indexed", "convolution", "t0nonzero"): _INDEXED_CONVOLUTION,
-    **{("indexed", forcing, start): _INDEXED_SWITCHED
-       for forcing in ("step", "ramp", "impulse") for start in STARTS},
-}
+#: Class combinations that fail today, with their reproducers, marked xfail: none.
+#: (Indexed roots with switched and convolution inputs crashed in the numeric
+#: check until the one assembly handled them for every forcing method.)
+KNOWN: dict[tuple[str, str, str], str] = {}
 
 
 def combos():

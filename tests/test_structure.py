@@ -114,14 +114,6 @@ def test_cycle_finder_finds_a_planted_cycle():
     assert cycles({"a": {"b"}, "b": set()}) == []
 
 
-_PENDING = pytest.mark.xfail(
-    reason="issue 14: the restructuring that removes these findings is being merged "
-    "from other branches; remove this mark after the merge",
-    strict=False,
-)
-
-
-@_PENDING
 def test_no_import_cycle():
     # the top-level package re-exports the public API from every stage, so edges into
     # it are left out (as in ../shared/tools/structure.py); sub-packages count
@@ -129,7 +121,6 @@ def test_no_import_cycle():
     assert cycles(edges) == []
 
 
-@_PENDING
 def test_no_module_takes_another_modules_underscore_names():
     taken = [
         f"{m} takes {n} from {d}"
@@ -140,13 +131,11 @@ def test_no_module_takes_another_modules_underscore_names():
     assert taken == []
 
 
-@_PENDING
 def test_no_module_over_850_lines():
     long = {m: p.read_text(encoding="utf-8").count("\n") for m, p in MODULES.items()}
     assert {m: n for m, n in long.items() if n > MAX_LINES} == {}
 
 
-@_PENDING
 def test_one_module_sets_time_limits():
     timers = sorted(m for m, p in MODULES.items() if _TIMER.search(p.read_text(encoding="utf-8")))
     assert len(timers) <= 1, timers
