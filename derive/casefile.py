@@ -393,12 +393,23 @@ def _initial(
     notices: list[str],
 ) -> tuple[sp.ImmutableMatrix, sp.Expr]:
     initial = ctx.table(raw, "initial")
-    ctx.keys(initial, INITIAL_KEYS, "initial")
+    state_names = [s.name for s in states]
+    by_state = {k: v for k, v in initial.items() if k not in INITIAL_KEYS and k in state_names}
+    ctx.keys(initial, (*INITIAL_KEYS, *state_names), "initial")
+    if by_state and "values" in initial:
+        first = next(iter(by_state))
+        raise ctx.error(
+            f"initial.{first}",
+            f"[initial] has both values and a value for the state {first!r}; expected one of them",
+            hint="give every state its value either as initial.values or as NAME = value lines in [initial]",
+        )
+    if by_state:
+        initial = {**{k: v for k, v in initial.items() if k in INITIAL_KEYS}, "values": by_state}
     if "values" not in initial:
         raise ctx.error(
             "initial.values",
             "[initial] has no values; expected initial.values, one per state "
-            f"({', '.join(s.name for s in states)})",
+            f"({', '.join(s.name for s in states)}), or one line per state such as {states[0].name} = 0",
         )
     t0: sp.Expr = sp.Integer(0)
     if "t0" in initial:
@@ -414,7 +425,7 @@ def _initial(
         t0 = ctx.expr(raw_t0, "initial.t0", {}, notices)
     values = initial["values"]
     n = len(states)
-    key = "initial.values"
+    key = "initial" if by_state else "initial.values"
     if isinstance(values, dict):
         names = [s.name for s in states]
         for k in values:
@@ -427,7 +438,7 @@ def _initial(
                 )
         missing = [s for s in names if s not in values]
         if missing:
-            raise ctx.error(key, f"initial.values has no value for {', '.join(missing)}; expected one per state")
+            raise ctx.error(key, f"{key} has no value for {', '.join(missing)}; expected one per state")
         items = [(f"{key}.{s}", values[s]) for s in names]
     elif isinstance(values, list):
         if len(values) != n:
