@@ -68,7 +68,8 @@ _SHEET_TEXT_KEYS: tuple[str, ...] = (
 )
 _SHEET_LIST_KEYS: tuple[str, ...] = ("assumptions", "references")
 SHEET_KEYS: tuple[str, ...] = _SHEET_TEXT_KEYS + _SHEET_LIST_KEYS + ("states",)
-SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations")
+_SECOND_ORDER_KEYS: tuple[str, ...] = ("damping", "stiffness", "force")
+SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations", "mass", *_SECOND_ORDER_KEYS)
 INITIAL_KEYS: tuple[str, ...] = ("t0", "values")
 PARAMETER_KEYS: tuple[str, ...] = ("assume", "value", "unit", "description")
 
@@ -290,20 +291,24 @@ def _matrix(
     t: sp.Symbol,
     notices: list[str],
     states: Sequence[str] = (),
+    *,
+    key: str = "system.matrix",
+    size: int | None = None,
 ) -> sp.ImmutableMatrix:
-    key = "system.matrix"
     rows = ctx.seq(raw, key, "a list of rows, e.g. [[\"-1\", \"1/2\"], [0, \"-k\"]]")
     n = len(rows)
     if n == 0:
-        raise ctx.error(key, "system.matrix is empty; expected a square n x n matrix with n >= 1")
+        raise ctx.error(key, f"{key} is empty; expected a square n x n matrix with n >= 1")
     if n > ctx.limits.max_dimension:
-        raise ctx.limit(key, f"system.matrix has {n} rows, more than the limit of {ctx.limits.max_dimension}")
+        raise ctx.limit(key, f"{key} has {n} rows, more than the limit of {ctx.limits.max_dimension}")
+    if size is not None and n != size:
+        raise ctx.error(key, f"{key} has {n} rows; expected {size}, the size of system.mass")
     for i, row in enumerate(rows):
         ctx.seq(row, f"{key}[{i}]", f"a row of {n} entries")
         if len(row) != n:
             raise ctx.error(
                 f"{key}[{i}]",
-                f"system.matrix has {n} rows but row {key}[{i}] has {len(row)} entries; "
+                f"{key} has {n} rows but row {key}[{i}] has {len(row)} entries; "
                 "expected a square n x n matrix",
             )
     entries: list[list[sp.Expr]] = []
@@ -311,7 +316,7 @@ def _matrix(
         out: list[sp.Expr] = []
         for j, value in enumerate(row):
             ekey = f"{key}[{i}][{j}]"
-            ctx.no_state(value, ekey, states, "an entry of system.matrix is the coefficient of a state, not a term")
+            ctx.no_state(value, ekey, states, f"an entry of {key} is the coefficient of a state, not a term")
             entry = ctx.expr(value, ekey, symbols, notices, t=t)
             if t in entry.free_symbols:
                 raise ctx.error(
@@ -366,11 +371,11 @@ def _forcing_entry(
         raise ctx.error(exc.key or pkey, exc.message) from exc
 
 
-def _state_names(ctx: _Ctx, raw: object, n: int, t: sp.Symbol) -> tuple[str, ...]:
+def _state_names(ctx: _Ctx, raw: object, n: int, t: sp.Symbol, *, of: str = "system.matrix") -> tuple[str, ...]:
     key = "system.states"
     names = ctx.seq(raw, key, f"a list of {n} state names")
     if len(names) != n:
-        raise ctx.error(key, f"system.matrix is {n}x{n} but system.states has {len(names)} entries")
+        raise ctx.error(key, f"{of} is {n}x{n} but system.states has {len(names)} entries")
     seen: dict[str, int] = {}
     for i, v in enumerate(names):
         name = ctx.name(v, f"{key}[{i}]", "state")
@@ -468,6 +473,40 @@ def _initial(
     return sp.ImmutableMatrix(x0), t0
 
 
+def _second_order(
+    ctx: _Ctx, system: Mapping[str, Any], symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
+) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix]:
+    """M q'' + C q' + K q = F from system.mass, damping, stiffness and force, in block first-order form."""
+    from .second_order import block_form, second_order_states
+
+    if "stiffness" not in system:
+        raise ctx.error("system.stiffness", "system.mass is given but system.stiffness is not; expected both")
+    if "forcing" in system:
+        raise ctx.error("system.forcing", "with system.mass the forcing vector is system.force (F in M q'' + C q' + K q = F)")
+    M = _matrix(ctx, system["mass"], symbols, t, notices, key="system.mass")
+    n = M.shape[0]
+    if 2 * n > ctx.limits.max_dimension:
+        raise ctx.limit("system.mass", f"{2 * n} states (q and q'), more than the limit of {ctx.limits.max_dimension}")
+    K = _matrix(ctx, system["stiffness"], symbols, t, notices, key="system.stiffness", size=n)
+    C = _matrix(ctx, system["damping"], symbols, t, notices, key="system.damping", size=n) if "damping" in system else sp.zeros(n, n)
+    F = sp.zeros(n, 1)
+    if "force" in system:
+        items = ctx.seq(system["force"], "system.force", f"a list of {n} entries")
+        if len(items) != n:
+            raise ctx.error("system.force", f"system.mass is {n}x{n} but system.force has {len(items)} entries")
+        F = sp.Matrix([_forcing_entry(ctx, v, f"system.force[{i}]", symbols, t, notices) for i, v in enumerate(items)])
+    names = _state_names(ctx, system["states"], n, t, of="system.mass") if "states" in system else tuple(f"q{i + 1}" for i in range(n))
+    for i, s in enumerate(names):
+        if s in symbols:
+            raise ctx.error(f"system.states[{i}]" if "states" in system else f"parameters.{s}", f"the parameter {s!r} has the same name as a coordinate")
+    try:
+        A, f = block_form(M, sp.ImmutableMatrix(C), K, sp.ImmutableMatrix(F), key="system.mass", file=ctx.file)
+    except InputError as exc:
+        raise ctx.error("system.mass", exc.message) from None
+    notices.append(f"system.mass: M q'' + C q' + K q = F written in first-order form with the states {', '.join(names)}, then their derivatives")
+    return second_order_states(names), A, f
+
+
 # ---------------------------------------------------------------------------
 # The whole file
 # ---------------------------------------------------------------------------
@@ -505,16 +544,31 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
     symbols: dict[str, sp.Symbol] = {p.name: p.symbol for p in params}
     with_t = {**symbols, t_name: t}
 
-    has_matrix, has_equations = "matrix" in system, "equations" in system
-    if has_matrix and has_equations:
+    forms = [k for k in ("matrix", "equations", "mass") if k in system]
+    if len(forms) > 1:
         raise ctx.error(
-            "system", "[system] has both matrix and equations; expected one of them (matrix form or equations)"
+            "system", f"[system] has both {forms[0]} and {forms[1]}; expected one of them "
+            "(matrix form, equations, or mass and stiffness)"
         )
-    if not (has_matrix or has_equations):
-        raise ctx.error("system", "[system] has neither matrix nor equations; expected one of them")
+    if not forms:
+        raise ctx.error(
+            "system", "[system] has neither matrix nor equations; expected one of them (or mass and stiffness)"
+        )
+    has_matrix = forms[0] == "matrix"
+    for extra in _SECOND_ORDER_KEYS:
+        if extra in system and forms[0] != "mass":
+            raise ctx.error(
+                f"system.{extra}",
+                f"system.{extra} belongs to the second-order form M q'' + C q' + K q = F, which needs system.mass",
+                hint="give system.mass and system.stiffness (and damping, force where they apply)",
+            )
 
     equations: tuple[str, ...] = ()
-    if has_matrix:
+    if forms[0] == "mass":
+        states, A, f = _second_order(ctx, system, with_t, t, notices)
+        n = A.shape[0]
+        shape = f"system.mass is {n // 2}x{n // 2}, so the system has {n} states (q, then q')"
+    elif has_matrix:
         A = _matrix(ctx, system["matrix"], with_t, t, notices, _planned_states(system))
         n = A.shape[0]
         names = (
