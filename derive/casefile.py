@@ -18,13 +18,14 @@ import os
 import re
 import tomllib
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
 import sympy as sp
 
 from .equations import parse_equations, split_equation
+from .inputs import Input, input_notices, read_inputs, substitute_inputs
 from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
@@ -53,7 +54,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "sweep")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "sweep")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -94,6 +95,8 @@ class _Ctx:
 
     file: str | None
     limits: Limits
+    #: declared input functions, which may be written u(t)
+    inputs: frozenset[str] = frozenset()
 
     def error(self, key: str | None, message: str, *, hint: str | None = None) -> CaseFileError:
         return CaseFileError(message, file=self.file, key=key, hint=hint)
@@ -165,7 +168,9 @@ class _Ctx:
         t: sp.Symbol | None = None,
     ) -> sp.Expr:
         raw = self.scalar(value, key)
-        expr, found = parse_expression(raw, symbols=symbols, key=key, file=self.file, limits=self.limits, t=t)
+        expr, found = parse_expression(
+            raw, symbols=symbols, key=key, file=self.file, limits=self.limits, t=t, inputs=self.inputs
+        )
         notices.extend(found)
         return expr
 
@@ -542,7 +547,16 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             )
         params.append(_parameter(ctx, pname, spec, notices))
     symbols: dict[str, sp.Symbol] = {p.name: p.symbol for p in params}
-    with_t = {**symbols, t_name: t}
+    inputs: tuple[Input, ...] = ()
+    if "inputs" in data:
+        inputs, found_in_inputs = read_inputs(
+            data["inputs"], symbols={**symbols, t_name: t}, t=t, file=ctx.file, limits=ctx.limits
+        )
+        notices.extend(found_in_inputs)
+        ctx = replace(ctx, inputs=frozenset(i.name for i in inputs))
+    # The system is read with the inputs as symbols; their formulas go in below.
+    with_inputs = {**symbols, **{i.name: i.symbol for i in inputs}}
+    with_t = {**with_inputs, t_name: t}
 
     forms = [k for k in ("matrix", "equations", "mass") if k in system]
     if len(forms) > 1:
@@ -605,17 +619,22 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             raise ctx.error("system.equations", "system.equations is empty; expected one equation per state")
         for i, line in enumerate(equations):
             parts = split_equation(line, t_name=t_name)
-            if parts is not None and parts[0] in symbols:
+            if parts is not None and parts[0] in with_inputs:
+                role = "parameter" if parts[0] in symbols else "input"
                 raise ctx.error(
-                    f"system.equations[{i}]", f"the parameter {parts[0]!r} has the same name as a state"
+                    f"system.equations[{i}]", f"the {role} {parts[0]!r} has the same name as a state"
                 )
         states, A, f, found = parse_equations(
-            equations, symbols=symbols, t=t, key="system.equations", file=ctx.file, limits=ctx.limits
+            equations, symbols=with_inputs, t=t, key="system.equations", file=ctx.file, limits=ctx.limits,
+            inputs=ctx.inputs,
         )
         notices.extend(found)
         n = len(states)
         shape = f"system.equations has {n} equation{'s' if n != 1 else ''}"
 
+    if inputs:
+        f = substitute_inputs(A, f, inputs, key=f"system.{forms[0]}", file=ctx.file)
+        notices.extend(input_notices(inputs))
     x0: sp.ImmutableMatrix | None = None
     t0: sp.Expr = sp.Integer(0)
     if "initial" in data:

@@ -11,7 +11,7 @@ the system is not linear or not constant-coefficient.
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 
 import sympy as sp
 
@@ -114,10 +114,11 @@ def _reduced(
     key: str,
     file: str | None,
     limits: Limits,
+    inputs: Collection[str],
 ) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, tuple[str, ...]]:
     """Equations of higher order: reduced to first order (derive.reduction), then A and f read off."""
     checked = [_check_line(line, f"{key}[{i}]", file, limits) for i, line in enumerate(lines)]
-    red = reduce_order(checked, symbols=symbols, t=t, key=key, file=file, limits=limits)
+    red = reduce_order(checked, symbols=symbols, t=t, key=key, file=file, limits=limits, inputs=inputs)
     owner = {name: i for i, (name, _) in enumerate(red.order_by_state)}
     keys = tuple(f"{key}[{owner[s.name.rstrip(chr(39))]}]" for s, _ in red.first_order_equations)
     labels = tuple(f"the first-order equation of {s.name}" for s, _ in red.first_order_equations)
@@ -127,7 +128,7 @@ def _reduced(
         f"{key}: equations of higher order reduced to first order: {orders}; "
         f"the states are {', '.join(s.name for s in red.states)}"
     )
-    return red.states, A, f, (notice,)
+    return red.states, A, f, (*red.notices, notice)
 
 
 def parse_equations(
@@ -138,6 +139,7 @@ def parse_equations(
     key: str = "system.equations",
     file: str | None = None,
     limits: Limits = DEFAULT_LIMITS,
+    inputs: Collection[str] = (),
 ) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, tuple[str, ...]]:
     """`T1' = -(T1 - T2)/5 + q/2` lines -> (states, A, f, notices).
 
@@ -170,7 +172,7 @@ def parse_equations(
         )
 
     if has_higher_order(lines, t_name=t.name):
-        return _reduced(lines, symbols=symbols, t=t, key=key, file=file, limits=limits)
+        return _reduced(lines, symbols=symbols, t=t, key=key, file=file, limits=limits, inputs=inputs)
 
     # First pass: the left sides fix the states and their order.
     names: list[str] = []
@@ -273,7 +275,7 @@ def parse_equations(
                 + f"add an equation \"{used}' = ...\" or declare [parameters.{used}]",
             )
         expr, found = parse_expression(
-            rhs, symbols=table, key=where, file=file, limits=limits, states=names, t=t
+            rhs, symbols=table, key=where, file=file, limits=limits, states=names, t=t, inputs=inputs
         )
         notices.extend(found)
         exprs.append(expr)

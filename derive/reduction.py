@@ -15,7 +15,7 @@ of a parameter or an input is refused (it is not a state).
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 from dataclasses import dataclass
 
 import sympy as sp
@@ -46,7 +46,8 @@ class Reduction:
     equation, in equation order; ``states`` are the states of the
     first-order system (``y``, ``y'``, ...), ``new_states`` those of them
     that the reduction introduced; ``first_order_equations`` pairs each
-    state with the right side of its derivative.
+    state with the right side of its derivative; ``notices`` are the
+    parser's (floats read as exact values).
     """
 
     original_equations: tuple[str, ...]
@@ -54,6 +55,7 @@ class Reduction:
     states: tuple[sp.Symbol, ...]
     new_states: tuple[sp.Symbol, ...]
     first_order_equations: tuple[tuple[sp.Symbol, sp.Expr], ...]
+    notices: tuple[str, ...] = ()
 
 
 def derivative_symbol(name: str, order: int) -> sp.Symbol:
@@ -153,6 +155,7 @@ def reduce_order(
     key: str = "system.equations",
     file: str | None = None,
     limits: Limits = DEFAULT_LIMITS,
+    inputs: Collection[str] = (),
 ) -> Reduction:
     """Equations of any order (each linear in its highest derivative) -> a first-order system.
 
@@ -270,13 +273,15 @@ def reduce_order(
     state_names = [s.name for s in states]
 
     pairs: list[tuple[sp.Symbol, sp.Expr]] = []
+    notices: list[str] = []
     for i, (w, (name, order)) in enumerate(zip(written, targets)):
         where = f"{key}[{i}]"
         try:
-            left, n1 = parse_expression(w.lhs, symbols=table, key=where, file=file, limits=limits, states=state_names, t=t)
-            right, n2 = parse_expression(w.rhs, symbols=table, key=where, file=file, limits=limits, states=state_names, t=t)
+            left, n1 = parse_expression(w.lhs, symbols=table, key=where, file=file, limits=limits, states=state_names, t=t, inputs=inputs)
+            right, n2 = parse_expression(w.rhs, symbols=table, key=where, file=file, limits=limits, states=state_names, t=t, inputs=inputs)
         except DeriveError as err:
             raise _restore(err, marks) from None
+        notices.extend(n1 + n2)
         expr = sp.expand(left - right)
         d = highest_syms[name]
         coeff = sp.diff(expr, d)
@@ -309,7 +314,7 @@ def reduce_order(
         pairs.append((derivative_symbol(name, order - 1), solved))
     new_states = tuple(s for s in states if "'" in s.name)
     order_by_state = tuple((n, o) for n, o in targets)
-    return Reduction(tuple(lines), order_by_state, states, new_states, tuple(pairs))
+    return Reduction(tuple(lines), order_by_state, states, new_states, tuple(pairs), tuple(notices))
 
 
 def reduction_of(system: object) -> Reduction | None:
