@@ -151,7 +151,7 @@ def call_problem(
     notation is written without the space.
 
     >>> call_problem(tokenize("(u(t) - v)/2"), "(u(t) - v)/2", {"u", "v", "t"}, time="t").hint.split(";")[0]
-    'write u for a constant input, or write a time-varying input as a formula in t (e.g. u*step(t - 1) or u*sin(t))'
+    'write u for a constant input, or write a time-varying input as a formula in t (e.g. u*step(t - 1) or u*sin(t)), or declare it as an input function in [inputs] instead of [parameters] (u = "step(t)")'
     """
     for i, tok in enumerate(tokens):
         nxt = tokens[i + 1] if i + 1 < len(tokens) else None
@@ -237,7 +237,8 @@ def _value_call(
         )
         hint = (
             f"write {name} for a constant input, or write a time-varying input as a formula in {time} "
-            f"(e.g. {name}*step({time} - 1) or {name}*sin({time})); {product}"
+            f"(e.g. {name}*step({time} - 1) or {name}*sin({time})), or declare it as an input function "
+            f"in [inputs] instead of [parameters] ({name} = \"step({time})\"); {product}"
         )
     else:
         message = f"{written!r}: {name} is a declared name, not a function, and a product is not assumed"
