@@ -16,7 +16,6 @@ import datetime as _dt
 import hashlib
 import os
 import re
-import tomllib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -25,6 +24,7 @@ from typing import Any
 import sympy as sp
 
 from .equations import parse_equations, split_equation
+from .tomltext import decode_toml
 from .inputs import Input, input_notices, read_inputs, substitute_inputs
 from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
@@ -54,7 +54,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "sweep")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -70,7 +70,7 @@ _SHEET_TEXT_KEYS: tuple[str, ...] = (
 _SHEET_LIST_KEYS: tuple[str, ...] = ("assumptions", "references")
 SHEET_KEYS: tuple[str, ...] = _SHEET_TEXT_KEYS + _SHEET_LIST_KEYS + ("states",)
 _SECOND_ORDER_KEYS: tuple[str, ...] = ("damping", "stiffness", "force")
-SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations", "mass", *_SECOND_ORDER_KEYS)
+SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations", "mass", *_SECOND_ORDER_KEYS, "time_unit")
 INITIAL_KEYS: tuple[str, ...] = ("t0", "values")
 PARAMETER_KEYS: tuple[str, ...] = ("assume", "value", "unit", "description")
 
@@ -85,7 +85,6 @@ _CONFLICTS: tuple[tuple[str, str], ...] = (
     ("negative", "nonnegative"),
 )
 
-_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 _CASE_NAME_BAD = re.compile(r"[^A-Za-z0-9_.-]")
 
 
@@ -632,6 +631,13 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         n = len(states)
         shape = f"system.equations has {n} equation{'s' if n != 1 else ''}"
 
+    if "units" in data or "time_unit" in system:
+        from .units import check_units
+
+        notices.extend(check_units(
+            data.get("units", {}), system.get("time_unit", "s"), states=states, params=params, form=forms[0],
+            inputs=[i.symbol for i in inputs], A=A, f=f, equations=equations, file=ctx.file,
+        ))
     if inputs:
         f = substitute_inputs(A, f, inputs, key=f"system.{forms[0]}", file=ctx.file)
         notices.extend(input_notices(inputs))
@@ -696,35 +702,6 @@ def case_name(raw: str, *, file: str | None = None) -> str:
     return safe[:120]
 
 
-def _decode_toml(text: str, ctx: _Ctx) -> Mapping[str, Any]:
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as err:
-        message = str(err)
-        line = column = None
-        m = _TOML_POSITION.search(message)
-        if m is not None:
-            line, column = int(m.group(1)), int(m.group(2))
-            message = message[: m.start()]
-        elif message.endswith("(at end of document)"):
-            line = text.count("\n") + 1
-            message = message[: -len("(at end of document)")].rstrip() + " at the end of the file"
-        raise CaseFileError(
-            f"the file is not valid TOML: {message}",
-            file=ctx.file,
-            line=line,
-            column=column,
-            # The usual cause of "Invalid value" is an expression left unquoted.
-            hint='expressions need quotes, e.g. matrix = [["-k", 1], [0, -2]]'
-            if message.startswith("Invalid value")
-            else None,
-        ) from None
-    except RecursionError:
-        raise LimitError(
-            "the TOML is nested too deeply to read (arrays or tables inside each other)", file=ctx.file
-        ) from None
-
-
 def loads_case(
     text: str,
     *,
@@ -751,7 +728,7 @@ def _loads(text: str, *, ctx: _Ctx, name: str, limits: Limits) -> tuple[Case, Ma
         raise LimitError(f"the case text is larger than the limit of {limits.max_file_bytes} bytes", file=ctx.file)
     safe = case_name(name, file=ctx.file)
     digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
-    data = _decode_toml(text, ctx)
+    data = decode_toml(text, file=ctx.file)
     return _build(data, ctx=ctx, name=safe, source=ctx.file, digest=digest), data
 
 
@@ -838,6 +815,6 @@ def _load(path: str | os.PathLike[str], *, limits: Limits) -> tuple[tuple[Case, 
     ctx = _Ctx(where, limits)
     # A backslash is legal in a POSIX file name but reads as a separator elsewhere.
     safe = case_name(p.stem.replace("\\", "_"), file=where)
-    data = _decode_toml(text, ctx)
+    data = decode_toml(text, file=ctx.file)
     case = _build(data, ctx=ctx, name=safe, source=where, digest=hashlib.sha256(raw).hexdigest())
     return (case, data), ctx
