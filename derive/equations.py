@@ -179,18 +179,7 @@ def parse_equations(
     sides: list[str] = []
     for i, line in enumerate(lines):
         where = f"{key}[{i}]"
-        if not isinstance(line, str):
-            raise ExpressionError(
-                f"found {type(line).__name__} {line!r}; expected an equation string such as \"x' = -x\"",
-                file=file,
-                key=where,
-            )
-        if len(line) > limits.max_length + 100:
-            raise LimitError(
-                f"the equation has {len(line)} characters, more than the limit of {limits.max_length}",
-                file=file,
-                key=where,
-            )
+        line = _check_line(line, where, file, limits)
         if line.count("=") != 1:
             raise ExpressionError(
                 f"expected exactly one '=' in {line!r}, found {line.count('=')}", file=file, key=where,
