@@ -21,7 +21,7 @@ from dataclasses import dataclass
 import sympy as sp
 
 from .errors import DeriveError, ExpressionError, LimitError
-from .parsing import DEFAULT_LIMITS, Limits, expression_names, parse_expression
+from .parsing import CONSTANTS, DEFAULT_LIMITS, FUNCTIONS, Limits, expression_names, parse_expression
 
 __all__ = ["Reduction", "derivative_symbol", "has_higher_order", "reduce_order", "reduction_of"]
 
@@ -328,4 +328,12 @@ def reduction_of(system: object) -> Reduction | None:
     if not lines or not has_higher_order(lines, t_name=t.name):
         return None
     symbols = {p.name: p.symbol for p in getattr(system, "params", ())}
-    return reduce_order(lines, symbols=symbols, t=t)
+    # The case was checked when it was read, so a name that is neither a
+    # parameter nor a state nor a constant is a named input (see derive.inputs).
+    states = {s.name.rstrip("'") for s in getattr(system, "states", ())}
+    written = {n for line in lines for n in expression_names(line.replace("'", " "))}
+    inputs = sorted(
+        n for n in written - set(symbols) - states - {t.name} if n not in CONSTANTS and n not in FUNCTIONS
+    )
+    symbols.update({n: sp.Symbol(n, real=True) for n in inputs})
+    return reduce_order(lines, symbols=symbols, t=t, inputs=inputs)

@@ -167,3 +167,12 @@ def test_reduce_order_names_do_not_collide_with_user_names() -> None:
     y_d1 = sp.Symbol("y_d1", real=True)
     red = reduce_order(["y'' = -y + y_d1"], symbols={"y_d1": y_d1}, t=t)
     assert red.first_order_equations[1] == (derivative_symbol("y", 1), -derivative_symbol("y", 0) + y_d1)
+
+
+def test_reduction_record_of_a_case_with_a_named_input() -> None:
+    case = loads_case("[inputs]\nu = \"step(t)\"\n[system]\nequations = [\"y'' + y = u(t)\", \"x' = -x\"]\n")
+    red = reduction_of(case.system)
+    assert red is not None and red.order_by_state == (("y", 2), ("x", 1))
+    y, yd, x = red.states
+    assert red.first_order_equations[1] == (yd, sp.Symbol("u", real=True) - y)
+    assert red.first_order_equations[2] == (x, -x)
