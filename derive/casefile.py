@@ -16,15 +16,16 @@ import datetime as _dt
 import hashlib
 import os
 import re
-import tomllib
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
 import sympy as sp
 
 from .equations import parse_equations, split_equation
+from .tomltext import decode_toml
+from .inputs import Input, input_notices, read_inputs, substitute_inputs
 from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
@@ -53,7 +54,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "sweep")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -68,7 +69,8 @@ _SHEET_TEXT_KEYS: tuple[str, ...] = (
 )
 _SHEET_LIST_KEYS: tuple[str, ...] = ("assumptions", "references")
 SHEET_KEYS: tuple[str, ...] = _SHEET_TEXT_KEYS + _SHEET_LIST_KEYS + ("states",)
-SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations")
+_SECOND_ORDER_KEYS: tuple[str, ...] = ("damping", "stiffness", "force")
+SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations", "mass", *_SECOND_ORDER_KEYS, "time_unit")
 INITIAL_KEYS: tuple[str, ...] = ("t0", "values")
 PARAMETER_KEYS: tuple[str, ...] = ("assume", "value", "unit", "description")
 
@@ -83,7 +85,6 @@ _CONFLICTS: tuple[tuple[str, str], ...] = (
     ("negative", "nonnegative"),
 )
 
-_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)\s*$")
 _CASE_NAME_BAD = re.compile(r"[^A-Za-z0-9_.-]")
 
 
@@ -93,6 +94,8 @@ class _Ctx:
 
     file: str | None
     limits: Limits
+    #: declared input functions, which may be written u(t)
+    inputs: frozenset[str] = frozenset()
 
     def error(self, key: str | None, message: str, *, hint: str | None = None) -> CaseFileError:
         return CaseFileError(message, file=self.file, key=key, hint=hint)
@@ -164,7 +167,9 @@ class _Ctx:
         t: sp.Symbol | None = None,
     ) -> sp.Expr:
         raw = self.scalar(value, key)
-        expr, found = parse_expression(raw, symbols=symbols, key=key, file=self.file, limits=self.limits, t=t)
+        expr, found = parse_expression(
+            raw, symbols=symbols, key=key, file=self.file, limits=self.limits, t=t, inputs=self.inputs
+        )
         notices.extend(found)
         return expr
 
@@ -290,20 +295,24 @@ def _matrix(
     t: sp.Symbol,
     notices: list[str],
     states: Sequence[str] = (),
+    *,
+    key: str = "system.matrix",
+    size: int | None = None,
 ) -> sp.ImmutableMatrix:
-    key = "system.matrix"
     rows = ctx.seq(raw, key, "a list of rows, e.g. [[\"-1\", \"1/2\"], [0, \"-k\"]]")
     n = len(rows)
     if n == 0:
-        raise ctx.error(key, "system.matrix is empty; expected a square n x n matrix with n >= 1")
+        raise ctx.error(key, f"{key} is empty; expected a square n x n matrix with n >= 1")
     if n > ctx.limits.max_dimension:
-        raise ctx.limit(key, f"system.matrix has {n} rows, more than the limit of {ctx.limits.max_dimension}")
+        raise ctx.limit(key, f"{key} has {n} rows, more than the limit of {ctx.limits.max_dimension}")
+    if size is not None and n != size:
+        raise ctx.error(key, f"{key} has {n} rows; expected {size}, the size of system.mass")
     for i, row in enumerate(rows):
         ctx.seq(row, f"{key}[{i}]", f"a row of {n} entries")
         if len(row) != n:
             raise ctx.error(
                 f"{key}[{i}]",
-                f"system.matrix has {n} rows but row {key}[{i}] has {len(row)} entries; "
+                f"{key} has {n} rows but row {key}[{i}] has {len(row)} entries; "
                 "expected a square n x n matrix",
             )
     entries: list[list[sp.Expr]] = []
@@ -311,7 +320,7 @@ def _matrix(
         out: list[sp.Expr] = []
         for j, value in enumerate(row):
             ekey = f"{key}[{i}][{j}]"
-            ctx.no_state(value, ekey, states, "an entry of system.matrix is the coefficient of a state, not a term")
+            ctx.no_state(value, ekey, states, f"an entry of {key} is the coefficient of a state, not a term")
             entry = ctx.expr(value, ekey, symbols, notices, t=t)
             if t in entry.free_symbols:
                 raise ctx.error(
@@ -366,11 +375,11 @@ def _forcing_entry(
         raise ctx.error(exc.key or pkey, exc.message) from exc
 
 
-def _state_names(ctx: _Ctx, raw: object, n: int, t: sp.Symbol) -> tuple[str, ...]:
+def _state_names(ctx: _Ctx, raw: object, n: int, t: sp.Symbol, *, of: str = "system.matrix") -> tuple[str, ...]:
     key = "system.states"
     names = ctx.seq(raw, key, f"a list of {n} state names")
     if len(names) != n:
-        raise ctx.error(key, f"system.matrix is {n}x{n} but system.states has {len(names)} entries")
+        raise ctx.error(key, f"{of} is {n}x{n} but system.states has {len(names)} entries")
     seen: dict[str, int] = {}
     for i, v in enumerate(names):
         name = ctx.name(v, f"{key}[{i}]", "state")
@@ -393,12 +402,23 @@ def _initial(
     notices: list[str],
 ) -> tuple[sp.ImmutableMatrix, sp.Expr]:
     initial = ctx.table(raw, "initial")
-    ctx.keys(initial, INITIAL_KEYS, "initial")
+    state_names = [s.name for s in states]
+    by_state = {k: v for k, v in initial.items() if k not in INITIAL_KEYS and k in state_names}
+    ctx.keys(initial, (*INITIAL_KEYS, *state_names), "initial")
+    if by_state and "values" in initial:
+        first = next(iter(by_state))
+        raise ctx.error(
+            f"initial.{first}",
+            f"[initial] has both values and a value for the state {first!r}; expected one of them",
+            hint="give every state its value either as initial.values or as NAME = value lines in [initial]",
+        )
+    if by_state:
+        initial = {**{k: v for k, v in initial.items() if k in INITIAL_KEYS}, "values": by_state}
     if "values" not in initial:
         raise ctx.error(
             "initial.values",
             "[initial] has no values; expected initial.values, one per state "
-            f"({', '.join(s.name for s in states)})",
+            f"({', '.join(s.name for s in states)}), or one line per state such as {states[0].name} = 0",
         )
     t0: sp.Expr = sp.Integer(0)
     if "t0" in initial:
@@ -414,7 +434,7 @@ def _initial(
         t0 = ctx.expr(raw_t0, "initial.t0", {}, notices)
     values = initial["values"]
     n = len(states)
-    key = "initial.values"
+    key = "initial" if by_state else "initial.values"
     if isinstance(values, dict):
         names = [s.name for s in states]
         for k in values:
@@ -427,7 +447,7 @@ def _initial(
                 )
         missing = [s for s in names if s not in values]
         if missing:
-            raise ctx.error(key, f"initial.values has no value for {', '.join(missing)}; expected one per state")
+            raise ctx.error(key, f"{key} has no value for {', '.join(missing)}; expected one per state")
         items = [(f"{key}.{s}", values[s]) for s in names]
     elif isinstance(values, list):
         if len(values) != n:
@@ -455,6 +475,40 @@ def _initial(
             raise ctx.error(ikey, f"{ikey} = {value} depends on {t.name}; an initial value must be a constant")
         x0.append(value)
     return sp.ImmutableMatrix(x0), t0
+
+
+def _second_order(
+    ctx: _Ctx, system: Mapping[str, Any], symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
+) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix]:
+    """M q'' + C q' + K q = F from system.mass, damping, stiffness and force, in block first-order form."""
+    from .second_order import block_form, second_order_states
+
+    if "stiffness" not in system:
+        raise ctx.error("system.stiffness", "system.mass is given but system.stiffness is not; expected both")
+    if "forcing" in system:
+        raise ctx.error("system.forcing", "with system.mass the forcing vector is system.force (F in M q'' + C q' + K q = F)")
+    M = _matrix(ctx, system["mass"], symbols, t, notices, key="system.mass")
+    n = M.shape[0]
+    if 2 * n > ctx.limits.max_dimension:
+        raise ctx.limit("system.mass", f"{2 * n} states (q and q'), more than the limit of {ctx.limits.max_dimension}")
+    K = _matrix(ctx, system["stiffness"], symbols, t, notices, key="system.stiffness", size=n)
+    C = _matrix(ctx, system["damping"], symbols, t, notices, key="system.damping", size=n) if "damping" in system else sp.zeros(n, n)
+    F = sp.zeros(n, 1)
+    if "force" in system:
+        items = ctx.seq(system["force"], "system.force", f"a list of {n} entries")
+        if len(items) != n:
+            raise ctx.error("system.force", f"system.mass is {n}x{n} but system.force has {len(items)} entries")
+        F = sp.Matrix([_forcing_entry(ctx, v, f"system.force[{i}]", symbols, t, notices) for i, v in enumerate(items)])
+    names = _state_names(ctx, system["states"], n, t, of="system.mass") if "states" in system else tuple(f"q{i + 1}" for i in range(n))
+    for i, s in enumerate(names):
+        if s in symbols:
+            raise ctx.error(f"system.states[{i}]" if "states" in system else f"parameters.{s}", f"the parameter {s!r} has the same name as a coordinate")
+    try:
+        A, f = block_form(M, sp.ImmutableMatrix(C), K, sp.ImmutableMatrix(F), key="system.mass", file=ctx.file)
+    except InputError as exc:
+        raise ctx.error("system.mass", exc.message) from None
+    notices.append(f"system.mass: M q'' + C q' + K q = F written in first-order form with the states {', '.join(names)}, then their derivatives")
+    return second_order_states(names), A, f
 
 
 # ---------------------------------------------------------------------------
@@ -492,18 +546,42 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             )
         params.append(_parameter(ctx, pname, spec, notices))
     symbols: dict[str, sp.Symbol] = {p.name: p.symbol for p in params}
-    with_t = {**symbols, t_name: t}
-
-    has_matrix, has_equations = "matrix" in system, "equations" in system
-    if has_matrix and has_equations:
-        raise ctx.error(
-            "system", "[system] has both matrix and equations; expected one of them (matrix form or equations)"
+    inputs: tuple[Input, ...] = ()
+    if "inputs" in data:
+        inputs, found_in_inputs = read_inputs(
+            data["inputs"], symbols={**symbols, t_name: t}, t=t, file=ctx.file, limits=ctx.limits
         )
-    if not (has_matrix or has_equations):
-        raise ctx.error("system", "[system] has neither matrix nor equations; expected one of them")
+        notices.extend(found_in_inputs)
+        ctx = replace(ctx, inputs=frozenset(i.name for i in inputs))
+    # The system is read with the inputs as symbols; their formulas go in below.
+    with_inputs = {**symbols, **{i.name: i.symbol for i in inputs}}
+    with_t = {**with_inputs, t_name: t}
+
+    forms = [k for k in ("matrix", "equations", "mass") if k in system]
+    if len(forms) > 1:
+        raise ctx.error(
+            "system", f"[system] has both {forms[0]} and {forms[1]}; expected one of them "
+            "(matrix form, equations, or mass and stiffness)"
+        )
+    if not forms:
+        raise ctx.error(
+            "system", "[system] has neither matrix nor equations; expected one of them (or mass and stiffness)"
+        )
+    has_matrix = forms[0] == "matrix"
+    for extra in _SECOND_ORDER_KEYS:
+        if extra in system and forms[0] != "mass":
+            raise ctx.error(
+                f"system.{extra}",
+                f"system.{extra} belongs to the second-order form M q'' + C q' + K q = F, which needs system.mass",
+                hint="give system.mass and system.stiffness (and damping, force where they apply)",
+            )
 
     equations: tuple[str, ...] = ()
-    if has_matrix:
+    if forms[0] == "mass":
+        states, A, f = _second_order(ctx, system, with_t, t, notices)
+        n = A.shape[0]
+        shape = f"system.mass is {n // 2}x{n // 2}, so the system has {n} states (q, then q')"
+    elif has_matrix:
         A = _matrix(ctx, system["matrix"], with_t, t, notices, _planned_states(system))
         n = A.shape[0]
         names = (
@@ -540,17 +618,29 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             raise ctx.error("system.equations", "system.equations is empty; expected one equation per state")
         for i, line in enumerate(equations):
             parts = split_equation(line, t_name=t_name)
-            if parts is not None and parts[0] in symbols:
+            if parts is not None and parts[0] in with_inputs:
+                role = "parameter" if parts[0] in symbols else "input"
                 raise ctx.error(
-                    f"system.equations[{i}]", f"the parameter {parts[0]!r} has the same name as a state"
+                    f"system.equations[{i}]", f"the {role} {parts[0]!r} has the same name as a state"
                 )
         states, A, f, found = parse_equations(
-            equations, symbols=symbols, t=t, key="system.equations", file=ctx.file, limits=ctx.limits
+            equations, symbols=with_inputs, t=t, key="system.equations", file=ctx.file, limits=ctx.limits,
+            inputs=ctx.inputs,
         )
         notices.extend(found)
         n = len(states)
         shape = f"system.equations has {n} equation{'s' if n != 1 else ''}"
 
+    if "units" in data or "time_unit" in system:
+        from .units import check_units
+
+        notices.extend(check_units(
+            data.get("units", {}), system.get("time_unit", "s"), states=states, params=params, form=forms[0],
+            inputs=[i.symbol for i in inputs], A=A, f=f, equations=equations, file=ctx.file,
+        ))
+    if inputs:
+        f = substitute_inputs(A, f, inputs, key=f"system.{forms[0]}", file=ctx.file)
+        notices.extend(input_notices(inputs))
     x0: sp.ImmutableMatrix | None = None
     t0: sp.Expr = sp.Integer(0)
     if "initial" in data:
@@ -612,35 +702,6 @@ def case_name(raw: str, *, file: str | None = None) -> str:
     return safe[:120]
 
 
-def _decode_toml(text: str, ctx: _Ctx) -> Mapping[str, Any]:
-    try:
-        return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as err:
-        message = str(err)
-        line = column = None
-        m = _TOML_POSITION.search(message)
-        if m is not None:
-            line, column = int(m.group(1)), int(m.group(2))
-            message = message[: m.start()]
-        elif message.endswith("(at end of document)"):
-            line = text.count("\n") + 1
-            message = message[: -len("(at end of document)")].rstrip() + " at the end of the file"
-        raise CaseFileError(
-            f"the file is not valid TOML: {message}",
-            file=ctx.file,
-            line=line,
-            column=column,
-            # The usual cause of "Invalid value" is an expression left unquoted.
-            hint='expressions need quotes, e.g. matrix = [["-k", 1], [0, -2]]'
-            if message.startswith("Invalid value")
-            else None,
-        ) from None
-    except RecursionError:
-        raise LimitError(
-            "the TOML is nested too deeply to read (arrays or tables inside each other)", file=ctx.file
-        ) from None
-
-
 def loads_case(
     text: str,
     *,
@@ -667,7 +728,7 @@ def _loads(text: str, *, ctx: _Ctx, name: str, limits: Limits) -> tuple[Case, Ma
         raise LimitError(f"the case text is larger than the limit of {limits.max_file_bytes} bytes", file=ctx.file)
     safe = case_name(name, file=ctx.file)
     digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
-    data = _decode_toml(text, ctx)
+    data = decode_toml(text, file=ctx.file)
     return _build(data, ctx=ctx, name=safe, source=ctx.file, digest=digest), data
 
 
@@ -754,6 +815,6 @@ def _load(path: str | os.PathLike[str], *, limits: Limits) -> tuple[tuple[Case, 
     ctx = _Ctx(where, limits)
     # A backslash is legal in a POSIX file name but reads as a separator elsewhere.
     safe = case_name(p.stem.replace("\\", "_"), file=where)
-    data = _decode_toml(text, ctx)
+    data = decode_toml(text, file=ctx.file)
     case = _build(data, ctx=ctx, name=safe, source=where, digest=hashlib.sha256(raw).hexdigest())
     return (case, data), ctx

@@ -11,11 +11,12 @@ the system is not linear or not constant-coefficient.
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 
 import sympy as sp
 
 from .errors import ExpressionError, LimitError
+from .reduction import has_higher_order, reduce_order
 from .parsing import (
     CONSTANTS,
     DEFAULT_LIMITS,
@@ -78,27 +79,6 @@ def _left_side_hint(lhs: str, t_name: str) -> str:
     return "write it as NAME' = expression, e.g. \"x' = -x\""
 
 
-def _higher_order(line: str, t_name: str) -> str | None:
-    """``y''`` or ``d2y/dt2`` (with any higher order) written anywhere in an equation, as written."""
-    m = re.search(rf"({_NAME})\s*'\s*'+", line)
-    if m is not None:
-        return m.group(0).replace(" ", "")
-    m = re.search(rf"\bd\s*\^?\s*([2-9])\s*({_NAME})\s*/\s*d\s*{re.escape(t_name)}\s*\^?\s*\1", line)
-    if m is not None:
-        return m.group(0).replace(" ", "")
-    return None
-
-
-def _reduce_order_hint(written: str) -> str:
-    m = re.match(rf"d\^?[2-9]({_NAME})/", written)
-    name = m.group(1) if m else written.rstrip("'")
-    v = "v" if name != "v" else "w"
-    return (
-        f"second order: introduce {v} = {name}' as a state and write two first-order equations, "
-        f"\"{name}' = {v}\" and \"{v}' = ...\" (with {name}'' replaced by {v}' and {name}' by {v})"
-    )
-
-
 def _derivative_on_right(rhs: str, states: Sequence[str], t_name: str) -> str | None:
     """The first derivative written on a right side (``T2'`` or ``dT2/dt``), if any."""
     m = re.search(rf"({_NAME})\s*'", rhs)
@@ -110,6 +90,47 @@ def _derivative_on_right(rhs: str, states: Sequence[str], t_name: str) -> str | 
     return None
 
 
+def _check_line(line: object, where: str, file: str | None, limits: Limits) -> str:
+    if not isinstance(line, str):
+        raise ExpressionError(
+            f"found {type(line).__name__} {line!r}; expected an equation string such as \"x' = -x\"",
+            file=file,
+            key=where,
+        )
+    if len(line) > limits.max_length + 100:
+        raise LimitError(
+            f"the equation has {len(line)} characters, more than the limit of {limits.max_length}",
+            file=file,
+            key=where,
+        )
+    return line
+
+
+def _reduced(
+    lines: Sequence[str],
+    *,
+    symbols: Mapping[str, sp.Symbol],
+    t: sp.Symbol,
+    key: str,
+    file: str | None,
+    limits: Limits,
+    inputs: Collection[str],
+) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, tuple[str, ...]]:
+    """Equations of higher order: reduced to first order (derive.reduction), then A and f read off."""
+    checked = [_check_line(line, f"{key}[{i}]", file, limits) for i, line in enumerate(lines)]
+    red = reduce_order(checked, symbols=symbols, t=t, key=key, file=file, limits=limits, inputs=inputs)
+    owner = {name: i for i, (name, _) in enumerate(red.order_by_state)}
+    keys = tuple(f"{key}[{owner[s.name.rstrip(chr(39))]}]" for s, _ in red.first_order_equations)
+    labels = tuple(f"the first-order equation of {s.name}" for s, _ in red.first_order_equations)
+    A, f = linear_rows([e for _, e in red.first_order_equations], red.states, t=t, labels=labels, keys=keys, file=file)
+    orders = ", ".join(f"{n} (order {o})" for n, o in red.order_by_state if o > 1)
+    notice = (
+        f"{key}: equations of higher order reduced to first order: {orders}; "
+        f"the states are {', '.join(s.name for s in red.states)}"
+    )
+    return red.states, A, f, (*red.notices, notice)
+
+
 def parse_equations(
     lines: Sequence[str],
     *,
@@ -118,6 +139,7 @@ def parse_equations(
     key: str = "system.equations",
     file: str | None = None,
     limits: Limits = DEFAULT_LIMITS,
+    inputs: Collection[str] = (),
 ) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, tuple[str, ...]]:
     """`T1' = -(T1 - T2)/5 + q/2` lines -> (states, A, f, notices).
 
@@ -149,38 +171,21 @@ def parse_equations(
             key=key,
         )
 
+    if has_higher_order(lines, t_name=t.name):
+        return _reduced(lines, symbols=symbols, t=t, key=key, file=file, limits=limits, inputs=inputs)
+
     # First pass: the left sides fix the states and their order.
     names: list[str] = []
     sides: list[str] = []
     for i, line in enumerate(lines):
         where = f"{key}[{i}]"
-        if not isinstance(line, str):
-            raise ExpressionError(
-                f"found {type(line).__name__} {line!r}; expected an equation string such as \"x' = -x\"",
-                file=file,
-                key=where,
-            )
-        if len(line) > limits.max_length + 100:
-            raise LimitError(
-                f"the equation has {len(line)} characters, more than the limit of {limits.max_length}",
-                file=file,
-                key=where,
-            )
+        line = _check_line(line, where, file, limits)
         if line.count("=") != 1:
             raise ExpressionError(
                 f"expected exactly one '=' in {line!r}, found {line.count('=')}", file=file, key=where,
                 hint=f"write it as NAME' = expression, e.g. \"x' = -x\" or \"dx/d{t.name} = -x\"",
             )
         parts = split_equation(line, t_name=t.name)
-        higher = _higher_order(line, t.name)
-        if higher is not None:
-            raise ExpressionError(
-                f"{higher} is a derivative of second or higher order; this program solves first-order "
-                f"systems x' = A x + f({t.name})",
-                file=file,
-                key=where,
-                hint=_reduce_order_hint(higher),
-            )
         if parts is None:
             lhs = line.split("=")[0].strip()
             raise ExpressionError(
@@ -214,8 +219,7 @@ def parse_equations(
     table.update(zip(names, states))
     table[t.name] = t
 
-    rows_A: list[list[sp.Expr]] = []
-    rows_f: list[sp.Expr] = []
+    exprs: list[sp.Expr] = []
     notices: list[str] = []
     for i, (name, rhs) in enumerate(zip(names, sides)):
         where = f"{key}[{i}]"
@@ -260,9 +264,38 @@ def parse_equations(
                 + f"add an equation \"{used}' = ...\" or declare [parameters.{used}]",
             )
         expr, found = parse_expression(
-            rhs, symbols=table, key=where, file=file, limits=limits, states=names, t=t
+            rhs, symbols=table, key=where, file=file, limits=limits, states=names, t=t, inputs=inputs
         )
         notices.extend(found)
+        exprs.append(expr)
+    labels = tuple(f"equation {i + 1} ({name}')" for i, name in enumerate(names))
+    keys = tuple(f"{key}[{i}]" for i in range(len(names)))
+    A, f = linear_rows(exprs, states, t=t, labels=labels, keys=keys, file=file)
+    return states, A, f, tuple(notices)
+
+
+def linear_rows(
+    exprs: Sequence[sp.Expr],
+    states: Sequence[sp.Symbol],
+    *,
+    t: sp.Symbol,
+    labels: Sequence[str],
+    keys: Sequence[str],
+    file: str | None = None,
+) -> tuple[sp.ImmutableMatrix, sp.ImmutableMatrix]:
+    """Right sides of x' = A x + f -> (A, f), refused unless linear with constant A.
+
+    >>> x, y, t = sp.symbols("x y t")
+    >>> linear_rows([-x + t, x - 2*y], (x, y), t=t, labels=("1", "2"), keys=("k0", "k1"))
+    (Matrix([
+    [-1,  0],
+    [ 1, -2]]), Matrix([
+    [t],
+    [0]]))
+    """
+    rows_A: list[list[sp.Expr]] = []
+    rows_f: list[sp.Expr] = []
+    for expr, label, where in zip(exprs, labels, keys):
         row: list[sp.Expr] = []
         for j, x in enumerate(states):
             coeff = sp.diff(expr, x)
@@ -296,4 +329,4 @@ def parse_equations(
         rows_A.append(row)
         rows_f.append(forcing)
 
-    return states, sp.ImmutableMatrix(rows_A), sp.ImmutableMatrix(rows_f), tuple(notices)
+    return sp.ImmutableMatrix(rows_A), sp.ImmutableMatrix(rows_f)

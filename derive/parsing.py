@@ -38,7 +38,7 @@ import sympy as sp
 from .errors import DeriveError, ExpressionError, LimitError
 from .functions import CONSTANTS, FUNCTIONS, RESERVED_NAMES, FunctionSpec
 from .names import name_problem, nearest, split_names, suggest_name
-from .tokens import TOKEN, Token, call_problem, character_problem, product_problem, tokenize
+from .tokens import TOKEN, Token, call_problem, character_problem, drop_input_calls, product_problem, tokenize
 
 __all__ = [
     "Limits",
@@ -152,6 +152,8 @@ class _Where:
     #: the names that are states, and the independent variable, when the caller knows them
     states: frozenset[str] = frozenset()
     time: sp.Symbol | None = None
+    #: declared input functions: ``u(t)`` is read as ``u``
+    inputs: frozenset[str] = frozenset()
 
     def error(
         self,
@@ -649,6 +651,10 @@ def _prepare(
             # literal to a Python number first.
             _number_from_literal(tok.text, where, limits, tok.column + 1)
     time = where.time.name if where.time is not None else None
+    if where.inputs:
+        tokens, dropped = drop_input_calls(tokens, where.text, where.inputs, time=time or "t")
+        if dropped is not None:
+            raise where.error(ExpressionError, dropped.message, column=dropped.column, hint=dropped.hint)
     problem = call_problem(tokens, where.text, set(symbols), states=where.states, time=time)
     if problem is not None:
         raise where.error(ExpressionError, problem.message, column=problem.column, hint=problem.hint)
@@ -664,6 +670,7 @@ def parse_expression(
     limits: Limits = DEFAULT_LIMITS,
     states: Collection[str] = (),
     t: sp.Symbol | None = None,
+    inputs: Collection[str] = (),
 ) -> tuple[sp.Expr, tuple[str, ...]]:
     """Parse one expression string (or number) into a sympy Expr; returns (expr, notices).
 
@@ -673,14 +680,15 @@ def parse_expression(
     ``Heaviside`` with H(0) = 1/2.  A declared name directly followed by
     ``(`` is refused (``u(t)`` is not read as ``u*t``).  ``states`` and ``t``
     (the independent variable), when given, sharpen the messages and let the
-    switching helpers check that their arguments move with time.
+    switching helpers check that their arguments move with time.  A name in
+    ``inputs`` (a declared input function) may be written ``u(t)``.
 
     >>> t = sp.Symbol("t", real=True)
     >>> parse_expression("2t^2 + 0.5 sin(3t)", symbols={"t": t})
     (2*t**2 + sin(3*t)/2, ('0.5 read as the exact value 1/2',))
     """
     shown = text if isinstance(text, str) else repr(text)
-    where = _Where(shown, key, file, frozenset(states), t)
+    where = _Where(shown, key, file, frozenset(states), t, frozenset(inputs))
     try:
         return _parse(text, symbols=symbols, where=where, limits=limits)
     except DeriveError as err:

@@ -28,6 +28,7 @@ __all__ = [
     "character_problem",
     "call_problem",
     "product_problem",
+    "drop_input_calls",
 ]
 
 TOKEN = re.compile(
@@ -150,7 +151,7 @@ def call_problem(
     notation is written without the space.
 
     >>> call_problem(tokenize("(u(t) - v)/2"), "(u(t) - v)/2", {"u", "v", "t"}, time="t").hint.split(";")[0]
-    'write u for a constant input, or write a time-varying input as a formula in t (e.g. u*step(t - 1) or u*sin(t))'
+    'write u for a constant input, or write a time-varying input as a formula in t (e.g. u*step(t - 1) or u*sin(t)), or declare it as an input function in [inputs] instead of [parameters] (u = "step(t)")'
     """
     for i, tok in enumerate(tokens):
         nxt = tokens[i + 1] if i + 1 < len(tokens) else None
@@ -236,7 +237,8 @@ def _value_call(
         )
         hint = (
             f"write {name} for a constant input, or write a time-varying input as a formula in {time} "
-            f"(e.g. {name}*step({time} - 1) or {name}*sin({time})); {product}"
+            f"(e.g. {name}*step({time} - 1) or {name}*sin({time})), or declare it as an input function "
+            f"in [inputs] instead of [parameters] ({name} = \"step({time})\"); {product}"
         )
     else:
         message = f"{written!r}: {name} is a declared name, not a function, and a product is not assumed"
@@ -317,3 +319,37 @@ def product_problem(tokens: Sequence[Token], i: int, text: str) -> Problem | Non
             f"write ^({sign}{left}*{right}) if it is part of the exponent, or put *{right} after the power if not",
         )
     return None
+
+
+def drop_input_calls(
+    tokens: Sequence[Token], text: str, inputs: Collection[str], *, time: str
+) -> tuple[tuple[Token, ...], Problem | None]:
+    """``u(t)`` for a declared input ``u`` -> the token ``u``; another argument is a :class:`Problem`.
+
+    >>> toks, problem = drop_input_calls(tokenize("2*u(t)"), "2*u(t)", {"u"}, time="t")
+    >>> [tok.text for tok in toks], problem
+    (['2', '*', 'u'], None)
+    """
+    out: list[Token] = []
+    i = 0
+    while i < len(tokens):
+        tok = tokens[i]
+        nxt = tokens[i + 1] if i + 1 < len(tokens) else None
+        if tok.kind == "name" and tok.text in inputs and nxt is not None and nxt.text == "(":
+            end = _closing(tokens, i + 1)
+            inside = [x.text for x in tokens[i + 2 : end]] if end is not None else None
+            if inside != [time]:
+                column = tok.column + 1
+                written = text[tok.column : tokens[end].column + 1] if end is not None else text[tok.column :]
+                return tuple(out), Problem(
+                    f"{written} at column {column}: the input {tok.text} is read at the current time only",
+                    column,
+                    f"write {tok.text} or {tok.text}({time}); for a delayed input write its formula in {time} "
+                    f"in [inputs] as a new input",
+                )
+            out.append(tok)
+            i = end + 1
+            continue
+        out.append(tok)
+        i += 1
+    return tuple(out), None

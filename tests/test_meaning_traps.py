@@ -74,8 +74,11 @@ TRAPS: tuple[Trap, ...] = (
     Trap("renamed-time-equation", "[system]\nt = \"tau\"\nequations = [\"x' = -x + t\"]\n", EQ0, "'tau' (system.t)", "write tau instead of t"),
     Trap("renamed-time-forcing", forced("sin(t)", extra="t = \"s\"\n"), F0, "'s' (system.t)", "write s instead of t"),
     Trap("renamed-time-leibniz", "[system]\nt = \"tau\"\nequations = [\"dx/dt = -x\"]\n", EQ0, "not a derivative", "not 't': write dx/dtau"),
-    Trap("second-order-prime", eqs("y'' = -y"), EQ0, "second or higher order", "introduce v = y' as a state"),
-    Trap("second-order-leibniz", eqs("d2y/dt2 = -y"), EQ0, "second or higher order", "introduce v = y' as a state"),
+    # -- equations of higher order that cannot be reduced to first order
+    Trap("derivative-of-input", eqs("y'' + y = u'", params=param("u")), EQ0, "a derivative of 'u'", "give it an equation of its own"),
+    Trap("highest-not-linear", eqs("y*y'' = -y"), EQ0, "not linear in its highest derivative", "times a constant"),
+    Trap("highest-twice", eqs("y'' = -y + x''", "x'' = -x"), EQ0, "as well as in its own", "substitute the right side of x's equation"),
+    Trap("two-equations-one-state", eqs("y'' = -y", "d2y/dt2 = y"), "system.equations[1]", "given by two equations", "give y one equation"),
     Trap("dot-notation", eqs("xdot = -x"), EQ0, "not a derivative", "write the derivative of x as x'"),
     Trap("factor-on-left", eqs("2x' = -x"), EQ0, "not a derivative", "divide by the factor on the left"),
     # -- reserved names
