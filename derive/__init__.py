@@ -51,6 +51,7 @@ from .render import render  # noqa: E402
 from .check import CheckItem, CheckReport, check  # noqa: E402
 from .batch import BatchReport, CaseResult, batch  # noqa: E402
 from .reading import Response, response  # noqa: E402
+from .second_order import solve_second_order  # noqa: E402
 
 
 def _attach_reading() -> None:
@@ -75,6 +76,7 @@ __all__ = [
     "solve",
     "solve_case",
     "solve_system",
+    "solve_second_order",
     "load_case",
     "loads_case",
     "render",

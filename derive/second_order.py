@@ -15,14 +15,13 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from fractions import Fraction
 from typing import Any
 
 import sympy as sp
 
+from .solving.system import exact_value
 from .errors import InputError
 from .model import Case, Solution, System
-from .parsing import parse_expression
 from .pipeline import build_system, solve_case
 
 __all__ = ["Modes", "block_form", "modes", "solve_second_order", "second_order_states"]
@@ -47,20 +46,8 @@ class Modes:
 
 
 def _entry(value: Any, key: str, symbols: Mapping[str, sp.Symbol]) -> sp.Expr:
-    """One matrix entry as an exact sympy object; strings go through the safe parser."""
-    if isinstance(value, bool):
-        raise InputError(f"expected a number or an expression, found the boolean {value}", key=key)
-    if isinstance(value, sp.Basic):
-        return value.xreplace({fl: sp.Rational(str(fl)) for fl in value.atoms(sp.Float)})
-    if isinstance(value, int):
-        return sp.Integer(value)
-    if isinstance(value, float):
-        return sp.Rational(repr(value))
-    if isinstance(value, Fraction):
-        return sp.Rational(value.numerator, value.denominator)
-    if isinstance(value, str):
-        return parse_expression(value, symbols=symbols, key=key)[0]
-    raise InputError(f"expected a number or an expression, found {type(value).__name__}", key=key)
+    """One matrix entry as an exact sympy object, read as build_system reads A (strings parsed safely)."""
+    return exact_value(value, symbols=symbols, key=key, notices=[])
 
 
 def _square(value: Any, key: str, symbols: Mapping[str, sp.Symbol], n: int | None) -> sp.ImmutableMatrix:

@@ -16,10 +16,10 @@ import sympy as sp
 from ..errors import InputError
 from ..model import Parameter, System
 
-__all__ = ["build_system"]
+__all__ = ["exact_value", "build_system"]
 
 
-def _exact(value: Any, *, symbols: Mapping[str, sp.Symbol], key: str, notices: list[str]) -> sp.Expr:
+def exact_value(value: Any, *, symbols: Mapping[str, sp.Symbol], key: str, notices: list[str]) -> sp.Expr:
     """A user value as an exact sympy object: numbers, strings (parsed safely), sympy."""
     if isinstance(value, bool):
         raise InputError(f"expected a number or an expression, found the boolean {value}", key=key)
@@ -62,7 +62,7 @@ def _params(params: Any) -> tuple[tuple[Parameter, ...], dict[str, sp.Symbol]]:
         sym = k if isinstance(k, sp.Symbol) else sp.Symbol(str(k), real=True)
         val = None
         if v is not None:
-            val = _exact(v, symbols={}, key=f"params[{sym.name}]", notices=[])
+            val = exact_value(v, symbols={}, key=f"params[{sym.name}]", notices=[])
         out.append(Parameter(symbol=sym, value=val))
     return tuple(out), {p.name: p.symbol for p in out}
 
@@ -97,7 +97,7 @@ def build_system(
         shape = f"{n} rows of lengths {[len(r) for r in rows]}"
         raise InputError(f"A must be square, found {shape}", key="A")
     Am = sp.ImmutableMatrix(
-        [[_exact(v, symbols=names, key=f"A[{i}][{j}]", notices=notices) for j, v in enumerate(r)] for i, r in enumerate(rows)]
+        [[exact_value(v, symbols=names, key=f"A[{i}][{j}]", notices=notices) for j, v in enumerate(r)] for i, r in enumerate(rows)]
     )
     if Am.has(t):
         raise InputError(f"A depends on {t}: this solver needs constant coefficients", key="A")
@@ -107,16 +107,16 @@ def build_system(
         fl = list(f)
         if len(fl) != n:
             raise InputError(f"A is {n}x{n} but f has {len(fl)} entries", key="f")
-        fm = sp.ImmutableMatrix([_exact(v, symbols=names, key=f"f[{i}]", notices=notices) for i, v in enumerate(fl)])
+        fm = sp.ImmutableMatrix([exact_value(v, symbols=names, key=f"f[{i}]", notices=notices) for i, v in enumerate(fl)])
     x0m = None
     if x0 is not None:
         xl = list(x0)
         if len(xl) != n:
             raise InputError(f"A is {n}x{n} but x0 has {len(xl)} entries", key="x0")
-        x0m = sp.ImmutableMatrix([_exact(v, symbols=names, key=f"x0[{i}]", notices=notices) for i, v in enumerate(xl)])
+        x0m = sp.ImmutableMatrix([exact_value(v, symbols=names, key=f"x0[{i}]", notices=notices) for i, v in enumerate(xl)])
         if x0m.has(t):
             raise InputError(f"x0 depends on {t}: initial values must be constants", key="x0")
-    t0e = _exact(t0, symbols=names, key="t0", notices=notices)
+    t0e = exact_value(t0, symbols=names, key="t0", notices=notices)
     if t0e.has(t) or not t0e.is_real and t0e.is_real is not None:
         raise InputError(f"t0 must be a real number, found {t0e}", key="t0")
     known = {p.symbol for p in plist}
