@@ -101,9 +101,9 @@ def _solve_and_write(
         try:
             sol = solve_case(case, assume=list(relations) or None)
         except VerificationError as err:
-            sol = getattr(err, "solution", None)
-            if sol is None:
+            if err.solution is None:
                 raise
+            sol = err.solution
             click.echo(f"{PROGRAM_NAME}: error: {err}", err=True)
             code = EXIT_VERIFICATION
     _summary(sol)

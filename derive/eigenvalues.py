@@ -99,7 +99,7 @@ def roots_of(
         a, b, c = q.all_coeffs()
         disc = sp.factor(b**2 - 4 * a * c)
         sign = regime_sign(disc, regimes) if has_params and aux is not None else 0
-        if sign:
+        if sign and aux is not None:
             # the regime fixes the sign: a positive placeholder stands for the square
             # root while the algebra runs, so the real form can be taken; it is
             # replaced by the root itself in the result

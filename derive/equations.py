@@ -243,14 +243,14 @@ def parse_equations(
                 continue  # the parser says that the independent variable was renamed
             params = sorted(n for n in symbols if n not in names)
             guess = nearest(used, set(names) | set(params) | {t.name})
-            parts = split_names(used, [*names, *params, t.name])
-            if parts:
+            pieces = split_names(used, [*names, *params, t.name])
+            if pieces:
                 raise ExpressionError(
                     f"{used!r} on the right side of {label} is read as one name, and no state or "
                     "parameter has that name",
                     file=file,
                     key=where,
-                    hint=f"write {'*'.join(parts)} for a product"
+                    hint=f"write {'*'.join(pieces)} for a product"
                     + (f", or did you mean {guess!r}?" if guess else "")
                     + f" (or declare [parameters.{used}])",
                 )

@@ -374,8 +374,11 @@ def symmetric_reduce(e: sp.Expr) -> sp.Expr:
                 rest.append(term)
         if len(parts) != d:
             continue
-        polys = [sp.Poly(sp.Add(*v), z) if sp.Add(*v).is_polynomial(z) else None for v in parts.values()]
-        if any(pp is None for pp in polys) or any(pp != polys[0] for pp in polys[1:]):
+        sums = [sp.Add(*v) for v in parts.values()]
+        if not all(s.is_polynomial(z) for s in sums):
+            continue
+        polys = [sp.Poly(s, z) for s in sums]
+        if any(pp != polys[0] for pp in polys[1:]):
             continue
         h = polys[0]
         coeffs = [sp.Rational(c) for c in poly.monic().all_coeffs()]  # 1, a_{d-1}, ..., a_0

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import difflib
 import re
-from collections.abc import Collection, Mapping, Sequence
+from collections.abc import Collection, Iterable, Mapping
 from types import MappingProxyType
 
 import sympy as sp
@@ -81,7 +81,7 @@ def split_names(word: str, names: Collection[str]) -> tuple[str, ...] | None:
     return found if found and len(found) >= 2 else None
 
 
-def nearest(word: str, candidates: Sequence[str] | set[str] | frozenset[str]) -> str | None:
+def nearest(word: str, candidates: Iterable[str]) -> str | None:
     """The candidate closest to ``word`` (difflib), or ``None``.
 
     >>> nearest("tempp", ["temp", "time"])

@@ -44,7 +44,9 @@ def _combined(constants: Sequence[sp.Symbol], phis, t: sp.Symbol, t0: sp.Expr) -
     return sp.ImmutableMatrix([sum((c * p.to_expr(t, t0=t0) for c, p in zip(constants, col)), sp.Integer(0)) for col in zip(*phis)])
 
 
-def _homogeneous_terms(constants: Sequence[sp.Symbol], phis, t: sp.Symbol, t0: sp.Expr) -> tuple:
+def _homogeneous_terms(
+    constants: Sequence[sp.Symbol], phis, t: sp.Symbol, t0: sp.Expr
+) -> tuple[tuple[sp.Expr, sp.ImmutableMatrix], ...]:
     """(scalar function, vector) for each c_j phi_j: c_j e^{lam t} v where phi_j has that shape."""
     terms = []
     for c, phi in zip(constants, phis):
@@ -179,7 +181,7 @@ def recombine(
     do_real = real and n_unknown == 0 and 2 * len(pairs) == n_complex and not indexed
 
     values: dict[sp.Symbol, sp.Expr] = {}
-    if ivp:
+    if x0 is not None:
         cvals = [sp.expand(sum((P_inv[i, j] * x0[j] for j in range(n)), sp.Integer(0))) for i in range(n)]
         cvals = [v if not v.free_symbols else sp.factor(v) for v in cvals]
         values = dict(zip(constants, cvals))

@@ -22,6 +22,7 @@ import sympy as sp
 from .errors import InputError
 from .parsing import nearest, parse_expression
 from .model import Condition, Parameter, System
+from .model import Relation as Comparison
 
 __all__ = [
     "Relation",
@@ -143,8 +144,8 @@ def parse_relations(
     """
     if _empty(items):
         return ()
+    out: list[Relation] = []
     if isinstance(items, Mapping):
-        out = []
         for s, v in items.items():
             sym = s if isinstance(s, sp.Symbol) else symbols.get(str(s))
             where = f"{key}.{s}"
@@ -165,7 +166,6 @@ def parse_relations(
                 )
             out.append((sym, value))
         return tuple(out)
-    out: list[Relation] = []
     for i, item in enumerate(_as_list(items, key)):
         where = f"{key}[{i}]"
         shown = item if isinstance(item, str) else sp.sstr(item)
@@ -311,7 +311,7 @@ def apply_relations(
         rel = sp.numer(sp.together(s - v))
         if rel.could_extract_minus_sign():
             rel = -rel
-        conditions.append(Condition(expr=sp.expand(rel), relation="= 0", reason=f"the case solved here: {s} = {sp.sstr(v)}"))
+        conditions.append(Condition(expr=sp.expand(rel), relation=Comparison.ZERO, reason=f"the case solved here: {s} = {sp.sstr(v)}"))
         notices.append(
             f"solved on the relation {sp.sstr(s)} = {sp.sstr(v)}; the parameter {s} is eliminated"
         )

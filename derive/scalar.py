@@ -58,7 +58,7 @@ def solve_blocks(
     its conjugate partner, only to say so on the sheet.
     """
     n = len(g)
-    y: list[ExpPoly | None] = [None] * n
+    y: dict[int, ExpPoly] = {}  # filled bottom-up: y[i + 1] before y[i] within a block
     steps_by_index: dict[int, ScalarStep] = {}
     conditions: list[Condition] = []
     resonant: list[int] = []
@@ -120,7 +120,7 @@ def solve_blocks(
         start += size
     ordered = tuple(steps_by_index.values())  # solve order: bottom-up in each block
     return ScalarResult(
-        y=tuple(y),  # type: ignore[arg-type]
+        y=tuple(y[i] for i in range(n)),
         steps=ordered,
         conditions=tuple(conditions),
         resonant=tuple(resonant),

@@ -31,6 +31,7 @@ from typing import Sequence
 import sympy as sp
 from sympy.polys.agca.extensions import FiniteExtension
 from sympy.polys.constructor import construct_domain
+from sympy.polys.domains.domain import Domain
 from sympy.polys.matrices import DomainMatrix
 
 from .eigenvalues import (
@@ -123,8 +124,8 @@ class Decomposition:
 class _Field:
     """K, or K[theta]/(q) for an irreducible factor of degree >= 2."""
 
-    dom: object
-    K: object
+    dom: Domain
+    K: Domain
     q: sp.Poly | None  # monic, in _TH over K; None when the root lies in K
     root: sp.Expr | None  # the root itself when it lies in K
 
@@ -416,7 +417,9 @@ def _chain_links(N: DomainMatrix, chain: Sequence[DomainMatrix], fld: _Field, la
     return tuple(links)
 
 
-def _chain_instances(chain: Sequence[sp.ImmutableMatrix], roots: Sequence[sp.Expr], gen: sp.Symbol | None):
+def _chain_instances(
+    chain: Sequence[sp.ImmutableMatrix], roots: Sequence[sp.Expr], gen: sp.Symbol | None
+) -> tuple[tuple[sp.Expr, tuple[sp.ImmutableMatrix, ...]], ...]:
     return tuple(
         (root, tuple(sp.ImmutableMatrix(v.applyfunc(lambda e: _instantiate(e, root, gen))) for v in chain))
         for root in roots
@@ -652,10 +655,10 @@ def decompose(
     col_eigs: list[sp.Expr] = []
     jblocks: list[tuple[sp.Expr, int]] = []
     for b in blocks:
-        for ch in b.chains:
-            cols.extend(ch)
-            col_eigs.extend([b.value] * len(ch))
-            jblocks.append((b.value, len(ch)))
+        for chain in b.chains:
+            cols.extend(chain)
+            col_eigs.extend([b.value] * len(chain))
+            jblocks.append((b.value, len(chain)))
         rows.extend(b.left)
     P = sp.ImmutableMatrix.hstack(*cols)
     P_inv = sp.ImmutableMatrix.vstack(*rows)
@@ -723,15 +726,16 @@ def decompose(
 
 def _order_blocks(blocks: list[EigenBlock], keep: bool) -> list[EigenBlock]:
     """Real before complex, ascending; a complex pair as a + ib, then a - ib."""
-    if keep or any(b.numeric is None for b in blocks):
+    placed = [(b, b.numeric) for b in blocks if b.numeric is not None]
+    if keep or len(placed) != len(blocks):
         return blocks
 
-    def key(b: EigenBlock):
-        z = b.numeric
+    def key(item: tuple[EigenBlock, complex]) -> tuple[int, float, float, int]:
+        z = item[1]
         is_complex = abs(z.imag) > 1e-20
         return (1 if is_complex else 0, round(z.real, 12), round(abs(z.imag), 12), 1 if z.imag < 0 else 0)
 
-    return sorted(blocks, key=key)
+    return [b for b, _ in sorted(placed, key=key)]
 
 
 def _similarity_check(A, P, J, P_inv, values, exact: list[DomainMatrix] | None) -> bool:

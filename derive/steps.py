@@ -7,7 +7,8 @@ step's ``kind`` (``templates/steps/<kind>.tex.j2`` for LaTeX).  Adding a step
 kind means adding a dataclass here, one partial per renderer, and an entry in
 ``tests/test_render.py``'s sample of every kind.
 
-Field conventions: matrices are ``ImmutableMatrix``; ``lam`` is the symbol
+Field conventions: matrices are ``ImmutableMatrix``; a ``Lazy[...]`` field
+may be given a ``Deferred`` and reads as its value; ``lam`` is the symbol
 used for the eigenvalue variable; a ``root_of`` field, when not ``None``, is
 the irreducible polynomial (in ``lam``) whose roots share a step: the step is
 then computed once, for a generic root ``lam``, and ``instances`` lists the
@@ -17,12 +18,13 @@ concrete values.
 from __future__ import annotations
 
 from dataclasses import dataclass, fields, is_dataclass, replace
-from typing import Any, Callable, ClassVar, Mapping, TypeAlias
+from typing import Any, Callable, ClassVar, Generic, Mapping, TypeAlias, TypeVar
 
 import sympy as sp
 
 __all__ = [
     "Deferred",
+    "Lazy",
     "substitute",
     "Step",
     "EquationsStep",
@@ -51,8 +53,10 @@ __all__ = [
 
 Matrix: TypeAlias = sp.ImmutableMatrix
 
+T = TypeVar("T")
 
-class Deferred:
+
+class Deferred(Generic[T]):
     """A field value computed on first read: ``Deferred(fn, *args)`` stands for ``fn(*args)``.
 
     A stage hands a step the display-only pieces of its derivation this way
@@ -65,9 +69,14 @@ class Deferred:
 
     __slots__ = ("fn", "args")
 
-    def __init__(self, fn: Callable[..., Any], *args: Any) -> None:
+    def __init__(self, fn: Callable[..., T], *args: Any) -> None:
         self.fn = fn
         self.args = args
+
+
+#: A step field that a stage may fill with its value or with a ``Deferred``
+#: computing it; a read always gives the value (``_Resolving``).
+Lazy: TypeAlias = T | Deferred[T]
 
 
 class _Resolving:
@@ -108,7 +117,7 @@ def substitute(value: Any, mapping: Mapping[sp.Basic, sp.Expr]) -> Any:
     return value
 
 
-def _substituted(later: Deferred, mapping: Mapping[sp.Basic, sp.Expr]) -> Any:
+def _substituted(later: Deferred[Any], mapping: Mapping[sp.Basic, sp.Expr]) -> Any:
     return substitute(later.fn(*later.args), mapping)
 
 
@@ -137,7 +146,7 @@ class CharPolyStep(Step):
 
     kind: ClassVar[str] = "charpoly"
     lam: sp.Symbol
-    shifted: Matrix  # A - lam I
+    shifted: Lazy[Matrix]  # A - lam I
     expanded: sp.Expr
     factored: sp.Expr
     factors: tuple[tuple[sp.Expr, int], ...]  # (irreducible factor, multiplicity)
@@ -181,10 +190,10 @@ class EigenvectorStep(Step):
     lam: sp.Symbol
     eigenvalue: sp.Expr
     root_of: sp.Expr | None
-    shifted: Matrix
-    rref: Matrix
-    pivots: tuple[int, ...]
-    free: tuple[int, ...]
+    shifted: Lazy[Matrix]
+    rref: Lazy[Matrix]
+    pivots: Lazy[tuple[int, ...]]
+    free: Lazy[tuple[int, ...]]
     basis: tuple[Matrix, ...]
     algebraic: int
     instances: tuple[tuple[sp.Expr, tuple[Matrix, ...]], ...]
@@ -209,10 +218,10 @@ class JordanChainStep(Step):
     root_of: sp.Expr | None
     algebraic: int
     geometric: int
-    shifted: Matrix
-    vectors: tuple[Matrix, ...]  # v_1 (eigenvector), v_2, ...
-    links: tuple[ChainLink, ...]
-    instances: tuple[tuple[sp.Expr, tuple[Matrix, ...]], ...]
+    shifted: Lazy[Matrix]
+    vectors: Lazy[tuple[Matrix, ...]]  # v_1 (eigenvector), v_2, ...
+    links: Lazy[tuple[ChainLink, ...]]
+    instances: Lazy[tuple[tuple[sp.Expr, tuple[Matrix, ...]], ...]]
 
 
 @dataclass(frozen=True)
@@ -245,7 +254,7 @@ class SimilarityStep(Step):
     P: Matrix
     D: Matrix
     P_inv: Matrix
-    product: Matrix
+    product: Lazy[Matrix]
     A: Matrix
     ok: bool
 
@@ -260,7 +269,7 @@ class DecoupleStep(Step):
     D: Matrix
     P_inv: Matrix
     f: Matrix
-    g: Matrix
+    g: Lazy[Matrix]
 
 
 @dataclass(frozen=True)
@@ -280,15 +289,15 @@ class ScalarStep(Step):
     t: sp.Symbol
     y: sp.Symbol
     eigenvalue: sp.Expr
-    g: sp.Expr
+    g: Lazy[sp.Expr]
     coupling: sp.Symbol | None
-    coupling_value: sp.Expr | None
-    rhs: sp.Expr
-    factor: sp.Expr
-    integrand: sp.Expr
-    integral: sp.Expr
+    coupling_value: Lazy[sp.Expr | None]
+    rhs: Lazy[sp.Expr]
+    factor: Lazy[sp.Expr]
+    integrand: Lazy[sp.Expr]
+    integral: Lazy[sp.Expr]
     constant: sp.Expr
-    solution: sp.Expr
+    solution: Lazy[sp.Expr]
     resonant: bool
     t0: sp.Expr = sp.Integer(0)
     conjugate_of: int | None = None  # index of the eigenvalue this one mirrors
@@ -300,11 +309,11 @@ class RecombineStep(Step):
 
     kind: ClassVar[str] = "recombine"
     P: Matrix
-    y: Matrix
-    homogeneous_terms: tuple[tuple[sp.Expr, Matrix], ...]  # (scalar function, vector)
-    homogeneous: Matrix
-    particular: Matrix
-    x: Matrix
+    y: Lazy[Matrix]
+    homogeneous_terms: Lazy[tuple[tuple[sp.Expr, Matrix], ...]]  # (scalar function, vector)
+    homogeneous: Lazy[Matrix]
+    particular: Lazy[Matrix]
+    x: Lazy[Matrix]
 
 
 @dataclass(frozen=True)
@@ -319,8 +328,8 @@ class RealFormPair(_Resolving):
     vector_im: Matrix
     complex_constants: tuple[sp.Expr, sp.Expr]
     real_constants: tuple[sp.Symbol, sp.Symbol]
-    real_part: Matrix  # Re(v e^{lam t}) (times the chain polynomial, if any)
-    imag_part: Matrix  # Im(v e^{lam t})
+    real_part: Lazy[Matrix]  # Re(v e^{lam t}) (times the chain polynomial, if any)
+    imag_part: Lazy[Matrix]  # Im(v e^{lam t})
 
 
 @dataclass(frozen=True)
@@ -376,10 +385,10 @@ class IntervalStep(Step):
     start: sp.Expr
     end: sp.Expr | None
     f: Matrix
-    g: Matrix
+    g: Lazy[Matrix]
     x_start: Matrix
-    y_start: Matrix
-    y: Matrix
+    y_start: Lazy[Matrix]
+    y: Lazy[Matrix]
     x: Matrix
     x_end: Matrix | None
     method: str
@@ -446,16 +455,16 @@ class SteadyStateStep(Step):
     stability: str
     forcing: Matrix
     constant: Matrix | None
-    x_constant: Matrix | None
+    x_constant: Lazy[Matrix | None]
     omega: sp.Expr | None
-    phasor_in: Matrix | None
-    phasor: Matrix | None
-    amplitude: tuple[sp.Expr, ...]
-    phase: tuple[sp.Expr, ...]
-    x_ss: Matrix
-    transient: Matrix
+    phasor_in: Lazy[Matrix | None]
+    phasor: Lazy[Matrix | None]
+    amplitude: Lazy[tuple[sp.Expr, ...]]
+    phase: Lazy[tuple[sp.Expr, ...]]
+    x_ss: Lazy[Matrix]
+    transient: Lazy[Matrix]
     since: sp.Expr | None
-    residual_zero: bool
+    residual_zero: Lazy[bool]
 
 
 STEP_KINDS: tuple[type[Step], ...] = (

@@ -154,8 +154,8 @@ def parse_sweep(
             items.append(SweepValue(parameter=name, value=expr, label=_label(v), key=vkey))
         out.append(tuple(items))
     count = 1
-    for items in out:
-        count *= len(items)
+    for group in out:
+        count *= len(group)
     if count > MAX_SWEEP_CASES:
         raise LimitError(
             f"[sweep] makes {count} cases, more than the limit of {MAX_SWEEP_CASES} per file",

@@ -70,6 +70,7 @@ class CheckItem:
 class CheckReport:
     """All checked items, in derivation order.
 
+    >>> from derive.check import check
     >>> rep = check([[2, 0], [0, -1]], eigenvalues=[-1, 2])
     >>> rep.ok, rep.exit_code, rep.first_failure is None
     (True, 0, True)

@@ -326,7 +326,7 @@ def check_P(
         diag = [D[i, i] for i in range(n)]
         cols = [_column_eigenvalue(A, P[:, j]) for j in range(n)]
         if all(c is not None for c in cols) and D.is_diagonal():
-            perm = _match_permutation(cols, diag)  # type: ignore[arg-type]
+            perm = _match_permutation(cols, diag)
             if perm is not None:
                 expected = sp.ImmutableMatrix.hstack(*[P[:, perm[j]] for j in range(n)])
                 detail = (

@@ -104,7 +104,7 @@ class RootName:
 
     def polynomial(self, lam: sp.Symbol) -> sp.Expr:
         """The root's defining polynomial written in ``lam``."""
-        return self.root.poly.as_expr(lam)  # type: ignore[attr-defined]
+        return self.root.poly.as_expr(lam)
 
 
 def _walk(obj: Any) -> Iterable[sp.Basic]:
@@ -321,8 +321,8 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
             return r"\lambda_{%d}" % number
         # Not named by the sheet (a caller printing on its own): say it in full.
         return r"\left[\text{root } %d \text{ of } %s = 0\right]" % (
-            root.index,  # type: ignore[attr-defined]
-            self._print(root.expr),  # type: ignore[attr-defined]
+            root.index,
+            self._print(root.expr),
         )
 
 
@@ -373,7 +373,7 @@ class PlainPrinter(_RootStandIns, StrPrinter):
         number = self._settings["root_names"].get(root)
         if number is not None:
             return ("λ_%d" if self._settings["greek_letters"] else "lambda_%d") % number
-        return "[root %d of %s = 0]" % (root.index, self._print(root.expr))  # type: ignore[attr-defined]
+        return "[root %d of %s = 0]" % (root.index, self._print(root.expr))
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
         return "e"
@@ -787,7 +787,7 @@ def root_legend_rows(roots: Sequence[RootName]) -> list[tuple[sp.Expr, tuple[Roo
     groups: dict[Any, list[RootName]] = {}
     polys: dict[Any, sp.Expr] = {}
     for r in roots:
-        key = r.root.poly  # type: ignore[attr-defined]
+        key = r.root.poly
         groups.setdefault(key, []).append(r)
         polys[key] = r.root
     return [(polys[k], tuple(v)) for k, v in groups.items()]

@@ -111,12 +111,12 @@ def convolution_piece(
             parts = [("c", sp.cos(b * sigma))] + ([("s", sp.sin(b * sigma))] if b != 0 else [])
             out = _ZERO
             for name, osc in parts:
-                key = (l, k, a, b, name)
-                if key not in base:
+                part_key = (l, k, a, b, name)
+                if part_key not in base:
                     ph = sp.Dummy(f"K{len(base)}", real=True)
-                    base[key] = (ph, sp.Integral(poly * damp * (osc if b != 0 else 1) * fl, (s, start, t)))
+                    base[part_key] = (ph, sp.Integral(poly * damp * (osc if b != 0 else 1) * fl, (s, start, t)))
                 # e^{-i b sigma} = cos(b sigma) - i sin(b sigma)
-                out += base[key][0] * (1 if name == "c" else -sp.I * flip)
+                out += base[part_key][0] * (1 if name == "c" else -sp.I * flip)
             return out
         key = (l, k, lam)
         if key not in base:
@@ -183,7 +183,8 @@ def convolution_piece(
     adjusted: list[Step] = []
     for step in rec_h.steps:
         if isinstance(step, RecombineStep):
-            step = replace(step, y=Matrix(y_full), particular=x_p, x=Matrix([a + b for a, b in zip(step.homogeneous, x_p)]))
+            homogeneous: Matrix = step.homogeneous  # a Lazy field reads as its value
+            step = replace(step, y=Matrix(y_full), particular=x_p, x=Matrix([a + b for a, b in zip(homogeneous, x_p)]))
         elif isinstance(step, RealFormStep):
             step = replace(step, particular=x_p)
         adjusted.append(step)

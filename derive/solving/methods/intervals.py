@@ -18,7 +18,7 @@ from ...expoly import ExpPoly, to_expoly
 from ...model import Condition
 from ...recombine import Recombined, recombine
 from ...scalar import ScalarResult, decouple, solve_blocks
-from ...steps import Deferred, Step, substitute
+from ...steps import Deferred, Lazy, Step, substitute
 from .base import Problem
 
 __all__ = ["Piece", "Local", "decoupled", "solve_local", "closed_piece", "group_terms"]
@@ -35,9 +35,9 @@ class Piece:
     """
 
     x: Matrix
-    y: Matrix | Deferred
-    g: Matrix | Deferred
-    y_start: Matrix | Deferred
+    y: Lazy[Matrix]
+    g: Lazy[Matrix]
+    y_start: Lazy[Matrix]
     method: str
     steps: tuple[Step, ...]
     conditions: tuple[Condition, ...]
@@ -142,7 +142,7 @@ def _y_start(P_inv: Matrix, x_start: Matrix) -> Matrix:
     return Matrix([sp.expand(v) for v in P_inv * x_start])
 
 
-def _y_shown(loc: Local, y_start: Deferred, constants: Sequence[sp.Symbol], t: sp.Symbol) -> Matrix:
+def _y_shown(loc: Local, y_start: Deferred[Matrix], constants: Sequence[sp.Symbol], t: sp.Symbol) -> Matrix:
     """y on the interval in t, with the constants y(start) put in."""
     values = dict(zip(constants, y_start.fn(*y_start.args)))
     tau = next(iter(loc.shift))
@@ -167,7 +167,8 @@ def group_terms(e: sp.Expr, t: sp.Symbol) -> sp.Expr:
     ex = sp.expand(sp.sympify(e, strict=True).xreplace(hold))
     groups: dict[sp.Expr, list[sp.Expr]] = {}
     for term in sp.Add.make_args(ex):
-        with_t, rest = [], []
+        with_t: list[sp.Expr] = []
+        rest: list[sp.Expr] = []
         for factor in sp.Mul.make_args(term):
             (with_t if (factor.has(t) or factor.free_symbols & timed) else rest).append(factor)
         groups.setdefault(sp.Mul(*with_t), []).append(sp.Mul(*rest))

@@ -20,6 +20,7 @@ import sympy as sp
 
 from ...errors import LimitError, UnsupportedError
 from ...forcing import decided_sign, impulse_weight, is_switched, resolve_on, switching_times
+from ...model import Condition
 from ...steps import DecoupleStep, IntervalStep, JumpStep, Step
 from ...verify.pieces import PieceRecord
 from .base import ForcingMethod, Pieces, Problem
@@ -75,17 +76,20 @@ class Switched(ForcingMethod):
         consts = problem.constants(real=True)
         t0 = system.t0
         times = switching_times(system.f, t)
+        placed: list[tuple[sp.Expr, int]] = []  # (switching time, sign of time - t0)
         for a in times:
-            if decided_sign(a - t0) is None:
+            sign = decided_sign(a - t0)
+            if sign is None:
                 raise UnsupportedError(
                     f"the switching time {a} cannot be placed relative to t0 = {t0}; give numeric times or declare signs",
                     key="system.forcing",
                 )
+            placed.append((a, sign))
         notices: list[str] = []
-        before = [a for a in times if decided_sign(a - t0) < 0]
+        before = [a for a, sign in placed if sign < 0]
         if any(any(e != 0 for e in impulse_weight(system.f, t, a)) for a in before):
             notices.append("impulses before t0 are outside the solution's range t >= t0 and have no effect on it")
-        inner = [a for a in times if decided_sign(a - t0) > 0]
+        inner = [a for a, sign in placed if sign > 0]
         limit = problem.settings.max_intervals
         if len(inner) + 1 > limit:
             raise LimitError(
@@ -94,7 +98,7 @@ class Switched(ForcingMethod):
                 key="system.forcing",
             )
         ivp = system.x0 is not None
-        x0 = system.x0 if ivp else Matrix(list(consts))
+        x0 = system.x0 if system.x0 is not None else Matrix(list(consts))
         if not ivp:
             notices.append(
                 "no initial values: the free constants are the state at t0, "
@@ -105,7 +109,7 @@ class Switched(ForcingMethod):
         ]
         bounds = [t0] + inner
         records: list[PieceRecord] = []
-        conditions = []
+        conditions: list[Condition] = []
         state = x0
         free: Matrix | None = None
         for k, a in enumerate(bounds):
