@@ -131,7 +131,8 @@ class Relation(str, Enum):
     NONPOSITIVE = "<= 0"
 
     __str__ = str.__str__
-    __format__ = str.__format__
+    def __format__(self, format_spec: str) -> str:
+        return str.__format__(self, format_spec)
 
 
 @dataclass(frozen=True)

@@ -337,8 +337,7 @@ def drop_input_calls(
         nxt = tokens[i + 1] if i + 1 < len(tokens) else None
         if tok.kind == "name" and tok.text in inputs and nxt is not None and nxt.text == "(":
             end = _closing(tokens, i + 1)
-            inside = [x.text for x in tokens[i + 2 : end]] if end is not None else None
-            if inside != [time]:
+            if end is None or [x.text for x in tokens[i + 2 : end]] != [time]:
                 column = tok.column + 1
                 written = text[tok.column : tokens[end].column + 1] if end is not None else text[tok.column :]
                 return tuple(out), Problem(

@@ -26,7 +26,7 @@ from .valuetext import show, type_name
 __all__ = ["UnitError", "REGISTRY", "parse_unit", "check_units", "term_unit"]
 
 #: One registry for the program: quantities from different registries cannot be compared.
-REGISTRY = pint.UnitRegistry()
+REGISTRY: pint.UnitRegistry = pint.UnitRegistry()
 
 
 class UnitError(CaseFileError):
