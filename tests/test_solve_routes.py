@@ -248,3 +248,17 @@ def test_convolution_with_complex_indexed_roots_stays_in_exponential_form():
     sol = solve_system(system, check=False, settings=replace(DEFAULT_SETTINGS, integrate_budget=0.0))
     assert not any(e.has(sp.re, sp.im) for e in sol.x)
     assert sol.verification.numeric is not None and sol.verification.numeric.ok
+
+
+def test_values_on_a_condition_of_the_derivation_are_reported_not_crashed_on():
+    # a spring-mass-damper whose given values are critically damped (c^2 = 4 k m): the
+    # symbolic P^-1 has no value there; the solve must say so, not fail inside the check
+    k, m, c = sp.symbols("k m c", positive=True)
+    sol = derive.solve([[0, 1], [-k / m, -c / m]], x0=[1, 0], params={k: 1, m: 1, c: 2})
+    assert sol.verification.ok
+    assert any("discriminant" in n and "is 0" in n for n in sol.notices)
+    # the symbolic result is the general one; its limit at the given values is the
+    # critically damped response (1 + t) e^{-t} (common practice: repeated root, x(0) = 1, x'(0) = 0)
+    at_values = sp.limit(sol.x[0].subs({k: 1, m: 1}), c, 2)
+    t = sol.t
+    assert sp.simplify(at_values - (1 + t) * sp.exp(-t)) == 0
