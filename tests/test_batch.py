@@ -274,9 +274,9 @@ def test_batch_isolates_failures_and_records_reasons(tmp_path):
 
 
 def test_a_worker_stuck_outside_the_alarm_is_killed_and_replaced(tmp_path):
-    # A short hard limit: 3 s for the case, 2 s for writing its outputs, 0.5 s of grace.
-    quick = replace(DEFAULT_SETTINGS, batch_grace=0.5, batch_write_seconds=2.0)
-    assert hard_limit(3, pdf=False, settings=quick) == 5.5
+    # A short hard limit: 3 s for the case, 2 s for writing its outputs, 0.5 s for its reading, 0.5 s of grace.
+    quick = replace(DEFAULT_SETTINGS, batch_grace=0.5, batch_write_seconds=2.0, batch_reading_seconds=0.5)
+    assert hard_limit(3, pdf=False, settings=quick) == 6.0
     report = batch([_case_with("stuck", _HangOnLoad()), ("next", {"A": [[-3]]})], jobs=1, timeout=3, settings=quick)
     assert report["stuck"].status == "timeout" and "worker was stopped" in report["stuck"].message
     assert report["next"].status == "ok"
