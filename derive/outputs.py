@@ -105,10 +105,15 @@ def _spec_from_texts(
         else:
             if isinstance(value, bool) or not isinstance(value, (str, int, float)):
                 raise error(key, f"{key} is {type_name(value)} ({show(value)}); " + _expected(states, u_syms) + ', e.g. "k*(x1 - x2)"')
-            expr, _ = parse_expression(
-                value, symbols=symbols, key=key, file=file, limits=limits, states=(), t=t,
-                inputs=[s.name for s in u_syms],
-            )
+            try:
+                expr, _ = parse_expression(
+                    value, symbols=symbols, key=key, file=file, limits=limits, states=(), t=t,
+                    inputs=[s.name for s in u_syms],
+                )
+            except InputError as err:
+                # the parser says what is wrong with the text; the output adds what it must be
+                err.message = f"{err.message} in {where}; " + _expected(states, u_syms)
+                raise
             text = str(value)
         if t in expr.free_symbols:
             raise error(key, f"{key} = {show(value)} depends on {t.name} itself in {where}; " + _expected(states, u_syms))
@@ -161,7 +166,7 @@ def read_outputs(
         )
     for k in raw:
         if k not in MATRIX_KEYS:
-            raise error(f"outputs.{k}", f"[outputs] gives C or D, so every key must be one of {', '.join(MATRIX_KEYS)}; found {k!r}",
+            raise error(f"outputs.{k}", f"[outputs] gives C or D, so every key is expected to be one of {', '.join(MATRIX_KEYS)}; found {k!r}",
                         hint="write either name = \"expression\" lines or the matrices C and D, not both")
     if "C" not in raw:
         raise error("outputs.C", "[outputs] gives D but not C; expected both (C multiplies the states)")

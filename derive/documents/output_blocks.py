@@ -12,7 +12,7 @@ import sympy as sp
 
 from ..model import Solution
 from ..render.printing import MathFormatter
-from .blocks import Block, Eq, Heading, Items, Math, N, Name, P
+from .blocks import Block, Eq, Heading, Inline, Math, N, Name, P
 
 __all__ = ["values_blocks", "output_blocks", "output_rows", "result_rows"]
 
@@ -24,8 +24,7 @@ def values_blocks(s: Any, c: Any) -> list[Block]:
     out: list[Block] = [
         Heading(3, "Parameter values put into the algebra"),
         P("As asked for, the declared parameter values are put into the system before the decomposition, "
-          "so the derivation that follows is exact and numeric:"),
-        Items(tuple((Math(p), " = ", Math(v)) for p, v in s.values)) if s.values else P("(no parameter is used)"),
+          "so the derivation that follows is exact and numeric: ", *_listed(s.values), "."),
     ]
     rows: list[tuple[Name, Any]] = [(N("A", "A"), s.A)]
     if s.f != s.f_symbolic or any(e != 0 for e in s.f):
@@ -34,6 +33,16 @@ def values_blocks(s: Any, c: Any) -> list[Block]:
         rows.append((N("x_0", "x0"), s.x0))
     out += [P("With them:", runs_on=True), Eq(tuple(rows))]
     return out
+
+
+def _listed(values: tuple[tuple[sp.Symbol, sp.Expr], ...]) -> list[Inline]:
+    """``k = 4, m = 1`` as inline parts (or a word when no parameter is used)."""
+    if not values:
+        return ["no parameter is used"]
+    parts: list[Inline] = []
+    for i, (p, v) in enumerate(values):
+        parts += [", " if i else "", Math(sp.Eq(p, v, evaluate=False))]
+    return [x for x in parts if x != ""]
 
 
 def output_blocks(s: Any, c: Any) -> list[Block]:
