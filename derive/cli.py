@@ -70,6 +70,9 @@ def _summary(sol) -> None:
         click.echo("A is not diagonalisable: the Jordan form is used")
     for name, expr in zip(names, sol.x):
         click.echo(f"  {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
+    if sol.outputs is not None:
+        for name, expr in zip(sol.outputs.names, sol.outputs.y):
+            click.echo(f"  output {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
     v = sol.verification
     status = "verified" if v.ok else "VERIFICATION FAILED"
     parts = [f"residual: {'zero' if v.residual_zero else 'NOT zero'} ({v.residual_method})"]

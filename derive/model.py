@@ -35,8 +35,8 @@ class Parameter:
     """A declared symbolic parameter.
 
     ``symbol`` carries the sympy assumptions (positive, real, ...).  ``value``
-    is an exact number used only for numeric checks and plots, never in the
-    algebra.  ``unit`` and ``description`` are for the sheet's input table.
+    is an exact number used for numeric checks and plots, and in the algebra
+    only when substitution is asked for (``System.substituted``).  ``unit`` and ``description`` are for the sheet's input table.
     """
 
     symbol: sp.Symbol

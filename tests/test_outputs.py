@@ -105,6 +105,7 @@ def test_outputs_on_every_sheet_format(tmp_path: Path) -> None:
     res = run(["solve", str(path), "-o", str(tmp_path), "--no-pdf", "--format", "text", "--format", "markdown",
                "--format", "latex", "--format", "json"])
     assert res.exit_code == 0, res.output
+    assert "output spring_force(t) = " in res.output
     text = (tmp_path / "carts.txt").read_text()
     result = text[text.index("RESULT"):text.index("VERIFICATION")]
     assert "spring_force(t) =" in result
@@ -116,6 +117,7 @@ def test_outputs_on_every_sheet_format(tmp_path: Path) -> None:
 
     record = json.loads((tmp_path / "carts.json").read_text())
     assert record["steps"][-1]["kind"] == "outputs"
+    assert record["outputs"]["names"] == ["spring_force"] and record["outputs"]["verified"] is True
 
 
 BAD = [

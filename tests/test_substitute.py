@@ -7,6 +7,7 @@ The systems are small scenarios made up for this file.
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import pytest
@@ -94,11 +95,13 @@ def test_case_key_and_override_both_work() -> None:
 def test_the_inputs_say_where_the_values_went(tmp_path: Path) -> None:
     path = tmp_path / "mount.toml"
     path.write_text(CASE)
-    sub = run(["solve", str(path), "-o", str(tmp_path / "a"), "--no-pdf", "--format", "text", "--format", "latex", "--substitute"])
+    sub = run(["solve", str(path), "-o", str(tmp_path / "a"), "--no-pdf", "--format", "text", "--format", "latex", "--format", "json",
+               "--substitute"])
     assert sub.exit_code == 0, sub.output
     text = (tmp_path / "a" / "mount.txt").read_text()
     assert "Parameters (values put into the algebra before the decomposition):" in text
     assert "k = 8 N/m" in text and "Parameter values put into the algebra" in text
+    assert json.loads((tmp_path / "a" / "mount.json").read_text())["system"]["substituted"] is True
     tex = (tmp_path / "a" / "mount.tex").read_text()
     assert "the values are put into the algebra before the decomposition" in tex
     plain = run(["solve", str(path), "-o", str(tmp_path / "b"), "--no-pdf", "--format", "text"])

@@ -49,12 +49,18 @@ def output_blocks(s: Any, c: Any) -> list[Block]:
     """The outputs step: the outputs as asked for, C and D, u(t), and y(t) = C x(t) + D u(t)."""
     f = c.fmt
     T, Tp = f.m(s.t), f.plain(s.t)
+    if len(s.inputs) > 1:
+        u_is: list[Inline] = [" with the input vector ", N(f"u = ({c.m_list(s.inputs)})^{{T}}", f"u = ({c.plain_list(s.inputs)})^T")]
+    elif s.inputs:
+        u_is = [" with u the declared input"]
+        if s.inputs[0].name != "u":
+            u_is += [" ", Math(s.inputs[0])]
+    else:
+        u_is = [" with ", N(f"u = f({T})", f"u = f({Tp})"), ", the forcing"]
     out: list[Block] = [
         Heading(3, "Outputs"),
         P("The outputs are linear combinations of the states", " and the inputs" if s.inputs else "",
-          ", so they are written ", N(rf"y = C\,x + D\,u", "y = C x + D u"),
-          " with ", N("u = " + (f"({c.m_list(s.inputs)})^{{T}}" if s.inputs else f"f({T})"),
-                       "u = " + (f"({c.plain_list(s.inputs)})^T" if s.inputs else f"f({Tp})")), ":"),
+          ", so they are written ", N(rf"y = C\,x + D\,u", "y = C x + D u"), *u_is, ":"),
     ]
     if any(w is not None for w in s.written):
         out.append(Eq(tuple(_named(f, n, w) for n, w in zip(s.names, s.written) if w is not None)))

@@ -265,6 +265,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
             "x0": _column(system.x0),
             "t0": str(system.t0),
             "equations": list(system.equations),
+            "substituted": system.substituted,
             "parameters": [
                 {
                     "name": p.name,
@@ -307,6 +308,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
         "steps": [
             {"kind": step.kind, "fields": to_json_value(step)} for step in solution.steps
         ],
+        "outputs": to_json_value(solution.outputs),
     }
 
 

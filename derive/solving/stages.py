@@ -149,7 +149,7 @@ def solve_case(
     chosen = options.substitute if substitute is None else bool(substitute)
 
     def missing(p: sp.Symbol) -> InputError:
-        how = "--substitute" if substitute else '[solve] values = "substitute"'
+        how = "substitution (--substitute)" if substitute else '[solve] values = "substitute"'
         return CaseFileError(
             f"the parameter {p.name} has no value; {how} puts every parameter's value into the algebra",
             file=case.source, key=f"parameters.{p.name}.value",
