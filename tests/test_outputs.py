@@ -150,3 +150,18 @@ def test_bad_api_outputs_name_the_key() -> None:
     with pytest.raises(derive.InputError) as err:
         derive.solve([[-1]], x0=[1], outputs={"sq": "x_1^2"})
     assert err.value.key == "outputs[sq]" and "not linear" in str(err.value)
+
+
+def test_a_sweep_puts_its_values_into_the_outputs_too() -> None:
+    from derive.casefile import loads_cases
+
+    text = TWO_CARTS.replace("value = 2\n", "") + '[outputs]\npull = "k*(x1 - x2)"\n[sweep]\nk = [2, 8]\n'
+    cases = loads_cases(text, name="carts")
+    pulls = []
+    for case, value in zip(cases, (2, 8)):
+        sol = derive.solve_case(case)
+        assert sol.outputs.C == sp.Matrix([[value, 0, -value, 0]])
+        _equals_cx_du(sol)
+        pulls.append(sol.outputs["pull"].subs(sol.t, 0))
+    # the stiffer spring pulls at t = 0 with the same stretch (1) but four times the force
+    assert pulls == [2, 8]
