@@ -26,6 +26,7 @@ import sympy as sp
 from .equations import parse_equations, split_equation
 from .tomltext import decode_toml
 from .inputs import Input, input_notices, read_inputs, substitute_inputs
+from .casesections import read_sections
 from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
@@ -54,7 +55,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep", "solve", "outputs")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -677,7 +678,7 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         params=tuple(params),
         equations=equations,
     )
-    return Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices))
+    return read_sections(Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices)), data, inputs=inputs, file=ctx.file, limits=ctx.limits)
 
 
 def case_name(raw: str, *, file: str | None = None) -> str:

@@ -70,6 +70,9 @@ def _summary(sol) -> None:
         click.echo("A is not diagonalisable: the Jordan form is used")
     for name, expr in zip(names, sol.x):
         click.echo(f"  {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
+    if sol.outputs is not None:
+        for name, expr in zip(sol.outputs.names, sol.outputs.y):
+            click.echo(f"  output {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
     v = sol.verification
     status = "verified" if v.ok else "VERIFICATION FAILED"
     parts = [f"residual: {'zero' if v.residual_zero else 'NOT zero'} ({v.residual_method})"]
@@ -92,6 +95,7 @@ def _solve_and_write(
     timeout: float,
     stem: str | None,
     relations: Sequence[str] = (),
+    substitute: bool | None = None,
 ) -> int:
     from .output import write_outputs
     from .pipeline import solve_case
@@ -99,7 +103,7 @@ def _solve_and_write(
     code = EXIT_OK
     with time_limit(timeout, what=f"case {case.name!r}"):
         try:
-            sol = solve_case(case, assume=list(relations) or None)
+            sol = solve_case(case, assume=list(relations) or None, substitute=substitute)
         except VerificationError as err:
             if err.solution is None:
                 raise
@@ -142,6 +146,15 @@ _timeout_option = click.option(
     show_default=True,
     help="Seconds allowed for solving one case (0: no limit).",
 )
+_substitute_option = click.option(
+    "--substitute/--symbolic",
+    "substitute",
+    default=None,
+    help="Put the parameter values into the algebra before the decomposition (a numeric derivation), or keep "
+    "the parameters as symbols (values only in the checks); default: the case file's [solve] values, else symbolic.",
+)
+
+
 def _folder_option(default: str = "out", help: str = "Output folder."):
     return click.option(
         "-o",
@@ -172,6 +185,7 @@ _out_option = _folder_option()
     "the sheet lists), or in a regime, e.g. --case 'c^2 < 4*k*m' (complex pair: sines "
     "and cosines); the output name gets a '-case-' suffix naming the relation, so each case keeps its own sheet. Repeatable.",
 )
+@_substitute_option
 def solve(
     case_file: Path,
     out_dir: Path,
@@ -179,6 +193,7 @@ def solve(
     pdf: bool | None,
     timeout: float,
     relations: tuple[str, ...],
+    substitute: bool | None,
 ) -> None:
     """Solve CASE_FILE (TOML) and write its calculation sheet into the output folder."""
 
@@ -190,7 +205,7 @@ def solve(
         case = load_case(case_file)
         stem = relation_name(case.name, relations) if relations else None
         try:
-            return _solve_and_write(case, out_dir, formats, pdf, timeout, stem, relations)
+            return _solve_and_write(case, out_dir, formats, pdf, timeout, stem, relations, substitute)
         except InputError as err:
             # a --case relation or regime, or a refusal of the solver, names the case file too
             if err.key and err.key.startswith("assume"):
@@ -267,6 +282,7 @@ def new(name: str, out_dir: Path, force: bool) -> None:
     default=None,
     help="Run on the Dask cluster at ADDRESS (needs the 'cluster' extra), e.g. tcp://127.0.0.1:8786.",
 )
+@_substitute_option
 def batch_command(
     paths: tuple[Path, ...],
     out_dir: Path,
@@ -276,6 +292,7 @@ def batch_command(
     pdf: bool | None,
     force: bool,
     scheduler: str | None,
+    substitute: bool | None,
 ) -> None:
     """Solve every case in PATHS (case files, or folders searched for *.toml), each in its own
     worker with its own time limit; write the sheets, summary.csv, summary.json and an index."""
@@ -294,6 +311,7 @@ def batch_command(
             scheduler=scheduler,
             progress=None,
             keep_solutions=False,
+            substitute=substitute,
         )
         for r in report.results:
             if not r.ok:

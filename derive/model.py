@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING
 import sympy as sp
 
 if TYPE_CHECKING:  # pragma: no cover
+    from .options import Outputs, SolveOptions
     from .steps import Step
 
 __all__ = [
@@ -34,8 +35,8 @@ class Parameter:
     """A declared symbolic parameter.
 
     ``symbol`` carries the sympy assumptions (positive, real, ...).  ``value``
-    is an exact number used only for numeric checks and plots, never in the
-    algebra.  ``unit`` and ``description`` are for the sheet's input table.
+    is an exact number used for numeric checks and plots, and in the algebra
+    only when substitution is asked for (``System.substituted``).  ``unit`` and ``description`` are for the sheet's input table.
     """
 
     symbol: sp.Symbol
@@ -65,6 +66,7 @@ class System:
     t0: sp.Expr = sp.Integer(0)
     params: tuple[Parameter, ...] = ()
     equations: tuple[str, ...] = ()
+    substituted: bool = False  # the parameter values were put into A, f, x0 before the decomposition
 
     @property
     def n(self) -> int:
@@ -112,6 +114,7 @@ class Case:
     source: str | None = None
     source_hash: str = ""
     notices: tuple[str, ...] = ()
+    options: SolveOptions | None = None  # [solve] and [outputs] (derive.options)
 
 
 class Relation(str, Enum):
@@ -229,6 +232,7 @@ class Solution:
     conditions: tuple[Condition, ...] = ()
     notices: tuple[str, ...] = ()
     case: Case | None = None
+    outputs: Outputs | None = None  # y = C x + D u, when outputs were asked for (derive.options)
 
     @property
     def ok(self) -> bool:

@@ -69,6 +69,8 @@ class Settings:
     batch_tex_seconds: float = 120.0
     #: numeric check: digits of the repeat at high precision when double precision is limited by round-off
     numeric_hp_digits: int = 30
+    #: batches: seconds for the engineering reading of one case (stability, time constant, final values, peaks)
+    batch_reading_seconds: float = 10.0
 
 
 DEFAULT_SETTINGS = Settings()

@@ -48,6 +48,8 @@ __all__ = [
     "JumpStep",
     "ConvolutionStep",
     "SteadyStateStep",
+    "ValuesStep",
+    "OutputStep",
     "STEP_KINDS",
 ]
 
@@ -487,3 +489,47 @@ STEP_KINDS: tuple[type[Step], ...] = (
     ConvolutionStep,
     SteadyStateStep,
 )
+
+
+@dataclass(frozen=True)
+class ValuesStep(Step):
+    """The declared parameter values put into A, f and x0 before the decomposition (on request).
+
+    ``values`` pairs each parameter with its exact value; the ``*_symbolic``
+    fields are the system as written (after any relation), the others with
+    the values in.
+    """
+
+    kind: ClassVar[str] = "values"
+    t: sp.Symbol
+    values: tuple[tuple[sp.Symbol, sp.Expr], ...]
+    A_symbolic: Matrix
+    f_symbolic: Matrix
+    x0_symbolic: Matrix | None
+    A: Matrix
+    f: Matrix
+    x0: Matrix | None
+
+
+@dataclass(frozen=True)
+class OutputStep(Step):
+    """Outputs y = C x + D u from the solution x(t): ``written`` as the case gave them (None: a row of C, D), ``y`` the result.
+
+    ``inputs`` are the names of u (the declared inputs); empty when u is the
+    forcing vector f.  ``method`` says how y - (C x + D u) = 0 was settled.
+    """
+
+    kind: ClassVar[str] = "outputs"
+    t: sp.Symbol
+    states: tuple[sp.Symbol, ...]
+    names: tuple[sp.Symbol, ...]
+    written: tuple[sp.Expr | None, ...]
+    C: Matrix
+    D: Matrix
+    inputs: tuple[sp.Symbol, ...]
+    u: Matrix
+    y: Matrix
+    method: str
+
+
+STEP_KINDS += (ValuesStep, OutputStep)

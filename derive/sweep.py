@@ -178,7 +178,8 @@ def _substitute(base: Case, combo: tuple[SweepValue, ...]) -> Case:
     said = ", ".join(f"{v.parameter} = {sp.sstr(v.value)}" for v in combo)
     line = f"This case is one combination of a parameter sweep declared in the case file: {said}."
     meta = replace(base.meta, notes=f"{base.meta.notes}\n\n{line}" if base.meta.notes else line)
-    return replace(base, name=sweep_name(base.name, combo), system=system, meta=meta)
+    options = None if base.options is None else base.options.xreplace(rep)
+    return replace(base, name=sweep_name(base.name, combo), system=system, meta=meta, options=options)
 
 
 def expand_sweep(

@@ -9,6 +9,7 @@ from __future__ import annotations
 import csv
 import ctypes
 import json
+import math
 import os
 import signal
 import subprocess
@@ -274,9 +275,9 @@ def test_batch_isolates_failures_and_records_reasons(tmp_path):
 
 
 def test_a_worker_stuck_outside_the_alarm_is_killed_and_replaced(tmp_path):
-    # A short hard limit: 3 s for the case, 2 s for writing its outputs, 0.5 s of grace.
-    quick = replace(DEFAULT_SETTINGS, batch_grace=0.5, batch_write_seconds=2.0)
-    assert hard_limit(3, pdf=False, settings=quick) == 5.5
+    # A short hard limit: 3 s for the case, 2 s for writing its outputs, 0.5 s for its reading, 0.5 s of grace.
+    quick = replace(DEFAULT_SETTINGS, batch_grace=0.5, batch_write_seconds=2.0, batch_reading_seconds=0.5)
+    assert hard_limit(3, pdf=False, settings=quick) == 6.0
     report = batch([_case_with("stuck", _HangOnLoad()), ("next", {"A": [[-3]]})], jobs=1, timeout=3, settings=quick)
     assert report["stuck"].status == "timeout" and "worker was stopped" in report["stuck"].message
     assert report["next"].status == "ok"
@@ -454,3 +455,97 @@ def test_a_case_that_cannot_be_sent_to_a_worker_is_recorded_and_the_others_run()
     report = batch([_case_with("unsendable", lambda: None), ("next", {"A": [[-2]]})], jobs=1)
     assert report["unsendable"].status == "error" and "cannot be sent to a worker" in report["unsendable"].message
     assert report["next"].status == "ok" and report.exit_code == 1
+
+
+# ---------------------------------------------------------------------------
+# The reading in the summary: stability, slowest time constant, final values, peaks
+# ---------------------------------------------------------------------------
+
+LAG = """
+[system]
+states = ["T"]
+matrix = [[-2]]
+forcing = [2]
+[initial]
+values = [0]
+"""
+
+# x'' + 2 x' + 5 x = 5: zeta = 1/sqrt(5), omega_d = 2, final value 1
+RINGING = """
+[system]
+states = ["x", "v"]
+matrix = [[0, 1], [-5, -2]]
+forcing = [0, 5]
+[initial]
+values = [0, 0]
+"""
+
+SYMBOLIC_LAG = """
+[system]
+states = ["T"]
+matrix = [["-k"]]
+forcing = ["k"]
+[initial]
+values = [0]
+[parameters.k]
+assume = ["positive"]
+"""
+
+
+def test_summary_gains_stability_time_constant_final_values_and_peaks(tmp_path):
+    inputs = _write(tmp_path / "in", {"lag.toml": LAG, "ringing.toml": RINGING, "symbolic.toml": SYMBOLIC_LAG})
+    out = tmp_path / "out"
+    report = batch([inputs], jobs=1, out_dir=out, keep_solutions=False)
+    assert report.exit_code == 0, [r.message for r in report.results]
+    lag, ringing, symbolic = report["lag"], report["ringing"], report["symbolic"]
+    # common practice: T' = -T/tau + u has tau = 1/2 here and settles at the steady state -A^-1 f = 1
+    assert lag.stability == "asymptotically stable" and lag.slowest_time_constant == 0.5
+    assert lag.final_values == (("T", 1.0),) and lag.peaks == ()  # a first-order lag never overshoots
+    # from memory: K. Ogata, Modern Control Engineering, 5th ed., sec. 5-3: peak time pi/omega_d and
+    # maximum overshoot exp(-zeta pi / sqrt(1 - zeta^2)) of an underdamped second-order step response
+    peak = dict((name, (when, value)) for name, when, value in ringing.peaks)
+    assert ringing.slowest_time_constant == 1.0
+    assert peak["x"][0] == pytest.approx(math.pi / 2, rel=1e-9)
+    assert peak["x"][1] == pytest.approx(1 + math.exp(-math.pi / 2), rel=1e-9)
+    assert dict(ringing.final_values) == {"x": 1.0, "v": 0.0}
+    # with a symbol and no value: the class and the time constant in k, no figures over time
+    assert symbolic.stability == "asymptotically stable" and symbolic.slowest_time_constant == "1/k"
+    assert symbolic.final_values == () and symbolic.peaks == ()
+
+    with open(out / "summary.csv", newline="") as fh:
+        rows = {r["case"]: r for r in csv.DictReader(fh)}
+    assert rows["lag"]["stability"] == "asymptotically stable" and rows["lag"]["slowest_time_constant"] == "0.5"
+    assert rows["lag"]["final_values"] == "T = 1" and rows["lag"]["peaks"] == ""
+    assert rows["ringing"]["peaks"].startswith("x = 1.20788 at t = 1.5708")
+    assert rows["symbolic"]["final_values"] == "" and rows["symbolic"]["slowest_time_constant"] == "1/k"
+    data = {c["case"]: c for c in json.loads((out / "summary.json").read_text())["cases"]}
+    assert data["ringing"]["final_values"] == {"x": 1.0, "v": 0.0}
+    assert data["ringing"]["peaks"]["x"]["time"] == pytest.approx(math.pi / 2, rel=1e-9)
+    assert data["symbolic"]["peaks"] == {} and data["lag"]["slowest_time_constant"] == 0.5
+    # the cache gives the same record back
+    again = batch([inputs], jobs=1, out_dir=out)
+    assert again["ringing"].cached and again["ringing"].peaks == ringing.peaks
+
+
+def test_a_reading_that_fails_leaves_its_columns_blank():
+    from derive.batch.records import reading_figures
+
+    sol = solve([[-2]], [2], x0=[0])
+    assert reading_figures(sol, seconds=30)["final_values"] == (("x_1", 1.0),)
+    # a record the reading cannot read (no system): blank columns, no exception
+    assert reading_figures(replace(sol, system=None), seconds=30) == {}
+    assert CaseResult("a", "ok").row()["final_values"] == {} and CaseResult("a", "ok").stability == ""
+
+
+def test_batch_substitute_puts_the_values_into_every_case(tmp_path):
+    text = SYMBOLIC_LAG.replace('assume = ["positive"]', 'assume = ["positive"]\nvalue = 4')
+    inputs = _write(tmp_path / "in", {"lag.toml": text})
+    res = CliRunner().invoke(cli, ["batch", str(inputs), "-o", str(tmp_path / "o"), "--no-pdf", "-j", "1", "--substitute"])
+    assert res.exit_code == 0, res.output
+    row = json.loads((tmp_path / "o" / "summary.json").read_text())["cases"][0]
+    assert row["eigenvalues"] == ["-4"] and row["slowest_time_constant"] == 0.25
+    symbolic = batch([inputs], jobs=1, out_dir=tmp_path / "s")
+    assert symbolic["lag"].eigenvalues == ("-k",)
+    # the choice is part of the cache key
+    case = load_case(inputs / "lag.toml")
+    assert case_key(case, formats=("latex",), pdf=False, substitute=True) != case_key(case, formats=("latex",), pdf=False)

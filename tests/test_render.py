@@ -59,6 +59,8 @@ from derive.steps import (
     JumpStep,
     ConvolutionStep,
     SteadyStateStep,
+    ValuesStep,
+    OutputStep,
 )
 
 M = sp.ImmutableMatrix
@@ -172,6 +174,8 @@ def sample_steps() -> dict[str, Step]:
             x_ss=M([1 + sp.cos(t) / 10 + 3 * sp.sin(t) / 10, 3 * sp.cos(t) / 10 - sp.sin(t) / 10]),
             transient=M([-sp.exp(-t), sp.exp(-t)]), since=None, residual_zero=True,
         ),
+        "values": ValuesStep(t=t, values=((k, sp.Integer(2)),), A_symbolic=M([[0, 1], [-k, -3]]), f_symbolic=F, x0_symbolic=None, A=A, f=F, x0=None),
+        "outputs": OutputStep(t=t, states=(x1, x2), names=(sp.Symbol("y_1"),), written=(x1 + x2,), C=M([[1, 1]]), D=M([[0, 0]]), inputs=(), u=F, y=M([X[0] + X[1]]), method="exact"),
     }
 
 
@@ -195,6 +199,8 @@ HEADINGS = {
     "jump": "Impulse at",
     "convolution": "Convolution form for",
     "steady_state": "Steady state and transient",
+    "values": "Parameter values put into the algebra",
+    "outputs": "Outputs",
 }
 
 

@@ -59,6 +59,7 @@ def batch(
     progress: bool | None = None,
     keep_solutions: bool = True,
     settings: Settings = DEFAULT_SETTINGS,
+    substitute: bool | None = None,
 ) -> BatchReport:
     """Solve many cases, each in its own worker under its own time limit.
 
@@ -72,6 +73,9 @@ def batch(
     when latexmk is available.  ``scheduler`` is a Dask scheduler address.
     ``settings`` holds the grace period and the writing allowance of the
     hard limit per case (:func:`derive.batch.task.hard_limit`).
+    ``substitute`` puts every case's parameter values into the algebra
+    (True), keeps them symbolic (False), or follows each case file's
+    ``[solve] values`` (None).
 
     >>> report = batch([("decay", {"A": [[-1]], "x0": [1]})], jobs=1)  # doctest: +SKIP
     >>> report.exit_code, report["decay"].solution.x[0]                # doctest: +SKIP
@@ -104,7 +108,7 @@ def batch(
         if e.failure is not None or e.case is None:
             done(i, e.failure or CaseResult(name=e.name, status=Status.ERROR, message="no case"), (), save=False)
             continue
-        keys[i] = case_key(e.case, formats=formats, pdf=want_pdf) if folder is not None else ""
+        keys[i] = case_key(e.case, formats=formats, pdf=want_pdf, substitute=substitute) if folder is not None else ""
         reuse = None if force else store.reuse(e.name, keys[i])
         if reuse is not None:
             done(i, reuse, (), save=False)
@@ -118,6 +122,7 @@ def batch(
             keep_solution=keep_solutions,
             collect=scheduler is not None and folder is not None,
             settings=settings,
+            substitute=substitute,
         )
         # Pickled once, here: a case that cannot be pickled is this case's error, not the pool's.
         try:

@@ -12,7 +12,7 @@ import sympy as sp
 
 from ..model import Solution
 
-__all__ = ["Status", "STATUSES", "CaseResult", "BatchReport", "spectrum_kind", "solution_figures"]
+__all__ = ["Status", "STATUSES", "CaseResult", "BatchReport", "spectrum_kind", "solution_figures", "reading_figures"]
 
 
 class Status(StrEnum):
@@ -60,6 +60,13 @@ class CaseResult:
     cached: bool = False
     key: str = ""
     solution: Solution | None = field(default=None, compare=False, repr=False)
+    #: the engineering reading (blank when not available): stability class, the slowest time
+    #: constant (a number, or its expression with symbolic parameters), and per state
+    #: (name, final value) and (name, time of the peak, value at the peak)
+    stability: str = ""
+    slowest_time_constant: float | str | None = None
+    final_values: tuple[tuple[str, float | None], ...] = ()
+    peaks: tuple[tuple[str, float, float], ...] = ()
 
     def __post_init__(self) -> None:
         # An unknown status text fails here, where the record is made, not in the summary.
@@ -75,6 +82,8 @@ class CaseResult:
         out["status"] = self.status.value
         out["eigenvalues"] = list(self.eigenvalues)
         out["outputs"] = list(self.outputs)
+        out["final_values"] = {name: value for name, value in self.final_values}
+        out["peaks"] = {name: {"time": when, "value": value} for name, when, value in self.peaks}
         return {"case": out.pop("name"), **out}
 
     @classmethod
@@ -84,6 +93,8 @@ class CaseResult:
         data["name"] = data.pop("case")
         data["eigenvalues"] = tuple(data.get("eigenvalues", ()))
         data["outputs"] = tuple(data.get("outputs", ()))
+        data["final_values"] = tuple((k, v) for k, v in dict(data.get("final_values") or {}).items())
+        data["peaks"] = tuple((k, v["time"], v["value"]) for k, v in dict(data.get("peaks") or {}).items())
         known = {f.name for f in fields(cls)}
         return cls(**{k: v for k, v in data.items() if k in known})
 
@@ -171,3 +182,46 @@ def solution_figures(solution: Solution) -> dict[str, Any]:
         "numeric_method": v.numeric.method if v.numeric is not None else "",
         "max_rel_gap": float(v.numeric.max_rel_gap) if v.numeric is not None else None,
     }
+
+
+def reading_figures(solution: Solution, *, seconds: float) -> dict[str, Any]:
+    """The summary's reading columns, computed within ``seconds``; blank where not available.
+
+    Stability and the slowest time constant come from the modes; final values
+    and peaks need an initial value problem with every parameter given.
+    Whatever does not finish in time, or cannot be read, stays blank: the
+    summary never waits on the reading, nor fails for it.
+
+    >>> from derive import solve
+    >>> r = reading_figures(solve([[-2]], [2], x0=[0]), seconds=10)
+    >>> r["stability"], r["slowest_time_constant"], r["final_values"]
+    ('asymptotically stable', 0.5, (('x_1', 1.0),))
+    """
+    from ..limits import LimitExpired, inner_limit
+    from ..reading import response
+
+    out: dict[str, Any] = {}
+    try:
+        with inner_limit(seconds) as armed:
+            if not armed:
+                return out
+            reading = response(solution)
+            out["stability"] = str(reading.stability)
+            slowest = reading.dominant or (reading.modes[0] if len(reading.modes) == 1 else None)
+            out["slowest_time_constant"] = _time_constant(slowest.time_constant if slowest else None)
+            out["final_values"] = tuple((name, r.final_value) for name, r in reading.states.items())
+            out["peaks"] = tuple((name, float(r.peak[0]), float(r.peak[1])) for name, r in reading.states.items() if r.peak)
+    except LimitExpired:
+        pass
+    except Exception:  # noqa: BLE001 - the reading is extra: a failure leaves its columns blank
+        pass
+    return out
+
+
+def _time_constant(tau: sp.Expr | None) -> float | str | None:
+    """A time constant for the summary: a float when it is a number, else its expression."""
+    if tau is None:
+        return None
+    if not tau.free_symbols:
+        return float(tau)
+    return sp.sstr(tau).replace("**", "^")

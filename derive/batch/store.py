@@ -40,7 +40,8 @@ FLUSH_EVERY = 0.5
 
 _CSV_COLUMNS = (
     "case", "status", "spectrum", "eigenvalues", "residual_method", "residual_zero", "initial_ok",
-    "numeric_method", "max_rel_gap", "seconds", "cached", "outputs", "message", "source",
+    "numeric_method", "max_rel_gap", "stability", "slowest_time_constant", "final_values", "peaks",
+    "seconds", "cached", "outputs", "message", "source",
 )
 
 
@@ -50,7 +51,9 @@ def _version() -> str:
     return __version__
 
 
-def case_key(case: Case, *, formats: Sequence[str], pdf: bool, version: str | None = None) -> str:
+def case_key(
+    case: Case, *, formats: Sequence[str], pdf: bool, version: str | None = None, substitute: bool | None = None
+) -> str:
     """Content hash of a case and of what would be written for it, with derive's
     ``version`` (the installed one unless given).
 
@@ -75,6 +78,8 @@ def case_key(case: Case, *, formats: Sequence[str], pdf: bool, version: str | No
         repr(case.notices),
         repr(tuple(formats)),
         repr(bool(pdf)),
+        repr(case.options),
+        repr(substitute),
     ]
     return hashlib.sha256("\x1f".join(parts).encode("utf-8")).hexdigest()
 
@@ -88,8 +93,15 @@ def summary_csv(results: Sequence[CaseResult]) -> str:
         row = r.row()
         row["eigenvalues"] = "; ".join(r.eigenvalues)
         row["outputs"] = "; ".join(r.outputs)
+        row["final_values"] = "; ".join(f"{name} = {_g(value)}" for name, value in r.final_values if value is not None)
+        row["peaks"] = "; ".join(f"{name} = {_g(value)} at t = {_g(when)}" for name, when, value in r.peaks)
         w.writerow(["" if row[c] is None else row[c] for c in _CSV_COLUMNS])
     return buf.getvalue()
+
+
+def _g(value: float) -> str:
+    """A figure for the CSV: 6 significant digits."""
+    return f"{value:.6g}"
 
 
 def _read_cache(folder: Path) -> dict[str, dict[str, Any]]:

@@ -34,7 +34,7 @@ from ..errors import DeriveError, InputError, OutputError, TimeLimitError, Verif
 from ..limits import time_limit
 from ..model import Case, Solution
 from ..settings import DEFAULT_SETTINGS, Settings
-from .records import CaseResult, Status, solution_figures
+from .records import CaseResult, Status, reading_figures, solution_figures
 from .store import CASES_DIR
 
 __all__ = [
@@ -73,17 +73,19 @@ class CaseTask:
     collect: bool = False
     #: the solve's knobs and the TeX allowance
     settings: Settings = DEFAULT_SETTINGS
+    #: values into the algebra (True), symbolic (False), or as the case file says (None)
+    substitute: bool | None = None
 
 
 def hard_limit(timeout: float, *, pdf: bool, settings: Settings = DEFAULT_SETTINGS) -> float | None:
     """Seconds after which the pool stops a task's worker (None: a case without a limit).
 
     >>> hard_limit(10, pdf=False)
-    75.0
+    85.0
     """
     if not timeout or timeout <= 0:
         return None
-    writing = settings.batch_write_seconds + (settings.batch_tex_seconds if pdf else 0.0)
+    writing = settings.batch_write_seconds + settings.batch_reading_seconds + (settings.batch_tex_seconds if pdf else 0.0)
     return float(timeout) + writing + settings.batch_grace
 
 
@@ -105,7 +107,7 @@ def run_task(task: CaseTask) -> Outcome:
     try:
         with time_limit(task.timeout, what=f"case {case.name!r}"):
             try:
-                sol = solve_case(case, settings=task.settings)
+                sol = solve_case(case, settings=task.settings, substitute=task.substitute)
             except VerificationError as err:
                 sol = getattr(err, "solution", None)
                 if sol is None:
@@ -143,6 +145,8 @@ def run_task(task: CaseTask) -> Outcome:
         if scratch is not None:
             shutil.rmtree(scratch, ignore_errors=True)
     figures = solution_figures(sol) if sol is not None else {}
+    if sol is not None and status is Status.OK:
+        figures.update(reading_figures(sol, seconds=task.settings.batch_reading_seconds))
     result = CaseResult(
         name=case.name,
         status=status,

@@ -22,6 +22,7 @@ from ..render.printing import MathFormatter, MathStyle, collect_roots, format_de
 from .base import Document, Frame, Layout, label_key, parameter_assumptions, program_versions
 from .blocks import Alert, Block, Eq, Heading, Inline, Items, Math, N, P
 from .sheet_steps import StepContext, step_blocks
+from .output_blocks import result_rows
 
 __all__ = ["SheetDocument", "sheet_blocks", "solution_record", "to_json_value", "sheet_lambda", "structure_text", "FAILED", "SCHEMA_VERSION"]
 
@@ -112,7 +113,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
             assumed = parameter_assumptions(p)
             row.append(f" ({', '.join(assumed)})" if assumed else "")
             rows.append(tuple(row))
-        b.append(P("Parameters (values used only in the numeric check):"))
+        b.append(P("Parameters (values put into the algebra before the decomposition):" if system.substituted else "Parameters (values used only in the numeric check):"))
         b.append(Items(tuple(rows)))
     src: list[tuple[Inline, ...]] = [
         (f"Input file: {case.source}" if case and case.source else "Input file: none (Python interface)",),
@@ -157,6 +158,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
     if not ver.ok:
         b.append(Alert((FAILED,)))
     b.append(Eq(ctx.state_rows(solution.x)))
+    b += result_rows(solution, fmt)
     if any(e != 0 for e in solution.particular):
         b.append(P("Homogeneous part (free response) and particular part (forced response):"))
         b.append(Eq(ctx.state_rows(solution.homogeneous, "h")))
@@ -263,6 +265,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
             "x0": _column(system.x0),
             "t0": str(system.t0),
             "equations": list(system.equations),
+            "substituted": system.substituted,
             "parameters": [
                 {
                     "name": p.name,
@@ -305,6 +308,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
         "steps": [
             {"kind": step.kind, "fields": to_json_value(step)} for step in solution.steps
         ],
+        "outputs": to_json_value(solution.outputs),
     }
 
 
