@@ -54,8 +54,9 @@ def _alarm_after(seconds: float, expired: Callable[[], BaseException]) -> Iterat
 
     started = time.monotonic()
     previous = signal.signal(signal.SIGALRM, _alarm)
-    signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
     try:
+        # armed inside the try: an alarm that fires at once still disarms in finally
+        signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
         yield True
     finally:
         done = True
