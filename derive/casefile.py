@@ -29,6 +29,7 @@ from .inputs import Input, input_notices, read_inputs, substitute_inputs
 from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
+from .plotfile import read_plot_span
 from .parsing import (
     CONSTANTS,
     DEFAULT_LIMITS,
@@ -54,7 +55,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep", "plot")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -677,7 +678,7 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         params=tuple(params),
         equations=equations,
     )
-    return Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices))
+    return Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices), plot_span=read_plot_span(data.get("plot"), file=ctx.file))
 
 
 def case_name(raw: str, *, file: str | None = None) -> str:

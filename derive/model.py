@@ -112,6 +112,8 @@ class Case:
     source: str | None = None
     source_hash: str = ""
     notices: tuple[str, ...] = ()
+    #: ``[plot] span``: the time the response figure shows from t0 (None: from the slowest time constant)
+    plot_span: sp.Expr | None = None
 
 
 class Relation(str, Enum):

@@ -30,7 +30,7 @@ from ..reading.checkpoints import check_points
 from ..reading.evaluation import approx
 from ..render.decimals import format_decimal
 from ..render.escape import spoken
-from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Strong, Table, VLine
+from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Table, VLine
 
 __all__ = ["SheetReading", "sheet_reading", "reading_blocks", "reading_record", "READING_SECONDS", "FIGURE_POINTS"]
 
@@ -120,7 +120,7 @@ def _response_figure(solution: Solution, span: float) -> Figure:
     if impulses:
         caption += "; dotted lines: impulses"
     t = sy.t
-    return Figure(caption + ".", N(sp.latex(t), str(t)), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response")
+    return Figure(caption + ".", N(sp.latex(t), str(t)), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=0.3)
 
 
 def _eigenvalue_figure(solution: Solution, response: Response) -> Figure | None:
@@ -137,7 +137,7 @@ def _eigenvalue_figure(solution: Solution, response: Response) -> Figure | None:
         (Series("eigenvalues", points, "marks", "eigenvalues"),),
         (VLine(0.0, "axis"),),
         "eigenvalues",
-        height=0.24,
+        height=0.2,
     )
 
 
@@ -168,7 +168,7 @@ def _eigenvalue(mode: Any) -> tuple[Inline, ...]:
     if not mode.is_pair or lam.free_symbols:
         return _quantity(lam)
     re_, im_ = sp.re(lam), sp.Abs(sp.im(lam))
-    return (*_quantity(re_), Name(r"\pm", "+-"), *_quantity(im_), Math(sp.I))
+    return (*_quantity(re_), Name(r" \pm ", " ± "), *_quantity(im_), " ", Math(sp.I))
 
 
 _TAU = N(r"\tau = -1/\operatorname{Re}\lambda", "τ = -1/Re λ")
@@ -179,19 +179,22 @@ _OMEGA_D = N(r"\omega_d = |\operatorname{Im}\lambda|", "ω_d = |Im λ|")
 
 def _settles(r: Response) -> list[Block]:
     words = {
-        Stability.ASYMPTOTIC: "yes: asymptotically stable",
-        Stability.MARGINAL: "it stays bounded but does not settle: marginally stable",
-        Stability.UNSTABLE: "no: unstable",
-        Stability.UNDECIDED: "it depends on the parameters",
+        Stability.ASYMPTOTIC: "Yes: asymptotically stable",
+        Stability.MARGINAL: "It stays bounded but does not settle: marginally stable",
+        Stability.UNSTABLE: "No: unstable",
+        Stability.UNDECIDED: "It depends on the parameters",
     }
     reason = spoken(r.reason)
-    out: list[Block] = [P("Does it settle? ", Strong(words[r.stability]), ". ", reason[:1].upper() + reason[1:] + ".")]
+    out: list[Block] = [P("Does it settle? ", words[r.stability], ". ", reason[:1].upper() + reason[1:] + ".")]
     if r.conditions:
         rows: list[tuple[Inline, ...]] = []
         for kind, relations in r.conditions:
             row: list[Inline] = [f"{str(kind).capitalize()} when "]
             for k, rel in enumerate(relations):
-                row += ([" and "] if k else []) + [Math(rel)]
+                # "one of them fails" is an Or: said in words, as the "and" of the others
+                either = rel.args if isinstance(rel, sp.Or) else (rel,)
+                for j, part in enumerate(either):
+                    row += ([" and "] if k and not j else [" or "] if j else []) + [Math(part)]
             rows.append(tuple(row + ["."]))
         out.append(Items(tuple(rows)))
     return out
@@ -202,9 +205,8 @@ def _modes(r: Response) -> list[Block]:
         return []
     numeric = not any(sp.sympify(m.eigenvalue, strict=True).free_symbols for m in r.modes)
     out: list[Block] = [P(
-        "How fast? One mode per real eigenvalue or complex pair: time constant ", _TAU, ", natural frequency ", _OMEGA_N,
-        ", damping ratio ", _ZETA, ", damped frequency ", _OMEGA_D,
-        "; the dominant mode (the slowest to decay) sets how long the response takes." if any(m.dominant for m in r.modes) else ".",
+        "How fast? One mode per real eigenvalue or complex pair, with ", _TAU, ", ", _OMEGA_N, ", ", _ZETA, " and ", _OMEGA_D,
+        "; the dominant mode, the slowest to decay, sets how long the response takes." if any(m.dominant for m in r.modes) else ".",
     )]
     if numeric:
         rows = tuple(
@@ -240,9 +242,9 @@ def _states(solution: Solution, r: Response) -> list[Block]:
         )
         return [P(f"To what, with what peak? Final values, peaks, settling and rise times are read for an initial value problem with a value for every parameter; here {why}.")]
     out: list[Block] = [P(
-        "To what, with what peak? Per state, from the exact solution (times measured from ", Math(solution.system.t0),
-        "): the final value as ", Math(solution.system.t), " grows without bound, the largest excursion past it (peak) and the overshoot relative "
-        "to the change, the last entry into a band of 2 % of the change (settling), and the time from 10 % to 90 % of the change (rise).",
+        "To what, with what peak? Per state, from the exact solution, times from ", Math(solution.system.t0),
+        ": the final value, the largest excursion (peak), the overshoot past the final value relative to the change, "
+        "the last entry into a band of 2 % of the change (settling) and the time from 10 % to 90 % of it (rise).",
     )]
     rows = []
     for s in solution.system.states:
@@ -268,16 +270,14 @@ def _sinusoid(solution: Solution, r: Response) -> list[Block]:
         return []
     first = next(iter(r.sinusoidal.values()))
     steady = "the steady response" if r.stability is Stability.ASYMPTOTIC else "the periodic part of the response (steady only if the free response decays)"
-    rows: list[tuple[Inline, ...]] = []
-    for s in solution.system.states:
-        part = r.sinusoidal.get(s.name)
-        if part is None:
-            continue
-        rows.append((Math(s), ": amplitude ", *_quantity(part.amplitude), ", phase ", *_quantity(part.phase),
-                     " rad, offset ", *_quantity(part.offset), "."))
+    rows = tuple(
+        ((Math(s),), _quantity(part.amplitude), _quantity(part.phase), _quantity(part.offset))
+        for s in solution.system.states
+        if (part := r.sinusoidal.get(s.name)) is not None
+    )
     return [
         P(f"Sinusoidal input: {steady} of each state is offset + amplitude sin(ω t + phase), with ω = ", *_quantity(first.frequency), ":"),
-        Items(tuple(rows)),
+        Table(("State", "Amplitude", "Phase (rad)", "Offset"), rows, align="lrrr"),
     ]
 
 

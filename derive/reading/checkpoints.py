@@ -34,7 +34,7 @@ def impulse_split(f: sp.MatrixBase, t: sp.Symbol) -> tuple[sp.Matrix, dict[float
 
     >>> t = sp.Symbol("t")
     >>> smooth, jumps = impulse_split(sp.Matrix([1 + 3 * sp.DiracDelta(t - 2), 0]), t)
-    >>> smooth.T, {a: list(b) for a, b in jumps.items()}
+    >>> smooth.T, {a: b.tolist() for a, b in jumps.items()}
     (Matrix([[1, 0]]), {2.0: [3.0, 0.0]})
     """
     smooth = sp.zeros(f.rows, 1)
