@@ -168,7 +168,9 @@ def _eigenvalue(mode: Any) -> tuple[Inline, ...]:
     if not mode.is_pair or lam.free_symbols:
         return _quantity(lam)
     re_, im_ = sp.re(lam), sp.Abs(sp.im(lam))
-    return (*_quantity(re_), Name(r" \pm ", " ± "), *_quantity(im_), " ", Math(sp.I))
+    # one formula: two inline formulas side by side would read as $$ (display math) in LaTeX and Markdown
+    a, b = _number(re_), _number(im_)
+    return (Name(f"{a.latex} \\pm {b.latex}", f"{a.plain} ± {b.plain}"), " ", Math(sp.I))
 
 
 _TAU = N(r"\tau = -1/\operatorname{Re}\lambda", "τ = -1/Re λ")
@@ -276,7 +278,9 @@ def _sinusoid(solution: Solution, r: Response) -> list[Block]:
         if (part := r.sinusoidal.get(s.name)) is not None
     )
     return [
-        P(f"Sinusoidal input: {steady} of each state is offset + amplitude sin(ω t + phase), with ω = ", *_quantity(first.frequency), ":"),
+        P(f"Sinusoidal input: {steady} of each state is ",
+          N(r"\text{offset} + \text{amplitude}\,\sin(\omega t + \text{phase})", "offset + amplitude sin(ω t + phase)"),
+          ", with ", N(r"\omega", "ω"), " = ", *_quantity(first.frequency), ":"),
         Table(("State", "Amplitude", "Phase (rad)", "Offset"), rows, align="lrrr"),
     ]
 

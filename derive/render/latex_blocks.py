@@ -181,7 +181,12 @@ def figure_latex(figure: Figure) -> str:
 def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
     """The functions ``templates/blocks.tex.j2`` calls, bound to ``fmt``."""
     def inline(parts: Sequence[Inline]) -> str:
-        return "".join(_inline_part(p, fmt) for p in parts)
+        out = ""
+        for p in parts:
+            text = _inline_part(p, fmt)
+            # two formulas side by side would close and open math as $$, which TeX reads as display math
+            out += ("{}" if out.endswith("$") and text.startswith("$") else "") + text
+        return out
 
     return {
         "inline": inline,
