@@ -235,3 +235,30 @@ def test_the_dominant_mode_time_constant_reads_the_slowest_eigenvalue() -> None:
     slowest = max(sol.eigenvalues, key=lambda e: float(sp.re(e)))
     assert sol.response.dominant.time_constant == -1 / slowest  # type: ignore[attr-defined]
     assert math.isclose(float(-1 / slowest), 5.0)
+
+
+# ---------------------------------------------------------------------------
+# The batch index
+
+
+def test_the_batch_index_shows_a_small_response_figure_per_verified_case() -> None:
+    from derive import CaseResult
+    from derive.documents.batch_index import BatchIndexDocument, response_thumbnails
+    from derive.reading import samples
+
+    smd = solve_case(derive.load_case(DATA / "smd.toml"))
+    general = derive.solve([[-1]])  # no initial values: nothing to draw
+    results = (
+        CaseResult("demo", "ok", solution=demo_solution()),
+        CaseResult("smd", "ok", solution=smd),
+        CaseResult("general", "ok", solution=general),
+        CaseResult("broken", "bad-input"),
+    )
+    thumbs = response_thumbnails(results)
+    assert [f.name for f in thumbs] == ["demo", "smd"]
+    times, values = samples(smd, points=61)
+    (y_curve,) = [s for s in thumbs[1].series if s.key == "y"]
+    assert [p[1] for p in y_curve.points] == pytest.approx(list(values["y"]), rel=1e-12, abs=1e-15)
+    assert all(s.style == "line" for f in thumbs for s in f.series)  # the sheets carry the check points
+    tex = render(BatchIndexDocument(results, {"ok": 3, "bad-input": 1}, total=4), "latex")
+    assert tex.count(r"\begin{tikzpicture}") == 2 and "Responses at a glance" in tex

@@ -32,7 +32,9 @@ from ..render.decimals import format_decimal
 from ..render.escape import spoken
 from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Table, VLine
 
-__all__ = ["SheetReading", "sheet_reading", "reading_blocks", "reading_record", "READING_SECONDS", "FIGURE_POINTS"]
+__all__ = [
+    "SheetReading", "sheet_reading", "reading_blocks", "reading_record", "response_figure", "figure_span", "READING_SECONDS", "FIGURE_POINTS",
+]
 
 #: Seconds the reading may take on a sheet before it is left out.
 READING_SECONDS = 30.0
@@ -78,12 +80,10 @@ def _read(solution: Solution) -> SheetReading:
     response = solution.response  # type: ignore[attr-defined]
     if not solution.verification.ok:
         return SheetReading(response)
-    case = solution.case
-    given = getattr(case, "plot_span", None) if case is not None else None
-    span = float(given) if given is not None else plot_span(solution)
+    span = figure_span(solution)
     figures: list[Figure] = []
     if span is not None and solution.system.is_ivp:
-        figures.append(_response_figure(solution, span))
+        figures.append(response_figure(solution, span=span))
     eigen = _eigenvalue_figure(solution, response)
     if eigen is not None:
         figures.append(eigen)
@@ -94,16 +94,23 @@ def _read(solution: Solution) -> SheetReading:
 # Figures
 
 
-def _response_figure(solution: Solution, span: float) -> Figure:
+def figure_span(solution: Solution) -> float | None:
+    """The time a response figure shows: the case's ``[plot] span``, else ``reading.plot_span`` (None with symbols)."""
+    given = getattr(solution.case, "plot_span", None) if solution.case is not None else None
+    return float(given) if given is not None else plot_span(solution)
+
+
+def response_figure(solution: Solution, *, span: float, points: int = FIGURE_POINTS, checks: bool = True, height: float = 0.3) -> Figure:
+    """Each state over [t0, t0 + span] from the exact solution, with numeric check points unless ``checks`` is False."""
     sy = solution.system
-    exact = samples(solution, span=span, points=FIGURE_POINTS)
-    checks = check_points(solution, span=span)
+    exact = samples(solution, span=span, points=points)
+    checked = check_points(solution, span=span) if checks else None
     series: list[Series] = []
     for s in sy.states:
         series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name))
-    if checks is not None:
+    if checked is not None:
         for k, s in enumerate(sy.states):
-            pts = tuple(zip(map(float, checks.times), map(float, checks.values[s.name])))
+            pts = tuple(zip(map(float, checked.times), map(float, checked.values[s.name])))
             series.append(Series("numeric check" if k == 0 else "", pts, "marks", s.name))
     start = float(exact.times[0])
     end = start + span
@@ -111,16 +118,17 @@ def _response_figure(solution: Solution, span: float) -> Figure:
     lines = [VLine(a, "switch") for a in exact.switches if start < a <= end and a not in impulses]
     lines += [VLine(a, "impulse") for a in impulses]
     caption = f"Response of each state over {span:.3g} units of time from the exact solution (lines)"
-    caption += (
-        ", with points of an independent numeric integration of the system (circles)"
-        if checks is not None else "; no numeric check points could be computed"
-    )
+    if checks:
+        caption += (
+            ", with points of an independent numeric integration of the system (circles)"
+            if checked is not None else "; no numeric check points could be computed"
+        )
     if any(line.style == "switch" for line in lines):
         caption += "; dashed lines: input switches"
     if impulses:
         caption += "; dotted lines: impulses"
     t = sy.t
-    return Figure(caption + ".", N(sp.latex(t), str(t)), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=0.3)
+    return Figure(caption + ".", N(sp.latex(t), str(t)), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=height)
 
 
 def _eigenvalue_figure(solution: Solution, response: Response) -> Figure | None:
