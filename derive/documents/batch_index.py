@@ -85,7 +85,7 @@ def response_thumbnails(results: Sequence[Any], *, limit: int = INDEX_FIGURES) -
                 span = figure_span(solution)
                 if span is None:
                     continue
-                figure = response_figure(solution, span=span, points=61, checks=False, height=0.16)
+                figure = response_figure(solution, span=span, points=61, checks=False, height=0.2)
         except (DeriveError, LimitExpired):
             continue
         out.append(Figure(f"{r.name}: {figure.caption}", figure.xlabel, figure.ylabel, figure.series, figure.lines, r.name, figure.height))
