@@ -71,6 +71,21 @@ def _attach_reading() -> None:
 
 _attach_reading()
 
+
+def _attach_notebook_display() -> None:
+    """Show ``Solution`` and ``CheckReport`` as rendered mathematics in Jupyter (``_repr_markdown_``).
+
+    Attached here for the reason the reading is: the renderers import the
+    records, so the records cannot import the renderers.
+    """
+    from .render.notebook import check_report_markdown, solution_markdown
+
+    setattr(Solution, "_repr_markdown_", solution_markdown)
+    setattr(CheckReport, "_repr_markdown_", check_report_markdown)
+
+
+_attach_notebook_display()
+
 __all__ = [
     "__version__",
     "solve",

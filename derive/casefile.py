@@ -30,6 +30,7 @@ from .casesections import read_sections
 from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
+from .plotfile import read_plot_span
 from .parsing import (
     CONSTANTS,
     DEFAULT_LIMITS,
@@ -55,7 +56,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep", "solve", "outputs")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep", "solve", "outputs", "plot")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -678,7 +679,8 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         params=tuple(params),
         equations=equations,
     )
-    return read_sections(Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices)), data, inputs=inputs, file=ctx.file, limits=ctx.limits)
+    case = Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices), plot_span=read_plot_span(data.get("plot"), file=ctx.file))
+    return read_sections(case, data, inputs=inputs, file=ctx.file, limits=ctx.limits)
 
 
 def case_name(raw: str, *, file: str | None = None) -> str:

@@ -115,6 +115,8 @@ class Case:
     source_hash: str = ""
     notices: tuple[str, ...] = ()
     options: SolveOptions | None = None  # [solve] and [outputs] (derive.options)
+    #: ``[plot] span``: the time the response figure shows from t0 (None: from the slowest time constant)
+    plot_span: sp.Expr | None = None
 
 
 class Relation(str, Enum):

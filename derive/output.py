@@ -213,7 +213,9 @@ def write_outputs(
     and compile the PDF when pdf is True, or when pdf is None and latexmk is on the PATH.
 
     Writes <stem>.tex (and <stem>-body.tex, the fragment for a host report,
-    when the document type has one) and <stem>.<suffix> for the other formats.
+    when the document type has one) and <stem>.<suffix> for the other formats;
+    a renderer with ``render_files`` (Markdown) also gives files of its own,
+    written beside it (its figures as ``<stem>-<figure>.svg``).
     Everything is rendered before the disk is touched, so a failing renderer
     writes nothing.  Returns the paths written, in order.
 
@@ -240,9 +242,16 @@ def write_outputs(
         raise OutputError(f"{folder}: exists and is not a folder; expected an output folder", file=str(folder))
 
     # Render everything before touching the disk: a failing renderer writes nothing.
-    pending: list[tuple[Path, str]] = []
+    pending: list[tuple[Path, str | bytes]] = []
     for fmt in formats:
         renderer = RENDERERS[fmt]
+        with_files = getattr(renderer, "render_files", None)
+        if with_files is not None:
+            # a format that keeps its figures in files of their own (Markdown's SVGs), written beside it
+            text, files = with_files(doc, stem=stem)
+            pending.append((folder / f"{stem}{renderer.suffix}", text))
+            pending += [(folder / name, data) for name, data in files]
+            continue
         pending.append((folder / f"{stem}{renderer.suffix}", renderer.render(doc)))
         if fmt == "latex" and doc.body_file:
             pending.append((folder / f"{stem}-body{renderer.suffix}", renderer.render(doc, fragment=True)))
@@ -251,7 +260,7 @@ def write_outputs(
         folder.mkdir(parents=True, exist_ok=True)
         written: list[Path] = []
         for path, text in pending:
-            _atomic_write(path, text.encode("utf-8"))
+            _atomic_write(path, text.encode("utf-8") if isinstance(text, str) else text)
             written.append(path)
     except OSError as exc:
         raise OutputError(f"{folder}: could not write the outputs ({exc.strerror or exc}); expected a writable folder", file=str(folder)) from exc

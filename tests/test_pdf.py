@@ -103,3 +103,20 @@ def test_solved_systems_compile(tmp_path: Path, name: str, A: list, f: object, x
     assert "Sheet 1 of" in text and expect in text
     assert "VERIFICATION FAILED" not in text
     assert (tmp_path / f"{name}-body.tex").is_file() and (tmp_path / f"{name}.json").is_file()
+
+
+def test_the_demo_sheet_with_its_figures_compiles_and_answers_on_its_first_pages(tmp_path: Path) -> None:
+    from importlib import resources
+
+    from derive.casefile import loads_case
+
+    text = resources.files("derive.data").joinpath("demo.toml").read_text(encoding="utf-8")
+    sol = pipeline.solve_case(loads_case(text, name="demo", source="the built-in demo case"))
+    write_outputs(sol, tmp_path, stem="demo", formats=("latex",), pdf=True)
+    tex = (tmp_path / "demo.tex").read_text(encoding="utf-8")
+    assert tex.count(r"\begin{tikzpicture}") == 2 and r"\pgfplotsset{compat=1.18}" in tex
+    pages = pdf_text(tmp_path / "demo.pdf").split("\f")
+    first = "\n".join(pages[:3])
+    assert "Response at a glance" in first and "Does it settle? Yes: asymptotically stable" in first
+    assert "2 (dominant)" in first and "numeric check" in first  # the modes table and the figure's legend
+    assert "Settling 2 %" in first

@@ -491,7 +491,7 @@ def test_write_outputs_writes_atomically(tmp_path: Path) -> None:
     sol = make_solution()
     paths = write_outputs(sol, tmp_path, stem="calc-1", formats=("latex", "markdown", "text", "json"), pdf=False)
     names = sorted(p.name for p in paths)
-    assert names == ["calc-1-body.tex", "calc-1.json", "calc-1.md", "calc-1.tex", "calc-1.txt"]
+    assert names == ["calc-1-body.tex", "calc-1-eigenvalues.svg", "calc-1-response.svg", "calc-1.json", "calc-1.md", "calc-1.tex", "calc-1.txt"]
     assert sorted(p.name for p in tmp_path.iterdir()) == names  # no temporary file left
     assert (tmp_path / "calc-1.tex").read_text(encoding="utf-8") == render(sol, "latex")
     assert (tmp_path / "calc-1-body.tex").read_text(encoding="utf-8") == render(sol, "latex", fragment=True)

@@ -14,12 +14,20 @@ from typing import Any, Mapping, Sequence
 
 import sympy as sp
 
+from ..errors import DeriveError
+from ..limits import LimitExpired, inner_limit
 from ..model import SheetMeta
 from ..render.printing import MathFormatter, MathStyle
 from .base import Document, Frame, Layout, label_key, program_versions
-from .blocks import Alert, Block, Caution, Code, Heading, Inline, N, P, Strong, Table
+from .blocks import Alert, Block, Caution, Code, Figure, Heading, Inline, N, P, Strong, Table
+from .reading_section import figure_span, response_figure
 
-__all__ = ["BatchIndexDocument", "write_index", "index_rows", "TITLE"]
+__all__ = ["BatchIndexDocument", "write_index", "index_rows", "response_thumbnails", "TITLE", "INDEX_FIGURES"]
+
+#: The index draws the response of at most this many cases (a sweep of hundreds would make a book).
+INDEX_FIGURES = 24
+#: Seconds one case's small figure may take before it is left out.
+FIGURE_SECONDS = 10.0
 
 TITLE = "Index of calculation sheets"
 
@@ -58,6 +66,30 @@ def index_rows(results: Sequence[Any]) -> list[dict[str, Any]]:
             }
         )
     return rows
+
+
+def response_thumbnails(results: Sequence[Any], *, limit: int = INDEX_FIGURES) -> tuple[Figure, ...]:
+    """A small response figure for each verified initial value problem whose solution was kept (the first ``limit``).
+
+    Drawn from the exact solution like the sheet's figure, with fewer points and
+    no check points (each case's sheet has those); a case whose figure cannot be
+    drawn in time, or has parameters without values, is left out.
+    """
+    out: list[Figure] = []
+    for r in results:
+        solution = getattr(r, "solution", None)
+        if len(out) >= limit or solution is None or not r.ok or not solution.system.is_ivp:
+            continue
+        try:
+            with inner_limit(FIGURE_SECONDS):
+                span = figure_span(solution)
+                if span is None:
+                    continue
+                figure = response_figure(solution, span=span, points=61, checks=False, height=0.2)
+        except (DeriveError, LimitExpired):
+            continue
+        out.append(Figure(f"{r.name}: {figure.caption}", figure.xlabel, figure.ylabel, figure.series, figure.lines, r.name, figure.height))
+    return tuple(out)
 
 
 @dataclass(frozen=True)
@@ -105,6 +137,15 @@ class BatchIndexDocument(Document):
             widths=(0.20, 0.10, 0.12, 0.22, None, 0.14),
             long=True,
         ))
+        thumbnails = response_thumbnails(self.results)
+        if thumbnails:
+            b.append(Heading(3, "Responses at a glance"))
+            b.append(P(
+                "The response of each state of the verified cases, from the exact solution"
+                + (f" (the first {INDEX_FIGURES})" if len(thumbnails) == INDEX_FIGURES else "")
+                + "; each sheet has the full reading and the numeric check."
+            ))
+            b += thumbnails
         program = program_versions()[0]
         b.append(Caution(CAUTION.format(program=f"{program[0]} {program[1]}", sympy=sp.__version__)))
         return Layout(tuple(b), MathFormatter.for_roots((), style=style))

@@ -33,6 +33,7 @@ __all__ = [
     "Alert",
     "Caution",
     "Series",
+    "VLine",
     "Figure",
     "Block",
     "P",
@@ -219,21 +220,45 @@ class Series:
 
     The samples are floats for drawing only; they are computed from the
     exact result by the document type, never used in the algebra.
+    ``style`` is ``"line"`` (a curve) or ``"marks"`` (points only: check
+    points, eigenvalues); series with the same ``key`` share a colour (a
+    curve and its check points); an empty ``label`` has no legend entry.
     """
 
     label: str
     points: tuple[tuple[float, float], ...]
+    style: str = "line"
+    key: str = ""
+
+
+@dataclass(frozen=True)
+class VLine:
+    """A vertical line across a figure at ``at`` (a switch time, an impulse, the imaginary axis).
+
+    ``style`` is ``"switch"`` (dashed), ``"impulse"`` (dotted) or ``"axis"`` (solid, thin).
+    """
+
+    at: float
+    style: str = "switch"
 
 
 @dataclass(frozen=True)
 class Figure:
-    """A plot of one or more curves against a common axis (a response over time, say)."""
+    """A plot of one or more curves against a common axis (a response over time, say).
+
+    ``lines`` are vertical marks across the plot; ``name`` is a short file-name
+    part for formats that write the figure to a file of its own (Markdown's SVG);
+    ``height`` is the plot's height as a share of the line width.
+    """
 
     kind: ClassVar[str] = "figure"
     caption: str
     xlabel: Name
     ylabel: Name
     series: tuple[Series, ...]
+    lines: tuple[VLine, ...] = ()
+    name: str = "figure"
+    height: float = 0.36
 
 
 Block = Union[Title, Heading, Para, Eq, MathRows, TermSum, Items, Table, Alert, Caution, Figure]

@@ -2,7 +2,8 @@
 
 ``SheetDocument(solution)`` is what every renderer receives for a sheet.  Its
 blocks (``sheet_blocks``) carry the same sections as the LaTeX sheet, in the
-same order: title block, purpose, inputs, assumptions, method, derivation
+same order: title block, purpose, inputs, the response at a glance
+(``reading_section``), assumptions, method, derivation
 (one group of blocks per step, from ``derive.documents.sheet_steps``),
 result, verification, references and caution.  Its record
 (``solution_record``) is the machine-readable form, written as JSON.
@@ -21,6 +22,7 @@ from ..render.escape import spoken
 from ..render.printing import MathFormatter, MathStyle, collect_roots, format_decimal
 from .base import Document, Frame, Layout, label_key, parameter_assumptions, program_versions
 from .blocks import Alert, Block, Eq, Heading, Inline, Items, Math, N, P
+from .reading_section import reading_blocks, reading_record
 from .sheet_steps import StepContext, step_blocks
 from .output_blocks import result_rows
 
@@ -113,7 +115,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
             assumed = parameter_assumptions(p)
             row.append(f" ({', '.join(assumed)})" if assumed else "")
             rows.append(tuple(row))
-        b.append(P("Parameters (values put into the algebra before the decomposition):" if system.substituted else "Parameters (values used only in the numeric check):"))
+        b.append(P("Parameters (values put into the algebra before the decomposition):" if system.substituted else "Parameters (kept as symbols in the algebra; the values are used in the response reading and the numeric check):"))
         b.append(Items(tuple(rows)))
     src: list[tuple[Inline, ...]] = [
         (f"Input file: {case.source}" if case and case.source else "Input file: none (Python interface)",),
@@ -122,6 +124,8 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
         src.append((f"Input SHA-256: {case.source_hash}",))
     src += [(f"{name} {version}",) for name, version in versions]
     b.append(Items(tuple(src)))
+
+    b += reading_blocks(solution)
 
     b.append(Heading(2, "Assumptions"))
     assumptions: list[tuple[Inline, ...]] = [("Linear model with constant coefficients: A does not depend on t or x; f depends on t only.",)]
@@ -230,6 +234,8 @@ def to_json_value(obj: Any) -> Any:
         return str(obj)
     if isinstance(obj, (tuple, list)):
         return [to_json_value(item) for item in obj]
+    if isinstance(obj, dict):
+        return {str(key): to_json_value(value) for key, value in obj.items()}
     if is_dataclass(obj) and not isinstance(obj, type):
         return {f.name: to_json_value(getattr(obj, f.name)) for f in fields(obj)}
     return str(obj)
@@ -309,6 +315,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
             {"kind": step.kind, "fields": to_json_value(step)} for step in solution.steps
         ],
         "outputs": to_json_value(solution.outputs),
+        "reading": to_json_value(reading_record(solution)),
     }
 
 

@@ -61,7 +61,8 @@ def _settled(e: sp.Expr) -> sp.Expr:
 
 
 def _word(lam: sp.Expr) -> str:
-    return sp.sstr(lam)
+    # the imaginary unit as the letter a reader writes, not sympy's I
+    return sp.sstr(lam.xreplace({sp.I: sp.Symbol("i")}))
 
 
 def classify(
@@ -97,7 +98,8 @@ def _decided(A: sp.Matrix, lams: list[sp.Expr], signs: list[int], solution: Solu
         )
     if all(s < 0 for s in signs):
         slow = max(lams, key=lambda lam: approx(lam).real) if not any(l.free_symbols for l in lams) else None
-        tail = f" (the slowest, {_word(slow)}, decays like exp({_word(sp.simplify(sp.re(slow)) * sp.Symbol('t'))}))" if slow is not None else ""
+        # the real part alone: the eigenvalue itself is listed with the modes, and a complex one reads badly in words
+        tail = f" (the slowest mode decays like exp({_word(sp.simplify(sp.re(slow)) * sp.Symbol('t'))}))" if slow is not None else ""
         return StabilityReading(Stability.ASYMPTOTIC, f"every eigenvalue has a negative real part{tail}: every mode decays")
     axis: list[sp.Expr] = []
     for lam, s in zip(lams, signs):

@@ -20,7 +20,7 @@ from .escape import tex_escape
 from .printing import MathFormatter
 from .templating import get_template
 
-__all__ = ["blocks_latex", "block_helpers", "tex_text", "figure_latex", "FIGURE_PREAMBLE"]
+__all__ = ["blocks_latex", "block_helpers", "tex_text", "figure_latex", "figure_range", "FIGURE_PREAMBLE", "FIGURE_COLOURS"]
 
 #: What a document with a figure adds to its preamble (pinned compat level, for reproducible builds).
 FIGURE_PREAMBLE = "\\usepackage{pgfplots}\n\\pgfplotsset{compat=1.18}"
@@ -103,24 +103,76 @@ def _colspec(table: Table) -> str:
     return "@{}" + "".join(cols) + "@{}"
 
 
+#: Colours of the curves, in order of their key; a curve's check points take its colour.
+FIGURE_COLOURS: tuple[str, ...] = (
+    "blue!80!black", "red!75!black", "green!50!black", "orange!90!black", "violet", "cyan!60!black", "brown", "magenta!70!black",
+)
+_LINE_STYLES = {"switch": "gray, dashed", "impulse": "gray, densely dotted, thick", "axis": "black!60"}
+
+
+def _coordinate(v: float) -> str:
+    """A coordinate for pgfplots: six significant digits keep the source short and TeX's numbers in range."""
+    text = f"{v:.6g}"
+    return "0" if text in ("-0", "0") else text
+
+
+def figure_range(values: Sequence[float], *, pad: float = 0.05) -> tuple[float, float]:
+    """The span of ``values`` widened by ``pad`` of its width each side (a unit each side for a single value).
+
+    >>> figure_range([0.0, 10.0])
+    (-0.5, 10.5)
+    """
+    lo, hi = min(values), max(values)
+    if hi - lo <= 1e-12 * max(1.0, abs(lo), abs(hi)):
+        width = max(1.0, abs(lo))
+        return lo - width, hi + width
+    return lo - pad * (hi - lo), hi + pad * (hi - lo)
+
+
 def figure_latex(figure: Figure) -> str:
     """A figure as a pgfplots axis inside a TikZ picture, built with pylatex.
 
     pylatex escapes text by default; the labels are program-made math
     (``Name.latex``) or escaped here, so they go in as ``NoEscape``, and the
-    axis options are one raw string with the braced labels.
+    axis options are one raw string with the braced labels.  The axis limits
+    are set from the data and the vertical lines, so a line outside the data
+    (the imaginary axis of an eigenvalue map) is still in view.
     """
     from pylatex import Axis, Plot, TikZ
     from pylatex.utils import NoEscape
 
+    xs = [x for s in figure.series for x, _ in s.points] + [v.at for v in figure.lines]
+    ys = [y for s in figure.series for _, y in s.points]
+    limits = ""
+    if xs and ys:
+        # a time axis starts where the curves start; points alone (an eigenvalue map) keep a margin
+        only_marks = all(s.style == "marks" for s in figure.series)
+        (x0, x1), (y0, y1) = figure_range(xs, pad=0.08 if only_marks else 0.02), figure_range(ys, pad=0.08)
+        limits = f"xmin={_coordinate(x0)}, xmax={_coordinate(x1)}, ymin={_coordinate(y0)}, ymax={_coordinate(y1)}, "
     options = (
-        r"width=0.85\textwidth, height=0.4\textwidth, grid=major, "
-        r"legend pos=north east, legend cell align=left, "
-        f"xlabel={{${figure.xlabel.latex}$}}, ylabel={{${figure.ylabel.latex}$}}"
+        rf"width=0.72\textwidth, height={figure.height:.2f}\textwidth, grid=major, "
+        r"scaled ticks=false, tick label style={/pgf/number format/fixed}, "
+        r"legend pos=outer north east, legend cell align=left, legend style={font=\footnotesize}, "
+        + limits
+        + f"xlabel={{${figure.xlabel.latex}$}}, ylabel={{${figure.ylabel.latex}$}}"
     )
     axis = Axis(options=NoEscape(options))
+    keys: dict[str, int] = {}
     for series in figure.series:
-        axis.append(Plot(name=NoEscape(tex_escape(series.label)), coordinates=[(float(x), float(y)) for x, y in series.points]))
+        colour = FIGURE_COLOURS[keys.setdefault(series.key or series.label, len(keys)) % len(FIGURE_COLOURS)]
+        style = f"color={colour}, " + ("only marks, mark=o, mark size=1.8pt" if series.style == "marks" else "thick, no markers")
+        if not series.label:
+            style += ", forget plot"
+        axis.append(Plot(
+            name=NoEscape(tex_escape(series.label)) if series.label else None,
+            coordinates=[(NoEscape(_coordinate(float(x))), NoEscape(_coordinate(float(y)))) for x, y in series.points],
+            options=NoEscape(style),
+        ))
+    for line in figure.lines:
+        at = _coordinate(float(line.at))
+        axis.append(NoEscape(
+            rf"\draw[{_LINE_STYLES.get(line.style, 'gray')}] ({{axis cs:{at},0}}|-{{rel axis cs:0,0}}) -- ({{axis cs:{at},0}}|-{{rel axis cs:0,1}});"
+        ))
     picture = TikZ()
     picture.append(axis)
     return picture.dumps()
@@ -129,7 +181,12 @@ def figure_latex(figure: Figure) -> str:
 def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
     """The functions ``templates/blocks.tex.j2`` calls, bound to ``fmt``."""
     def inline(parts: Sequence[Inline]) -> str:
-        return "".join(_inline_part(p, fmt) for p in parts)
+        out = ""
+        for p in parts:
+            text = _inline_part(p, fmt)
+            # two formulas side by side would close and open math as $$, which TeX reads as display math
+            out += ("{}" if out.endswith("$") and text.startswith("$") else "") + text
+        return out
 
     return {
         "inline": inline,

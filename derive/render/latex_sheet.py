@@ -26,6 +26,7 @@ from ..errors import OutputError
 from ..model import SheetMeta, Solution
 from .escape import tex_escape
 from .latex_blocks import blocks_latex
+from .latex_reading import reading_latex
 from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows, visible_width
 from .templating import FRAGMENT_PACKAGES, get_template
 
@@ -111,6 +112,7 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "rows_for_states": rows_for_states,
         "m_list": m_list,
         "derivation": lambda: derivation,
+        "reading": lambda: reading_latex(solution, fmt),
         "appendix": lambda: appendix,
         "relation_tex": _relation_tex,
         "condition_tex": lambda c: _condition_tex(fmt, c),

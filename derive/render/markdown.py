@@ -9,7 +9,7 @@ start a heading, a link, HTML, a table cell or math.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Sequence
+from typing import Any, Callable, Sequence
 
 import sympy as sp
 
@@ -18,6 +18,7 @@ from .base import Renderer, as_document
 from .escape import md_escape
 from .text import figure_lines
 from .printing import MathFormatter, MathStyle
+from .svg import figure_svg, plots_available
 
 __all__ = ["MarkdownRenderer", "md_escape", "blocks_to_markdown"]
 
@@ -40,8 +41,24 @@ def _line(parts: Sequence[Inline], fmt: MathFormatter) -> str:
     return "".join(_inline(p, fmt) for p in parts)
 
 
-def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
-    """Blocks as Markdown text."""
+def _figure_markdown(figure: Figure, path: str | None) -> list[str]:
+    """A figure as an image reference with its caption, or a note and each curve's range where no file is written."""
+    caption = f"*{md_escape(figure.caption)}*"
+    if path is not None:
+        return [f"![{figure.name}]({path})", "", caption, ""]
+    why = (
+        "written as an SVG file beside the Markdown file when the sheet is saved"
+        if plots_available()
+        else "it needs matplotlib (install the extra eigensheet[plots]) to be written as an SVG file"
+    )
+    lines = figure_lines(figure)
+    return [f"*Figure omitted here ({md_escape(why)}): {md_escape(figure.caption)}*", ""] + [
+        f"- {md_escape(line.strip())}" for line in lines[1:]
+    ] + [""]
+
+
+def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter, *, figure_path: Callable[[Figure], str | None] | None = None) -> str:
+    """Blocks as Markdown text; ``figure_path`` names the image file written for a figure (None: no file)."""
     out: list[str] = []
     for blk in blocks:
         if isinstance(blk, Title):
@@ -84,9 +101,7 @@ def blocks_to_markdown(blocks: Sequence[Block], fmt: MathFormatter) -> str:
                 out += [">", f"> {_line(blk.detail, fmt)}"]
             out.append("")
         elif isinstance(blk, Figure):
-            # Markdown has no plot; the caption and each curve's range stand in for it
-            lines = figure_lines(blk)
-            out += [f"*{md_escape(lines[0])}*", ""] + [f"- {md_escape(line.strip())}" for line in lines[1:]] + [""]
+            out += _figure_markdown(blk, figure_path(blk) if figure_path is not None else None)
         elif isinstance(blk, Caution):
             out += [f"*Caution.* {md_escape(blk.text)}", ""]
     return "\n".join(out).rstrip("\n") + "\n"
@@ -108,3 +123,29 @@ class MarkdownRenderer(Renderer):
         """Markdown of the document; ``fragment`` leaves out the title block."""
         layout = as_document(document).layout(style=self.style, fragment=fragment)
         return blocks_to_markdown(layout.blocks, layout.fmt)
+
+    def render_files(self, document: Any, *, stem: str, fragment: bool = False) -> tuple[str, tuple[tuple[str, bytes], ...]]:
+        """Markdown of the document with its figures as SVG files: (text, ((file name, bytes), ...)).
+
+        Each figure becomes ``<stem>-<figure name>.svg``, referenced from the
+        text; without matplotlib the text says the figure is omitted and no
+        file is made.
+        """
+        layout = as_document(document).layout(style=self.style, fragment=fragment)
+        files: list[tuple[str, bytes]] = []
+
+        def path(figure: Figure) -> str | None:
+            svg = figure_svg(figure)
+            if svg is None:
+                return None
+            taken = {name for name, _ in files}
+            name = f"{stem}-{figure.name}.svg"
+            k = 2
+            while name in taken:
+                name = f"{stem}-{figure.name}-{k}.svg"
+                k += 1
+            files.append((name, svg))
+            return name
+
+        text = blocks_to_markdown(layout.blocks, layout.fmt, figure_path=path)
+        return text, tuple(files)

@@ -129,7 +129,8 @@ def blocks_to_text(blocks: Sequence[Block], fmt: MathFormatter) -> str:
             if blk.detail:
                 out += textwrap.wrap(_plain(blk.detail, fmt), width=WIDTH, break_long_words=False)
         elif isinstance(blk, Figure):
-            out += figure_lines(blk)
+            # plain text draws no pictures: one line says where the figure is
+            out.append(f"[Figure: {squash(blk.name)}, drawn in the PDF and Markdown outputs]")
         elif isinstance(blk, Caution):
             # kept on one line, so the caution can be quoted and searched for verbatim
             out += ["", "Caution: " + squash(blk.text)]

@@ -1,0 +1,336 @@
+"""The sheet's section "Response at a glance": the engineering reading, written once as blocks.
+
+It answers, before the derivation, what an engineer reads a solution for:
+does it settle (the stability class and its reason, with symbolic parameters
+the conditions), how fast (the modes), to what (the final values), with what
+peak (peak, overshoot, 2 % settling and 10-90 % rise time per state), the
+steady amplitude and phase under a sinusoidal input, and two figures: the
+response of each state from the exact solution with independent numeric
+check points over it, and the eigenvalues in the complex plane.
+
+The reading (``derive.reading``) runs under ``limits.inner_limit``; a reading
+that runs out of time or raises a ``DeriveError`` is left out with one
+sentence saying so, and the sheet is written all the same.  Every renderer
+sets the section from these blocks; the JSON record gets ``reading_record``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import sympy as sp
+
+from ..errors import DeriveError
+from ..limits import LimitExpired, inner_limit
+from ..model import Solution
+from ..reading import Response, Stability, plot_span, samples
+from ..reading.checkpoints import check_points
+from ..reading.evaluation import approx
+from ..render.decimals import format_decimal
+from ..render.escape import spoken
+from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Table, VLine
+
+__all__ = [
+    "SheetReading", "sheet_reading", "reading_blocks", "reading_record", "response_figure", "figure_span", "READING_SECONDS", "FIGURE_POINTS",
+]
+
+#: Seconds the reading may take on a sheet before it is left out.
+READING_SECONDS = 30.0
+#: Samples of the exact solution per curve of the response figure.
+FIGURE_POINTS = 241
+
+_HEADING = "Response at a glance"
+
+
+@dataclass(frozen=True)
+class SheetReading:
+    """The reading as the sheet shows it: the response, its figures, the span, or why it is missing."""
+
+    response: Response | None
+    figures: tuple[Figure, ...] = ()
+    span: float | None = None
+    missing: str = ""
+
+
+#: (solution, reading) of the last sheet read: every format of one sheet shows
+#: the same reading, computed once (the solution itself is kept, so an identity
+#: match cannot be a different object at a reused address).
+_last: tuple[Solution, SheetReading] | None = None
+
+
+def sheet_reading(solution: Solution) -> SheetReading:
+    """The reading of ``solution`` for its sheet, under a time guard; never raises a ``DeriveError``."""
+    global _last
+    if _last is not None and _last[0] is solution:
+        return _last[1]
+    try:
+        with inner_limit(READING_SECONDS):
+            found = _read(solution)
+    except LimitExpired:
+        found = SheetReading(None, missing=f"The response reading was left out: it took longer than {READING_SECONDS:g} s.")
+    except DeriveError as exc:
+        found = SheetReading(None, missing=f"The response reading was left out: {spoken(exc.message)}")
+    _last = (solution, found)
+    return found
+
+
+def _read(solution: Solution) -> SheetReading:
+    response = solution.response  # type: ignore[attr-defined]
+    if not solution.verification.ok:
+        return SheetReading(response)
+    span = figure_span(solution)
+    figures: list[Figure] = []
+    if span is not None and solution.system.is_ivp:
+        figures.append(response_figure(solution, span=span))
+    eigen = _eigenvalue_figure(solution, response)
+    if eigen is not None:
+        figures.append(eigen)
+    return SheetReading(response, tuple(figures), span)
+
+
+# ---------------------------------------------------------------------------
+# Figures
+
+
+def figure_span(solution: Solution) -> float | None:
+    """The time a response figure shows: the case's ``[plot] span``, else ``reading.plot_span`` (None with symbols)."""
+    given = getattr(solution.case, "plot_span", None) if solution.case is not None else None
+    return float(given) if given is not None else plot_span(solution)
+
+
+def response_figure(solution: Solution, *, span: float, points: int = FIGURE_POINTS, checks: bool = True, height: float = 0.3) -> Figure:
+    """Each state over [t0, t0 + span] from the exact solution, with numeric check points unless ``checks`` is False."""
+    sy = solution.system
+    exact = samples(solution, span=span, points=points)
+    checked = check_points(solution, span=span) if checks else None
+    series: list[Series] = []
+    for s in sy.states:
+        series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name))
+    if checked is not None:
+        for k, s in enumerate(sy.states):
+            pts = tuple(zip(map(float, checked.times), map(float, checked.values[s.name])))
+            series.append(Series("numeric check" if k == 0 else "", pts, "marks", s.name))
+    start = float(exact.times[0])
+    end = start + span
+    impulses = [a for a in exact.impulses if start < a <= end]
+    lines = [VLine(a, "switch") for a in exact.switches if start < a <= end and a not in impulses]
+    lines += [VLine(a, "impulse") for a in impulses]
+    caption = f"Response of each state over {span:.3g} units of time from the exact solution (lines)"
+    if checks:
+        caption += (
+            ", with points of an independent numeric integration of the system (circles)"
+            if checked is not None else "; no numeric check points could be computed"
+        )
+    if any(line.style == "switch" for line in lines):
+        caption += "; dashed lines: input switches"
+    if impulses:
+        caption += "; dotted lines: impulses"
+    t = sy.t
+    return Figure(caption + ".", N(sp.latex(t), str(t)), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=height)
+
+
+def _eigenvalue_figure(solution: Solution, response: Response) -> Figure | None:
+    values = dict(response.values)
+    eigenvalues = [e.xreplace(values) for e in solution.eigenvalues]
+    if any(e.free_symbols for e in eigenvalues):
+        return None
+    points = tuple(sorted({(round(z.real, 12), round(z.imag, 12)) for z in map(approx, eigenvalues)}))
+    return Figure(
+        "Eigenvalues in the complex plane (the solid line is the imaginary axis: a mode to its left decays, "
+        "to its right grows).",
+        N(r"\operatorname{Re}\lambda", "Re λ"),
+        N(r"\operatorname{Im}\lambda", "Im λ"),
+        (Series("eigenvalues", points, "marks", "eigenvalues"),),
+        (VLine(0.0, "axis"),),
+        "eigenvalues",
+        height=0.2,
+    )
+
+
+# ---------------------------------------------------------------------------
+# Blocks
+
+
+def _number(value: Any) -> Name:
+    """A number as a short decimal (4 significant digits), in both spellings."""
+    expr = sp.Float(value) if isinstance(value, float) else sp.sympify(value, strict=True)
+    return Name(format_decimal(expr, digits=4, latex=True), format_decimal(expr, digits=4))
+
+
+def _quantity(value: Any) -> tuple[Inline, ...]:
+    """A reading figure: a decimal when it is a number, the exact expression otherwise, -- when undefined."""
+    if value is None:
+        return ("--",)
+    if isinstance(value, float):
+        return (_number(value),) if math.isfinite(value) else ("--",)
+    expr = sp.sympify(value, strict=True)
+    if expr.free_symbols:
+        return (Math(expr),)
+    return (_number(expr),)
+
+
+def _eigenvalue(mode: Any) -> tuple[Inline, ...]:
+    lam = sp.sympify(mode.eigenvalue, strict=True)
+    if not mode.is_pair or lam.free_symbols:
+        return _quantity(lam)
+    re_, im_ = sp.re(lam), sp.Abs(sp.im(lam))
+    # one formula: two inline formulas side by side would read as $$ (display math) in LaTeX and Markdown
+    a, b = _number(re_), _number(im_)
+    return (Name(f"{a.latex} \\pm {b.latex}", f"{a.plain} ± {b.plain}"), " ", Math(sp.I))
+
+
+_TAU = N(r"\tau = -1/\operatorname{Re}\lambda", "τ = -1/Re λ")
+_OMEGA_N = N(r"\omega_n = |\lambda|", "ω_n = |λ|")
+_ZETA = N(r"\zeta = -\operatorname{Re}\lambda/|\lambda|", "ζ = -Re λ/|λ|")
+_OMEGA_D = N(r"\omega_d = |\operatorname{Im}\lambda|", "ω_d = |Im λ|")
+
+
+def _settles(r: Response) -> list[Block]:
+    words = {
+        Stability.ASYMPTOTIC: "Yes: asymptotically stable",
+        Stability.MARGINAL: "It stays bounded but does not settle: marginally stable",
+        Stability.UNSTABLE: "No: unstable",
+        Stability.UNDECIDED: "It depends on the parameters",
+    }
+    reason = spoken(r.reason)
+    out: list[Block] = [P("Does it settle? ", words[r.stability], ". ", reason[:1].upper() + reason[1:] + ".")]
+    if r.conditions:
+        rows: list[tuple[Inline, ...]] = []
+        for kind, relations in r.conditions:
+            row: list[Inline] = [f"{str(kind).capitalize()} when "]
+            for k, rel in enumerate(relations):
+                # "one of them fails" is an Or: said in words, as the "and" of the others
+                either = rel.args if isinstance(rel, sp.Or) else (rel,)
+                for j, part in enumerate(either):
+                    row += ([" and "] if k and not j else [" or "] if j else []) + [Math(part)]
+            rows.append(tuple(row + ["."]))
+        out.append(Items(tuple(rows)))
+    return out
+
+
+def _modes(r: Response) -> list[Block]:
+    if not r.modes:
+        return []
+    numeric = not any(sp.sympify(m.eigenvalue, strict=True).free_symbols for m in r.modes)
+    out: list[Block] = [P(
+        "How fast? One mode per real eigenvalue or complex pair, with ", _TAU, ", ", _OMEGA_N, ", ", _ZETA, " and ", _OMEGA_D,
+        "; the dominant mode, the slowest to decay, sets how long the response takes." if any(m.dominant for m in r.modes) else ".",
+    )]
+    if numeric:
+        rows = tuple(
+            (
+                (f"{k}{' (dominant)' if m.dominant else ''}",),
+                _eigenvalue(m),
+                _quantity(m.time_constant),
+                _quantity(m.natural_frequency),
+                _quantity(m.damping_ratio),
+                _quantity(m.damped_frequency),
+            )
+            for k, m in enumerate(r.modes, start=1)
+        )
+        header = ("Mode", (N(r"\lambda", "λ"),), (N(r"\tau", "τ"),), (N(r"\omega_n", "ω_n"),), (N(r"\zeta", "ζ"),), (N(r"\omega_d", "ω_d"),))
+        out.append(Table(header, rows, align="lrrrrr"))
+        return out
+    items: list[tuple[Inline, ...]] = []
+    for k, m in enumerate(r.modes, start=1):
+        row: list[Inline] = [f"Mode {k}{' (dominant)' if m.dominant else ''}: ", N(r"\lambda", "λ"), " = ", *_eigenvalue(m)]
+        for name, value in ((N(r"\tau", "τ"), m.time_constant), (N(r"\omega_n", "ω_n"), m.natural_frequency),
+                            (N(r"\zeta", "ζ"), m.damping_ratio), (N(r"\omega_d", "ω_d"), m.damped_frequency)):
+            row += ["; ", name, " = ", *_quantity(value)]
+        items.append(tuple(row + ["."]))
+    out.append(Items(tuple(items)))
+    return out
+
+
+def _states(solution: Solution, r: Response) -> list[Block]:
+    if not r.states:
+        why = (
+            "the case has no initial values" if not solution.system.is_ivp
+            else "some parameters have no value"
+        )
+        return [P(f"To what, with what peak? Final values, peaks, settling and rise times are read for an initial value problem with a value for every parameter; here {why}.")]
+    out: list[Block] = [P(
+        "To what, with what peak? Per state, from the exact solution, times from ", Math(solution.system.t0),
+        ": the final value, the largest excursion (peak), the overshoot past the final value relative to the change, "
+        "the last entry into a band of 2 % of the change (settling) and the time from 10 % to 90 % of it (rise).",
+    )]
+    rows = []
+    for s in solution.system.states:
+        st = r.states[s.name]
+        peak = st.peak
+        rows.append((
+            (Math(s),),
+            _quantity(st.initial_value),
+            _quantity(st.final_value),
+            _quantity(peak[0] - float(approx(solution.system.t0.xreplace(r.values)).real) if peak else None),
+            _quantity(peak[1] if peak else None),
+            ("--",) if st.overshoot is None else (_number(100 * st.overshoot), " %"),
+            _quantity(st.settling_time),
+            _quantity(st.rise_time),
+        ))
+    header = ("State", "Initial", "Final", "Peak time", "Peak", "Overshoot", "Settling 2 %", "Rise 10-90 %")
+    out.append(Table(header, tuple(rows), align="lrrrrrrr"))
+    return out
+
+
+def _sinusoid(solution: Solution, r: Response) -> list[Block]:
+    if not r.sinusoidal:
+        return []
+    first = next(iter(r.sinusoidal.values()))
+    steady = "the steady response" if r.stability is Stability.ASYMPTOTIC else "the periodic part of the response (steady only if the free response decays)"
+    rows = tuple(
+        ((Math(s),), _quantity(part.amplitude), _quantity(part.phase), _quantity(part.offset))
+        for s in solution.system.states
+        if (part := r.sinusoidal.get(s.name)) is not None
+    )
+    return [
+        P(f"Sinusoidal input: {steady} of each state is ",
+          N(r"\text{offset} + \text{amplitude}\,\sin(\omega t + \text{phase})", "offset + amplitude sin(ω t + phase)"),
+          ", with ", N(r"\omega", "ω"), " = ", *_quantity(first.frequency), ":"),
+        Table(("State", "Amplitude", "Phase (rad)", "Offset"), rows, align="lrrr"),
+    ]
+
+
+def reading_blocks(solution: Solution) -> tuple[Block, ...]:
+    """The section "Response at a glance" as blocks (a sentence in its place when the reading is missing)."""
+    found = sheet_reading(solution)
+    out: list[Block] = [Heading(2, _HEADING)]
+    r = found.response
+    if r is None:
+        return (*out, P(found.missing))
+    if r.values:
+        given: list[Inline] = ["Read from the exact solution at the declared parameter values ("]
+        for k, (symbol, value) in enumerate(sorted(r.values.items(), key=lambda kv: kv[0].name)):
+            given += ([", "] if k else []) + [Math(sp.Eq(symbol, value, evaluate=False))]
+        out.append(P(*given, ")."))
+    elif solution.system.params:
+        out.append(P("Read with the parameters kept as symbols: give them values for numbers and figures."))
+    out += _settles(r)
+    out += _modes(r)
+    out += _states(solution, r)
+    out += _sinusoid(solution, r)
+    if not solution.verification.ok:
+        out.append(P("No figures: the verification failed."))
+    out += found.figures
+    return tuple(out)
+
+
+def reading_record(solution: Solution) -> dict[str, Any]:
+    """The reading for the JSON record (``{"missing": reason}`` when left out); records and
+    sympy values stay as they are, for ``sheet.to_json_value`` to turn into JSON data."""
+    found = sheet_reading(solution)
+    r = found.response
+    if r is None:
+        return {"missing": found.missing}
+    return {
+        "stability": str(r.stability),
+        "reason": spoken(r.reason),
+        "conditions": [{"class": str(kind), "relations": [str(rel) for rel in rels]} for kind, rels in r.conditions],
+        "modes": r.modes,
+        "states": dict(r.states),
+        "sinusoidal": None if r.sinusoidal is None else dict(r.sinusoidal),
+        "span": found.span,
+        "values": {str(k): str(v) for k, v in r.values.items()},
+    }
