@@ -262,3 +262,22 @@ def test_the_batch_index_shows_a_small_response_figure_per_verified_case() -> No
     assert all(s.style == "line" for f in thumbs for s in f.series)  # the sheets carry the check points
     tex = render(BatchIndexDocument(results, {"ok": 3, "bad-input": 1}, total=4), "latex")
     assert tex.count(r"\begin{tikzpicture}") == 2 and "Responses at a glance" in tex
+
+
+def test_a_cli_batch_index_has_the_figures_although_solutions_are_not_kept(tmp_path: Path) -> None:
+    # the CLI's batch keeps no solutions in the parent: the workers draw the small figures
+    from click.testing import CliRunner
+
+    from derive.cli import cli
+
+    folder = tmp_path / "in"
+    folder.mkdir()
+    (folder / "smd.toml").write_text((DATA / "smd.toml").read_text())
+    (folder / "general.toml").write_text('[system]\nmatrix = [[-1]]\n')
+    out = tmp_path / "out"
+    res = CliRunner().invoke(cli, ["batch", str(folder), "-o", str(out), "--no-pdf", "--jobs", "1"])
+    assert res.exit_code == 0, res.output
+    tex = (out / "index.tex").read_text()
+    assert tex.count(r"\begin{tikzpicture}") == 1 and "smd" in tex
+    summary = (out / "summary.json").read_text()
+    assert "thumbnail" not in summary

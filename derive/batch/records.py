@@ -67,6 +67,8 @@ class CaseResult:
     slowest_time_constant: float | str | None = None
     final_values: tuple[tuple[str, float | None], ...] = ()
     peaks: tuple[tuple[str, float, float], ...] = ()
+    #: the index's small response figure (a ``documents.blocks.Figure``), drawn by the worker; not in the summary
+    thumbnail: Any = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         # An unknown status text fails here, where the record is made, not in the summary.
@@ -78,7 +80,7 @@ class CaseResult:
 
     def row(self) -> dict[str, Any]:
         """The JSON-ready record (no solution)."""
-        out = {f.name: getattr(self, f.name) for f in fields(self) if f.name != "solution"}
+        out = {f.name: getattr(self, f.name) for f in fields(self) if f.name not in ("solution", "thumbnail")}
         out["status"] = self.status.value
         out["eigenvalues"] = list(self.eigenvalues)
         out["outputs"] = list(self.outputs)

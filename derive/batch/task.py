@@ -30,6 +30,7 @@ from concurrent.futures import TimeoutError as FutureTimeout
 from dataclasses import dataclass, replace
 from pathlib import Path
 
+from ..documents.batch_index import response_thumbnail
 from ..errors import DeriveError, InputError, OutputError, TimeLimitError, VerificationError
 from ..limits import time_limit
 from ..model import Case, Solution
@@ -155,6 +156,7 @@ def run_task(task: CaseTask) -> Outcome:
         outputs=outputs,
         message=message,
         solution=sol if task.keep_solution else None,
+        thumbnail=response_thumbnail(sol, case.name) if sol is not None and status is Status.OK else None,
         **figures,
     )
     return result, files

@@ -22,7 +22,7 @@ from .base import Document, Frame, Layout, label_key, program_versions
 from .blocks import Alert, Block, Caution, Code, Figure, Heading, Inline, N, P, Strong, Table
 from .reading_section import figure_span, response_figure
 
-__all__ = ["BatchIndexDocument", "write_index", "index_rows", "response_thumbnails", "TITLE", "INDEX_FIGURES"]
+__all__ = ["BatchIndexDocument", "write_index", "index_rows", "response_thumbnails", "response_thumbnail", "TITLE", "INDEX_FIGURES"]
 
 #: The index draws the response of at most this many cases (a sweep of hundreds would make a book).
 INDEX_FIGURES = 24
@@ -68,27 +68,43 @@ def index_rows(results: Sequence[Any]) -> list[dict[str, Any]]:
     return rows
 
 
-def response_thumbnails(results: Sequence[Any], *, limit: int = INDEX_FIGURES) -> tuple[Figure, ...]:
-    """A small response figure for each verified initial value problem whose solution was kept (the first ``limit``).
+def response_thumbnail(solution: Any, name: str) -> Figure | None:
+    """The small response figure of one verified initial value problem, or None.
 
     Drawn from the exact solution like the sheet's figure, with fewer points and
-    no check points (each case's sheet has those); a case whose figure cannot be
-    drawn in time, or has parameters without values, is left out.
+    no check points (the case's sheet has those); None when it cannot be drawn
+    in ``FIGURE_SECONDS`` or has parameters without values.  A batch worker
+    draws it beside the sheet, so the index has it even when solutions are
+    not kept.
+    """
+    if solution is None or not solution.ok or not solution.system.is_ivp:
+        return None
+    try:
+        with inner_limit(FIGURE_SECONDS):
+            span = figure_span(solution)
+            if span is None:
+                return None
+            figure = response_figure(solution, span=span, points=61, checks=False, height=0.2)
+    except (DeriveError, LimitExpired):
+        return None
+    return Figure(f"{name}: {figure.caption}", figure.xlabel, figure.ylabel, figure.series, figure.lines, name, figure.height)
+
+
+def response_thumbnails(results: Sequence[Any], *, limit: int = INDEX_FIGURES) -> tuple[Figure, ...]:
+    """The small response figures of the first ``limit`` verified initial value problems.
+
+    A result's own ``thumbnail`` (drawn by the worker) is used; else one is
+    drawn from its kept solution.
     """
     out: list[Figure] = []
     for r in results:
-        solution = getattr(r, "solution", None)
-        if len(out) >= limit or solution is None or not r.ok or not solution.system.is_ivp:
+        if len(out) >= limit:
+            break
+        if not r.ok:
             continue
-        try:
-            with inner_limit(FIGURE_SECONDS):
-                span = figure_span(solution)
-                if span is None:
-                    continue
-                figure = response_figure(solution, span=span, points=61, checks=False, height=0.2)
-        except (DeriveError, LimitExpired):
-            continue
-        out.append(Figure(f"{r.name}: {figure.caption}", figure.xlabel, figure.ylabel, figure.series, figure.lines, r.name, figure.height))
+        figure = getattr(r, "thumbnail", None) or response_thumbnail(getattr(r, "solution", None), r.name)
+        if figure is not None:
+            out.append(figure)
     return tuple(out)
 
 
