@@ -80,8 +80,10 @@ class Naming:
 
     def back(self, expr: sp.Expr) -> sp.Expr:
         """The exact expression behind a named one."""
-        out = expr.xreplace({sym: poly for poly, sym in self.denominators})
-        return out.xreplace({sym: value for sym, value in self.rows})
+        out = expr
+        for _ in range(3):  # a name defined through another (Gamma in omega)
+            out = out.xreplace({sym: poly for poly, sym in self.denominators}).xreplace({sym: value for sym, value in self.rows})
+        return out
 
     def pick(self, candidates: Sequence[str], extra: set[str] = set()) -> str:
         """The first candidate name free in this sheet."""
@@ -531,7 +533,7 @@ def where_blocks(rows: Sequence[tuple[sp.Symbol, sp.Expr]], fmt: MathFormatter, 
         if text and not value.is_Rational:
             unit = r"\ \mathrm{rad}" if sym.name.startswith(("phi", "psi", "theta")) else ""
             decs_tex.append(rf"{fmt.m(sym)} \approx {text}{unit}")
-            decs_plain.append(f"{fmt.plain(sym)} ~ {decimal_text(exact(value), fmt, latex=False)}{' rad' if unit else ''}")
+            decs_plain.append(f"{fmt.plain(sym)} ≈ {decimal_text(exact(value), fmt, latex=False)}{' rad' if unit else ''}")
     if decs_tex:
         out.append(P("In decimals: ", Name(r",\; ".join(decs_tex), ", ".join(decs_plain)), ".", runs_on=True))
     return out
