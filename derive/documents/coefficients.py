@@ -132,14 +132,13 @@ def naming_for(solution: Solution) -> Naming:
     roots = sorted({p for e in solution.x if isinstance(e, sp.Basic) for p in e.atoms(sp.Pow)
                     if p.exp == sp.S.Half and p.base.is_Integer and p.base >= 10}, key=lambda p: int(p.base))
     for k, r in enumerate(roots):
-        base = naming.pick(("Delta", "Theta", "Xi"), {s.name for s, _ in rows})
-        name = base if len(roots) == 1 else f"{base}_{k + 1}"
+        letter = naming.pick(("Delta", "Theta", "Xi"), {s.name for s, _ in rows})
+        name = letter if len(roots) == 1 else f"{letter}_{k + 1}"
         sym = sp.Symbol(name, positive=True)
         rows.append((sym, r))
         forward.append((r, sym))
         algebraic.append((sym, int(r.base)))
-    base = Naming(rows=tuple(rows), forward=tuple(forward), algebraic=tuple(algebraic), used=used)
-    return _with_denominators(base, solution)
+    return _with_denominators(Naming(rows=tuple(rows), forward=tuple(forward), algebraic=tuple(algebraic), used=used), solution)
 
 
 def _with_denominators(naming: Naming, solution: Solution) -> Naming:
@@ -253,7 +252,8 @@ def _factored(p: sp.Expr, algebraic: Sequence[tuple[sp.Symbol, int]]) -> list[sp
     if not syms:
         return [content, *sp.Mul.make_args(sp.factor(prim))]
     parts = sp.collect(sp.expand(prim), syms, evaluate=False)
-    pieces = [sp.factor(coeff) * key for key, coeff in parts.items()]
+    # a part free of every other symbol is a number: nothing to factor
+    pieces = [(coeff if coeff.is_number else sp.factor(coeff)) * key for key, coeff in parts.items()]
     return [content, *sp.Mul.make_args(sp.Add(*pieces))]
 
 

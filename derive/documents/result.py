@@ -54,7 +54,7 @@ def result_forms(solution: Solution, ctx: StepContext) -> ResultForms:
     """The display forms of ``solution``'s result (computed once per context)."""
     if "result" not in ctx.cache:
         ctx.cache["result"] = ResultForms(solution, ctx)
-    return ctx.cache["result"]  # type: ignore[no-any-return]
+    return ctx.cache["result"]
 
 
 def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:

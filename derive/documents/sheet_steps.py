@@ -42,7 +42,7 @@ class StepContext:
         """omega, Delta, Gamma for this sheet (see ``derive.documents.coefficients``)."""
         if "naming" not in self.cache:
             self.cache["naming"] = naming_for(self.solution)
-        return self.cache["naming"]  # type: ignore[no-any-return]
+        return self.cache["naming"]
 
     def compact(self, obj: Any, var: sp.Symbol | None = None) -> Any:
         """An expression (or each entry of a matrix) collected by mode in ``var`` (t) with tidy coefficients,
@@ -457,10 +457,13 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
 
 def _recombine(s: Any, c: StepContext) -> list[Block]:
     complex_form = any(getattr(other, "kind", "") == "real_form" for other in c.solution.steps)
+    # in complex form the parts go to the appendix as they stand (collecting them costs seconds on a
+    # 6-state case, for a stage the real form replaces)
+    show = (lambda M: M) if complex_form else c.compact
     parts: list[Block] = [
-        _mat(r"x^{\mathrm{h}}", "x_h", c.compact(s.homogeneous)),
+        _mat(r"x^{\mathrm{h}}", "x_h", show(s.homogeneous)),
         P("and the remaining terms the particular part,"),
-        _mat(r"x^{\mathrm{p}}", "x_p", c.compact(s.particular)),
+        _mat(r"x^{\mathrm{p}}", "x_p", show(s.particular)),
     ]
     moved: list[Block] = [
         P("Each solved ", N("y_k"), " times the ", N("k"), "-th column of ", N("P"), ", the terms carrying the constants:"),

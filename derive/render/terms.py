@@ -23,7 +23,7 @@ class Terms(sp.Expr):
     """
 
     def __new__(cls, *terms: Any) -> "Terms":
-        return sp.Expr.__new__(cls, *(sp.sympify(x, strict=True) for x in terms))  # type: ignore[no-any-return]
+        return sp.Expr.__new__(cls, *(sp.sympify(x, strict=True) for x in terms))
 
     @property
     def value(self) -> sp.Expr:
