@@ -395,7 +395,8 @@ class Sinusoid:
 
     def term(self, naming: Naming, t: sp.Symbol) -> sp.Expr:
         """A_k sin(omega t + phi_k), in the names."""
-        return self.amplitude_name * sp.sin(naming.apply(self.argument) + self.phase_name)
+        # the phase after the running argument, as written by hand: sin(omega t + phi_1)
+        return self.amplitude_name * sp.sin(Terms(naming.apply(self.argument), self.phase_name), evaluate=False)
 
 
 def steady_sinusoids(solution: Solution, naming: Naming) -> dict[int, Sinusoid]:
