@@ -148,8 +148,7 @@ def _with_denominators(naming: Naming, solution: Solution) -> Naming:
     for e in solution.x:
         pairs = mode_terms(e, t) if isinstance(e, sp.Expr) else None
         for c, _ in pairs or ():
-            parts = tidy_parts(c, naming)
-            den = sp.fraction(parts[-1])[1] if len(parts) > 1 else sp.Integer(1)
+            den = sp.Mul(*(p.base for p in tidy_parts(c, naming) if p.is_Pow and p.exp == -1))
             for factor in sp.Mul.make_args(den):
                 base = factor.base if factor.is_Pow else factor
                 if base.is_Add and len(base.args) >= 3:
@@ -274,10 +273,11 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     n_parts = _factored(num, algebraic)
     d_parts = _factored(den, algebraic)
     number = n_parts[0] / d_parts[0]
-    rest_den = d_parts[1] if len(d_parts) > 1 else sp.Integer(1)
+    rest_den = sp.Mul(*d_parts[1:])
     for poly, sym in naming.denominators:
         rest_den = rest_den.xreplace({poly: sym})
-    factors = [number, *n_parts[1:]] + ([1 / rest_den] if rest_den != 1 else [])
+    # one power per factor below, so the printers set a single fraction bar
+    factors = [number, *n_parts[1:]] + [sp.Pow(f, -1) for f in sp.Mul.make_args(rest_den) if f != 1]
     return [f.xreplace({iota: sp.I}) for f in factors if f != 1] or [sp.Integer(1)]
 
 
@@ -505,7 +505,10 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
         if cd is None or md is None:
             return None
         if cd != 0:
-            terms.append(sp.Mul(cd, *sp.Mul.make_args(md), evaluate=False) if md != 1 else cd)
+            if md == 1 or abs(cd) != 1:
+                terms.append(sp.Mul(cd, *sp.Mul.make_args(md), evaluate=False) if md != 1 else cd)
+            else:
+                terms.append(md if cd == 1 else -md)
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
 
 
