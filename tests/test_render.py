@@ -475,7 +475,12 @@ def test_large_matrices_are_shown_by_columns_or_elements() -> None:
     f = fmt()
     big = sp.ImmutableMatrix(6, 6, lambda i, j: i - j)
     shown = f.matrix_display("P", big)
-    assert r"\operatorname{col}_{6} P" in shown and shown.count(r"\begin{bmatrix}") == 6
+    # six columns of six entries: each column a transposed row on a line of its own, not six tall brackets
+    assert r"\operatorname{col}_{6} P = \bigl(-5, -4, -3, -2, -1, 0\bigr)^{T}" in shown and r"\begin{bmatrix}" not in shown
+    assert shown.count(r"\operatorname{col}_") == 6
+    tall = sp.ImmutableMatrix(3, 6, lambda i, j: i - j)
+    assert f.matrix_display("Q", tall).count(r"\begin{bmatrix}") >= 1  # short columns stay bracketed
+    assert f.matrix_display("v", sp.ImmutableMatrix([1, 0, -1, 2])) == "\\begin{align*}\nv &= \\bigl(1, 0, -1, 2\\bigr)^{T}\n\\end{align*}"
     wide = sp.ImmutableMatrix([[sp.expand((1 + t) ** 9), 1], [0, 2]])
     shown = f.matrix_display("M", wide)
     assert "M_{11}" in shown and "all other entries" in shown

@@ -23,6 +23,7 @@ from ..render.printing import MathFormatter, MathStyle, collect_roots, format_de
 from .base import Document, Frame, Layout, label_key, parameter_assumptions, program_versions
 from .blocks import Alert, Block, Eq, Heading, Inline, Items, Math, N, P
 from .reading_section import reading_blocks, reading_record
+from .result import result_blocks, result_record
 from .sheet_steps import StepContext, step_blocks
 from .output_blocks import result_rows
 
@@ -161,12 +162,8 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
     b.append(Heading(2, "Result"))
     if not ver.ok:
         b.append(Alert((FAILED,)))
-    b.append(Eq(ctx.state_rows(solution.x)))
+    b += result_blocks(solution, ctx)
     b += result_rows(solution, fmt)
-    if any(e != 0 for e in solution.particular):
-        b.append(P("Homogeneous part (free response) and particular part (forced response):"))
-        b.append(Eq(ctx.state_rows(solution.homogeneous, "h")))
-        b.append(Eq(ctx.state_rows(solution.particular, "p")))
     if solution.constants:
         b.append(P("Arbitrary constants: ", Math(sp.Tuple(*solution.constants)), "."))
     b += ctx.legend([solution.x])
@@ -293,6 +290,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
         "D": to_json_value(solution.D),
         "P_inv": to_json_value(solution.P_inv),
         "x": _column(solution.x),
+        "result_forms": result_record(solution, StepContext(solution=solution, fmt=MathFormatter.for_roots(roots), lam=sheet_lambda(solution))),
         "homogeneous": _column(solution.homogeneous),
         "particular": _column(solution.particular),
         "constants": [str(c) for c in solution.constants],

@@ -20,6 +20,7 @@ from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
 from .output_blocks import output_blocks, values_blocks
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
+from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
 
@@ -34,6 +35,42 @@ class StepContext:
     #: (label, heading, blocks) of the long intermediate algebra, moved to the
     #: appendix at the end of the sheet; filled as the steps are described
     appendix: list[tuple[str, Heading, list[Block]]] = field(default_factory=list)
+    #: the names of recurring subexpressions (computed on first use) and those already introduced
+    cache: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def naming(self) -> Naming:
+        """omega, Delta, Gamma for this sheet (see ``derive.documents.coefficients``)."""
+        if "naming" not in self.cache:
+            self.cache["naming"] = naming_for(self.solution)
+        return self.cache["naming"]
+
+    def compact(self, obj: Any, var: sp.Symbol | None = None) -> Any:
+        """An expression (or each entry of a matrix) collected by mode in ``var`` (t) with tidy coefficients,
+        in the names; display only."""
+        t = var if var is not None else self.t
+        if isinstance(obj, sp.MatrixBase):
+            if not any(isinstance(e, sp.Expr) and e.has(t) for e in obj):
+                return obj
+            return sp.ImmutableMatrix(obj.rows, obj.cols, [self.compact(e, t) for e in obj])
+        if not isinstance(obj, sp.Expr) or not obj.has(t):
+            return obj
+        # every symbol that is not a parameter (y_1, c_1) is part of a mode, not of a coefficient
+        params = {p.symbol for p in self.solution.system.params}
+        unknowns = frozenset(x for x in obj.free_symbols if x != t and x not in params)
+        return compact(obj, t, self.naming, values=parameter_values(self.solution) or {}, unknowns=unknowns)
+
+    def where(self, *objs: Any) -> list[Block]:
+        """A "where" line defining each name that ``objs`` use and the derivation has not defined yet."""
+        introduced: set[sp.Symbol] = self.cache.setdefault("introduced", set())
+        present: set[sp.Basic] = set()
+        for obj in objs:
+            present |= getattr(obj, "free_symbols", set())
+        rows = [(sym, value) for sym, value in self.naming.rows if sym in present and sym not in introduced]
+        if not rows:
+            return []
+        introduced |= {sym for sym, _ in rows}
+        return where_blocks(rows, self.fmt)
 
     def to_appendix(self, title: str, math: Name | None, bookmark: str, blocks: list[Block]) -> str:
         """Move ``blocks`` to the appendix under ``title`` (+ ``math``); returns their label, ``A.3``."""
@@ -77,14 +114,16 @@ class StepContext:
         """An eigenvalue by its root name where it has one (``lambda_3``), else its value."""
         return Name(self.fmt.root_value(value), self.fmt.root_value_plain(value))
 
+    def state_name(self, i: int, part: str = "") -> Name:
+        """``x_1(t)``, or ``x_1^p(t)`` for a part, of state ``i`` (from 0)."""
+        state = self.solution.system.states[i]
+        mark = rf"^{{\mathrm{{{part}}}}}" if part else ""
+        pl = self.fmt.plain(state) + (f"_{part}" if part else "")
+        return Name(f"{{{self.fmt.m(state)}}}{mark}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})")
+
     def state_rows(self, vec: sp.MatrixBase, part: str = "") -> tuple[tuple[Name, Any], ...]:
-        states = self.solution.system.states
-        rows = []
-        for i in range(vec.rows):
-            mark = rf"^{{\mathrm{{{part}}}}}" if part else ""
-            pl = self.fmt.plain(states[i]) + (f"_{part}" if part else "")
-            rows.append((Name(f"{{{self.fmt.m(states[i])}}}{mark}({self.fmt.m(self.t)})", f"{pl}({self.fmt.plain(self.t)})"), vec[i]))
-        return tuple(rows)
+        """(``x_1(t)``, entry) rows, each entry collected by mode (display only)."""
+        return tuple((self.state_name(i, part), self.compact(vec[i])) for i in range(vec.rows))
 
     def legend(self, objs: Sequence[Any]) -> list[Block]:
         """A paragraph naming the indexed roots that occur in ``objs`` (empty when none do)."""
@@ -351,9 +390,9 @@ def _decouple(s: Any, c: StepContext) -> list[Block]:
         P("Substituting ", N(r"x = P\,y", "x = P y"), " into ", N(r"x' = A\,x + f", "x' = A x + f"), " and multiplying by ",
           N("P^{-1}", "P^-1"), " gives ", N(r"y' = P^{-1} A P\,y + P^{-1} f = D\,y + g", "y' = P^-1 A P y + P^-1 f = D y + g"),
           ", with ", N(f"y = ({c.m_list(s.y)})^{{T}}", f"y = ({c.plain_list(s.y)})^T"), " and the transformed forcing"),
-        _mat(f"g({T}) = P^{{-1}} f({T})", f"g({Tp}) = P^-1 f({Tp})", s.g),
+        _mat(f"g({T}) = P^{{-1}} f({T})", f"g({Tp}) = P^-1 f({Tp})", c.compact(s.g)),
         P("Row by row, the equations to solve are:"),
-        Eq(tuple((N(f"{f.m(s.y[k])}'({T})", f"{f.plain(s.y[k])}'({Tp})"), rhs[k]) for k in range(len(s.y)))),
+        Eq(tuple((N(f"{f.m(s.y[k])}'({T})", f"{f.plain(s.y[k])}'({Tp})"), c.compact(rhs[k])) for k in range(len(s.y)))),
     ]
 
 
@@ -368,11 +407,11 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
             P("The eigenvalue ", c.root_value(s.eigenvalue), " is the complex conjugate of the one of ", other,
               ". Since ", N("A"), " and ", N("f"), " are real, ", N(Y, Yp), " is the complex conjugate of ", other,
               " (with its own constant ", Math(s.constant), "):"),
-            Eq(((c.fn(s.y), s.solution),)),
+            Eq(((c.fn(s.y), c.compact(s.solution)),)),
         ]
     out += [
         P("The equation for ", N(Y, Yp), ", with eigenvalue ", c.root_value(s.eigenvalue), ", is"),
-        Eq(((N(f"{Y}'({T})", f"{Yp}'({Tp})"), s.eigenvalue * s.y + s.rhs),)),
+        Eq(((N(f"{Y}'({T})", f"{Yp}'({Tp})"), c.compact(s.eigenvalue * s.y + s.rhs)),)),
     ]
     k = s.index
     g, gp = f"g_{{{k}}}", f"g_{k}"
@@ -384,7 +423,7 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
               " plus the next component of the same Jordan block, already solved, ",
               N(f"{f.m(s.coupling)} = {f.m(s.coupling_value)}", f"{f.plain(s.coupling)} = {f.plain(s.coupling_value)}"),
               "; together"),
-            Eq(((N(rf"{g}({T}) + {f.m(s.coupling)}({T})", f"{gp}({Tp}) + {f.plain(s.coupling)}({Tp})"), s.rhs),)),
+            Eq(((N(rf"{g}({T}) + {f.m(s.coupling)}({T})", f"{gp}({Tp}) + {f.plain(s.coupling)}({Tp})"), c.compact(s.rhs)),)),
         ]
     else:
         G, Gp = g, gp
@@ -393,10 +432,10 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
     V, Vp = f.m(var), f.plain(var)
     out += [
         P("Multiplying by the integrating factor"),
-        Eq(((N(rf"\mu({T})", f"μ({Tp})"), s.factor),)),
+        Eq(((N(rf"\mu({T})", f"μ({Tp})"), c.compact(s.factor)),)),
         P("makes the left side an exact derivative, ",
           N(rf"\frac{{d}}{{d{T}}}\bigl(\mu\,{Y}\bigr) = \mu\,{G}", f"d/d{Tp} (μ {Yp}) = μ {Gp}"), ", with"),
-        Eq(((N(rf"\mu({V})\,{G}({V})", f"μ({Vp}) {Gp}({Vp})"), s.integrand.xreplace({s.t: var})),)),
+        Eq(((N(rf"\mu({V})\,{G}({V})", f"μ({Vp}) {Gp}({Vp})"), c.compact(s.integrand.xreplace({s.t: var}), var)),)),
     ]
     if s.resonant:
         out.append(P("The forcing has the same exponent as the eigenvalue (resonance): the exponentials cancel in the "
@@ -405,24 +444,27 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
         t0, t0p = f.m(s.t0), f.plain(s.t0)
         out += [
             P("Integrating from ", N(f"{T}_0 = {t0}", f"{Tp}0 = {t0p}"), " to ", N(T, Tp), ":", runs_on=True),
-            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu({V})\,{G}({V}) \, d{V}", f"integral from {t0p} to {Tp} of μ({Vp}) {Gp}({Vp}) d{Vp}"), s.integral),)),
+            Eq(((N(rf"\int_{{{t0}}}^{{{T}}} \mu({V})\,{G}({V}) \, d{V}", f"integral from {t0p} to {Tp} of μ({Vp}) {Gp}({Vp}) d{Vp}"), c.compact(s.integral)),)),
         ]
     else:
         out += [P("An antiderivative is", runs_on=True),
-                Eq(((N(rf"\int \mu({V})\,{G}({V}) \, d{V}", f"antiderivative of μ({Vp}) {Gp}({Vp})"), s.integral),))]
+                Eq(((N(rf"\int \mu({V})\,{G}({V}) \, d{V}", f"antiderivative of μ({Vp}) {Gp}({Vp})"), c.compact(s.integral)),))]
     out += [
         P("Dividing by ", N(r"\mu", "μ"), ", with the constant ", Math(s.constant), ":"),
-        Eq(((c.fn(s.y), s.solution),)),
+        Eq(((c.fn(s.y), c.compact(s.solution)),)),
     ]
     return out
 
 
 def _recombine(s: Any, c: StepContext) -> list[Block]:
     complex_form = any(getattr(other, "kind", "") == "real_form" for other in c.solution.steps)
+    # in complex form the parts go to the appendix as they stand (collecting them costs seconds on a
+    # 6-state case, for a stage the real form replaces)
+    show = (lambda M: M) if complex_form else c.compact
     parts: list[Block] = [
-        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
+        _mat(r"x^{\mathrm{h}}", "x_h", show(s.homogeneous)),
         P("and the remaining terms the particular part,"),
-        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
+        _mat(r"x^{\mathrm{p}}", "x_p", show(s.particular)),
     ]
     moved: list[Block] = [
         P("Each solved ", N("y_k"), " times the ", N("k"), "-th column of ", N("P"), ", the terms carrying the constants:"),
@@ -462,8 +504,8 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
             _mat(r"\operatorname{Re} v", "Re v", p.vector_re),
             _mat(r"\operatorname{Im} v", "Im v", p.vector_im),
             P("The real and imaginary parts of ", N(rf"v\,e^{{\lambda {T}}}", f"v exp(λ {Tp})"), " are two real solutions:"),
-            _mat(re_v, f"Re(v exp(λ {Tp}))", p.real_part),
-            _mat(im_v, f"Im(v exp(λ {Tp}))", p.imag_part),
+            _mat(re_v, f"Re(v exp(λ {Tp}))", c.compact(p.real_part)),
+            _mat(im_v, f"Im(v exp(λ {Tp}))", c.compact(p.imag_part)),
         ]
         out.append(
             P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
@@ -477,8 +519,8 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         out.append(P(f"The real and imaginary parts of each pair are worked out in Appendix {label}.", runs_on=True))
     out += [
         P("In real form:", runs_on=True),
-        _mat(r"x^{\mathrm{h}}", "x_h", s.homogeneous),
-        _mat(r"x^{\mathrm{p}}", "x_p", s.particular),
+        _mat(r"x^{\mathrm{h}}", "x_h", c.compact(s.homogeneous)),
+        _mat(r"x^{\mathrm{p}}", "x_p", c.compact(s.particular)),
     ]
     return out
 
@@ -526,13 +568,13 @@ def _interval(s: Any, c: StepContext) -> list[Block]:
         P("On this interval every step, pulse and piecewise branch of the input has a fixed value, so the forcing is"),
         _mat(f"f({T})", f"f({Tp})", s.f),
         P("and, decoupled with ", N("g = P^{-1} f", "g = P^-1 f"), ","),
-        _mat(f"g({T})", f"g({Tp})", s.g),
+        _mat(f"g({T})", f"g({Tp})", c.compact(s.g)),
         P(f"The interval starts from {origin} (with any jump at ", N(f"{T} = {a}", f"{Tp} = {ap}"), " applied):"),
         _mat(f"x({a})", f"x({ap})", s.x_start),
         P("so the decoupled equations start from ", N(rf"y({a}) = P^{{-1}}\,x({a})", f"y({ap}) = P^-1 x({ap})"), ":"),
         _mat(f"y({a})", f"y({ap})", s.y_start),
         how,
-        _mat(f"y({T})", f"y({Tp})", s.y),
+        _mat(f"y({T})", f"y({Tp})", c.compact(s.y)),
         P("and, with ", N(r"x = P\,y", "x = P y"), ", on this interval"),
         Eq(c.state_rows(s.x)),
     ]
@@ -572,7 +614,7 @@ def _convolution(s: Any, c: StepContext) -> list[Block]:
           N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"),
           ", has no closed-form rule for the integral of the integrating factor, so its solution is written as a "
           "convolution (the free part plus the response to the input from ", Math(s.t0), " to ", N(T, Tp), "):"),
-        Eq(((c.fn(s.y), s.written),)),
+        Eq(((c.fn(s.y), c.compact(s.written)),)),
         P("Since ", N(rf"e^{{\lambda({T} - {S})}} = e^{{\lambda({T} - {t0})}}\,e^{{-\lambda({S} - {t0})}}",
                       f"exp(λ ({Tp} - {Sp})) = exp(λ ({Tp} - {t0p})) exp(-λ ({Sp} - {t0p}))"),
           ", the convolution is a combination of integrals whose integrands do not contain ", N(T, Tp), ":"),
@@ -582,7 +624,7 @@ def _convolution(s: Any, c: StepContext) -> list[Block]:
         if value == integral:
             out.append(P("no closed form was found within the time limit: it is kept as a definite integral and "
                          "evaluated by quadrature in the numeric check."))
-    out += [P("With these,", runs_on=True), Eq(((c.fn(s.y), s.solution),))]
+    out += [P("With these,", runs_on=True), Eq(((c.fn(s.y), c.compact(s.solution)),))]
     return out
 
 
@@ -626,7 +668,7 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
               N(rf"x = \operatorname{{Re}}(X\,e^{{{j} \omega {T}}})", f"x = Re(X exp({j} ω {Tp}))"), " gives ",
               N(rf"X = ({j}\omega I - A)^{{-1}} F", f"X = ({j} ω I - A)^-1 F"), ":", runs_on=True),
             _mat("F", "F", s.phasor_in),
-            _mat("X", "X", s.phasor),
+            _mat("X", "X", sp.ImmutableMatrix([[tidy(e, c.naming)] for e in s.phasor])),
             P("Each state oscillates as ", N(rf"|X_k| \cos(\omega {T} + \arg X_k)", f"|X_k| cos(ω {Tp} + arg X_k)"), ":"),
         ]
         cell_widths = [visible_width(f.m(v)) for v in (*s.amplitude, *s.phase)]
@@ -642,10 +684,14 @@ def _steady_state(s: Any, c: StepContext) -> list[Block]:
                 if a_tex and p_tex:
                     out.append(P("so that ", N(f"|X_{{{k}}}|{a_tex}", f"|X_{k}|{a_plain}"), " and ",
                                  N(rf"\arg X_{{{k}}}{p_tex}", f"arg X_{k}{p_plain}"), " rad.", runs_on=True))
-    out += [
-        P("The steady state and the transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), ", which decays:", runs_on=True),
-        Eq(c.state_rows(s.x_ss, "ss")),
+    label = c.to_appendix("The transient", None, "", [
+        P("The transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), ", which decays:"),
         Eq(c.state_rows(s.transient, "tr")),
+    ])
+    out += [
+        P("The steady state (the transient ", N(r"x - x_{\mathrm{ss}}", "x - x_ss"), f", which decays, is written out in Appendix {label}):",
+          runs_on=True),
+        Eq(c.state_rows(s.x_ss, "ss")),
         P("Substituting ", N(r"x_{\mathrm{ss}}", "x_ss"), " into ", N(r"x' = A\,x + f", "x' = A x + f"),
           *((" leaves a zero residual.",) if s.residual_zero else (" does ", Strong("not"), " leave a zero residual."))),
     ]
@@ -698,4 +744,7 @@ def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
     handler = STEP_BLOCKS.get(step.kind)
     if handler is None:
         raise OutputError(f"no rendering for step kind {step.kind!r}; expected one of {', '.join(STEP_BLOCKS)}", key="steps")
-    return handler(step, ctx)
+    blocks = handler(step, ctx)
+    # the names (omega, Delta, Gamma) a step's formulas use are defined where they first appear
+    shown = [rhs for b in blocks if isinstance(b, Eq) for _, rhs in b.rows]
+    return blocks + ctx.where(*shown) if ctx.naming.rows else blocks

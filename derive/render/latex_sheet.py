@@ -21,6 +21,7 @@ import sympy as sp
 
 from ..documents.base import label_key, parameter_assumptions, program_versions
 from ..documents.sheet import sheet_lambda, structure_text
+from ..documents.result import result_blocks
 from ..documents.sheet_steps import STEP_BLOCKS, StepContext, step_blocks
 from ..errors import OutputError
 from ..model import SheetMeta, Solution
@@ -99,6 +100,7 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
     # collected in order and numbered once
     steps_ctx = StepContext(solution=solution, fmt=fmt, lam=ctx.lam)
     derivation = "\n\n".join(blocks_latex(step_blocks(step, steps_ctx), fmt) for step in solution.steps)
+    result_math = blocks_latex(result_blocks(solution, steps_ctx), fmt)
     appendix = blocks_latex(steps_ctx.appendix_blocks(), fmt)
 
     def m_list(items: Any) -> str:
@@ -114,6 +116,7 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "derivation": lambda: derivation,
         "reading": lambda: reading_latex(solution, fmt),
         "appendix": lambda: appendix,
+        "result_math": lambda: result_math,
         "relation_tex": _relation_tex,
         "condition_tex": lambda c: _condition_tex(fmt, c),
         "legend": ctx.legend,

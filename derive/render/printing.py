@@ -39,6 +39,7 @@ from sympy.printing.str import StrPrinter
 from .decimals import format_decimal
 from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
 from .measure import visible_width
+from .terms import Terms, signed, terms_text
 
 __all__ = [
     "plain_text",
@@ -56,6 +57,8 @@ __all__ = [
     "domain_tex",
     "greek_text",
     "GREEK_LETTERS",
+    "Terms",
+    "signed",
 ]
 
 
@@ -315,6 +318,9 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         power = "^{%s}" % exp if exp else ""
         return r"\%s%s{\left(%s \right)}" % (name, power, arg)
 
+    def _print_Terms(self, expr: Terms) -> str:
+        return terms_text(expr.args, self._print, r"\left(%s\right)")
+
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
         if number is not None:
@@ -377,6 +383,9 @@ class PlainPrinter(_RootStandIns, StrPrinter):
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
         return "e"
+
+    def _print_Terms(self, expr: Terms) -> str:
+        return terms_text(expr.args, self._print, "(%s)")
 
     def _print_Pi(self, expr: sp.Expr) -> str:
         return "π" if self._settings["greek_letters"] else "pi"
@@ -530,13 +539,11 @@ class MathFormatter:
         the remaining factors, so the packer can break inside the term.
         """
         p = self.latex_printer
-        terms = p._as_ordered_terms(expr, order=None)
+        terms = list(expr.args) if isinstance(expr, Terms) else p._as_ordered_terms(expr, order=None)
         out: list[tuple[str, str]] = []
         for term in terms:
-            sign = "+"
-            if term.could_extract_minus_sign():
-                sign = "-"
-                term = -term
+            negative, term = signed(term)
+            sign = "-" if negative else "+"
             tex = p._print(term)
             if p._needs_add_brackets(term):
                 tex = r"\left(%s\right)" % tex
@@ -554,8 +561,8 @@ class MathFormatter:
         if not isinstance(term, sp.Mul):
             return []
         factors = sp.Mul.make_args(term)
-        if any(f.is_Pow and f.exp.is_negative and not f.is_number for f in factors):
-            return []  # a fraction with a symbolic denominator stays whole
+        if any(f.is_Pow and f.exp.is_negative and not f.is_number and not f.base.is_Symbol for f in factors):
+            return []  # a fraction with a denominator of several terms stays whole; a named one (1/Gamma) opens
         adds = [f for f in factors if isinstance(f, sp.Add)]
         if not adds:
             return []
@@ -619,7 +626,7 @@ class MathFormatter:
         if isinstance(obj, sp.MatrixBase) or visible_width(whole) + lead <= self.style.line_width:
             return [whole]
         budget = max(self.style.line_width - lead - 4, 20)
-        if isinstance(obj, sp.Add):
+        if isinstance(obj, (sp.Add, Terms)):
             return self._pack(self._signed_terms(obj, budget=budget), lead)
         if isinstance(obj, sp.Mul):
             negative = obj.could_extract_minus_sign()
@@ -705,13 +712,25 @@ class MathFormatter:
         sep = "," if max(i, j) > 9 else ""
         return f"{base}_{{{i}{sep}{j}}}"
 
+    def vector_tex(self, v: sp.MatrixBase) -> str:
+        """A column of four or more entries as a transposed row, ``(a, b, c, d)^{T}`` (a page of columns reads
+        badly); a shorter one, or a matrix, as it is printed."""
+        if v.cols == 1 and v.rows >= 4:
+            return r"\bigl(%s\bigr)^{T}" % ", ".join(self.m(e) for e in v)
+        return self.m(v)
+
     def matrix_rows(self, name: str, M: sp.MatrixBase) -> str:
         """``align*`` rows showing ``M`` whole, by columns or element by element."""
         lead = visible_width(name) + 2
+        if M.cols == 1 and M.rows >= 4 and visible_width(self.vector_tex(M)) + lead <= self.style.line_width:
+            return f"{name} &= {self.vector_tex(M)}"
         if self.matrix_fits(M, lead=lead):
             return f"{name} &= {self.m(M)}"
         rows: list[tuple[str, Any]] = []
         col_lead = visible_width(name) + 8
+        if M.cols > 1 and M.rows >= 4 and all(visible_width(self.vector_tex(M[:, j])) + col_lead <= self.style.line_width for j in range(M.cols)):
+            # columns of four or more entries, each as a transposed row, one per line
+            return " \\\\\n".join(rf"&\operatorname{{col}}_{{{j + 1}}} {name} = {self.vector_tex(M[:, j])}" for j in range(M.cols))
         if M.cols > 1 and all(self.matrix_fits(M[:, j], lead=col_lead) for j in range(M.cols)):
             # Columns side by side, as many per row as the line holds.
             lines: list[str] = []

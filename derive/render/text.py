@@ -42,7 +42,10 @@ def _plain(parts: Sequence[Inline], fmt: MathFormatter) -> str:
 def _plain_eq_rows(rows: Sequence[tuple[Name, Any]], fmt: MathFormatter) -> list[str]:
     out: list[str] = []
     for name, rhs in rows:
-        lead = f"  {name.plain} = "
+        rel = "="
+        if isinstance(rhs, tuple) and len(rhs) == 2 and isinstance(rhs[0], str):
+            rel, rhs = ("≈" if rhs[0] == r"\approx" else rhs[0]), rhs[1]
+        lead = f"  {name.plain} {rel} "
         if isinstance(rhs, sp.MatrixBase) and rhs.rows * rhs.cols > 1:
             lines = fmt.plain_matrix(rhs)
             mid = (len(lines) - 1) // 2

@@ -1,0 +1,543 @@
+"""Compact coefficients for display: a result collected by mode, short exact coefficients, names, decimals.
+
+Display only: the verified x(t) is never changed.  A component is read as a
+sum over its modes (a constant, t^k, e^{lambda t}, e^{sigma t} cos and sin,
+the input's own sines and cosines), the coefficients of each mode are added
+and put over one denominator in the field they live in (square roots of
+integers and i are reduced by g^2 = n while cancelling), and recurring pieces
+are named once for the sheet:
+
+* omega for a forcing frequency that is a rational multiple of pi (pi/12);
+* Delta for a square root of an integer of two digits or more (sqrt(2161));
+* Gamma for a denominator polynomial shared by two coefficients or more;
+* A_k and phi_k for the amplitude and phase of a sinusoidal steady state,
+  A_k sin(omega t + phi_k), when the input is sinusoidal at one frequency.
+
+Each component can also be written with decimals (``decimal_terms``) when
+every parameter has a value, for the engineer who reads numbers while the
+checker reads the exact form.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any, Mapping, Sequence
+
+import sympy as sp
+
+from ..exact import root_value
+from ..model import Solution
+from ..reading.sinusoid import sinusoidal_input
+from ..render.printing import MathFormatter, Terms
+from .blocks import Block, Eq, Name, P
+
+__all__ = [
+    "Naming",
+    "naming_for",
+    "mode_terms",
+    "tidy",
+    "compact",
+    "decimal_terms",
+    "parameter_values",
+    "Sinusoid",
+    "steady_sinusoids",
+    "DIGITS",
+    "where_blocks",
+    "decimal_text",
+    "naming_for_roots",
+    "tidy_parts",
+]
+
+#: significant figures of the decimals beside the exact coefficients
+DIGITS = 4
+
+#: an expression larger than this (operations) is shown as it is: cancelling it could take long
+_CANCEL_LIMIT = 1500
+
+#: names the sheet itself uses, never given to a subexpression
+_SHEET_NAMES = {"A", "D", "P", "J", "x", "y", "f", "g", "c", "s", "t", "e", "i", "lambda", "mu", "M", "r", "q", "F", "X", "b"}
+
+
+@dataclass(frozen=True)
+class Naming:
+    """Names for recurring subexpressions of one sheet, in the order they are listed under "where".
+
+    ``forward`` replaces each exact value by its name (pi by 12 omega, sqrt(97)
+    by Delta); ``denominators`` are named polynomials (already written in the
+    names); ``algebraic`` are (name, n) with name^2 = n, used while cancelling.
+    """
+
+    rows: tuple[tuple[sp.Symbol, sp.Expr], ...] = ()
+    forward: tuple[tuple[sp.Expr, sp.Expr], ...] = ()
+    denominators: tuple[tuple[sp.Expr, sp.Symbol], ...] = ()
+    algebraic: tuple[tuple[sp.Symbol, int], ...] = ()
+    used: frozenset[str] = frozenset()
+
+    def apply(self, expr: sp.Expr) -> sp.Expr:
+        """``expr`` written in the names (value unchanged)."""
+        return expr.xreplace(dict(self.forward)) if self.forward else expr
+
+    def back(self, expr: sp.Expr) -> sp.Expr:
+        """The exact expression behind a named one."""
+        out = expr
+        for _ in range(3):  # a name defined through another (Gamma in omega)
+            out = out.xreplace({sym: poly for poly, sym in self.denominators}).xreplace({sym: value for sym, value in self.rows})
+        return out
+
+    def pick(self, candidates: Sequence[str], extra: set[str] = set()) -> str:
+        """The first candidate name free in this sheet."""
+        taken = set(self.used) | {s.name for s, _ in self.rows} | extra
+        return next((n for n in candidates if n not in taken), candidates[-1] + "_x")
+
+
+def _names_in(solution: Solution) -> frozenset[str]:
+    sy = solution.system
+    names = {s.name for s in sy.states} | {sy.t.name} | {p.symbol.name for p in sy.params}
+    for obj in (sy.A, sy.f, *solution.x):
+        names |= {s.name for s in getattr(obj, "free_symbols", ())}
+    return frozenset(names | _SHEET_NAMES)
+
+
+def _numeric_rate(expr: sp.Expr) -> bool:
+    return expr.is_number and not expr.has(sp.CRootOf)
+
+
+def naming_for(solution: Solution) -> Naming:
+    """The names (omega, Delta, Gamma) for one solution's result; empty where nothing recurs.
+
+    >>> import derive
+    >>> t = sp.Symbol("t")
+    >>> n = naming_for(derive.solve([[-1]], [sp.sin(sp.pi * t / 12)], t=t))
+    >>> [(s.name, v) for s, v in n.rows]
+    [('omega', pi/12)]
+    """
+    t = solution.system.t
+    used = _names_in(solution)
+    naming = Naming(used=used)
+    rows: list[tuple[sp.Symbol, sp.Expr]] = []
+    forward: list[tuple[sp.Expr, sp.Expr]] = []
+    algebraic: list[tuple[sp.Symbol, int]] = []
+    exprs = [e for e in (*solution.x, *solution.system.f) if isinstance(e, sp.Basic)]
+    freqs: list[sp.Expr] = []
+    for e in exprs:
+        for w in e.atoms(sp.sin, sp.cos):
+            rate = sp.expand(w.args[0]).coeff(t)
+            if _numeric_rate(rate) and rate.has(sp.pi) and (rate / sp.pi).is_Rational and abs(rate) not in freqs:
+                freqs.append(abs(rate))
+    if len(freqs) == 1:
+        omega = sp.Symbol(naming.pick(("omega", "nu", "varpi")), positive=True)
+        rows.append((omega, freqs[0]))
+        forward.append((sp.pi, omega * sp.pi / freqs[0]))
+    roots = sorted({p for e in solution.x if isinstance(e, sp.Basic) for p in e.atoms(sp.Pow)
+                    if p.exp == sp.S.Half and p.base.is_Integer and p.base >= 10}, key=lambda p: int(p.base))
+    for k, r in enumerate(roots):
+        letter = naming.pick(("Delta", "Theta", "Xi"), {s.name for s, _ in rows})
+        name = letter if len(roots) == 1 else f"{letter}_{k + 1}"
+        sym = sp.Symbol(name, positive=True)
+        rows.append((sym, r))
+        forward.append((r, sym))
+        algebraic.append((sym, int(r.base)))
+    return _with_denominators(Naming(rows=tuple(rows), forward=tuple(forward), algebraic=tuple(algebraic), used=used), solution)
+
+
+def _with_denominators(naming: Naming, solution: Solution) -> Naming:
+    """``naming`` with Gamma, Gamma_2, ... for denominator polynomials shared by two coefficients or more."""
+    t = solution.system.t
+    seen: dict[sp.Expr, int] = {}
+    for e in solution.x:
+        pairs = mode_terms(e, t) if isinstance(e, sp.Expr) else None
+        for c, _ in pairs or ():
+            den = sp.Mul(*(p.base for p in tidy_parts(c, naming) if p.is_Pow and p.exp == -1))
+            for factor in sp.Mul.make_args(den):
+                base = factor.base if factor.is_Pow else factor
+                if base.is_Add and len(base.args) >= 3:
+                    seen[base] = seen.get(base, 0) + 1
+    shared = [poly for poly, n in seen.items() if n >= 2]
+    if not shared:
+        return naming
+    name = naming.pick(("Gamma", "Psi", "Phi"))
+    dens = tuple((poly, sp.Symbol(name if len(shared) == 1 else f"{name}_{k + 1}", positive=True)) for k, poly in enumerate(shared))
+    return Naming(rows=naming.rows + tuple((sym, poly) for poly, sym in dens), forward=naming.forward,
+                  denominators=dens, algebraic=naming.algebraic, used=naming.used)
+
+
+def mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol] = frozenset()) -> list[tuple[sp.Expr, sp.Expr]] | None:
+    """(coefficient, mode) of an exponential polynomial in ``t``; None for anything else.
+
+    A mode is a product of t^k, one exponential, at most one sine or cosine
+    and the ``unknowns`` (y_1, c_1: symbols that are not coefficients); terms
+    with the same mode are added.
+
+    >>> t = sp.Symbol("t")
+    >>> mode_terms(3 + sp.exp(-t) / 2 + sp.exp(-t) * t, t)
+    [(3, 1), (1/2, exp(-t)), (1, t*exp(-t))]
+    """
+    if not isinstance(expr, sp.Expr) or expr.has(sp.Piecewise, sp.Heaviside, sp.DiracDelta, sp.Integral):
+        return None
+    # each exponential held as a symbol while expanding, so e^{-u} is never moved into a denominator
+    held = {e: sp.Dummy("E") for e in expr.atoms(sp.exp) if e.has(t)}
+    rates = {d: e.args[0] for e, d in held.items()}
+    groups: dict[sp.Expr, sp.Expr] = {}
+    for term in sp.Add.make_args(sp.expand(expr.xreplace(held))):
+        coeff: list[sp.Expr] = []
+        exps: list[sp.Expr] = []
+        others: list[sp.Expr] = []
+        for factor in sp.Mul.make_args(term):
+            base, power = factor.as_base_exp()
+            if base in rates and power.is_Integer:
+                exps.append(power * rates[base])
+            elif not factor.has(t, *rates, *unknowns):
+                coeff.append(factor)
+            elif factor == t or (factor.is_Pow and factor.base == t and factor.exp.is_Integer and factor.exp > 0):
+                others.append(factor)
+            elif isinstance(factor, (sp.sin, sp.cos)) and sp.diff(factor.args[0], t, 2) == 0:
+                others.append(factor)
+            elif base in unknowns and power.is_Integer and power > 0:
+                others.append(factor)
+            else:
+                return None
+        if sum(isinstance(o, (sp.sin, sp.cos)) for o in others) > 1:
+            return None
+        mode = sp.Mul(*others) * (sp.exp(sp.expand(sp.Add(*exps))) if exps else 1)
+        groups[mode] = groups.get(mode, sp.Integer(0)) + sp.Mul(*coeff)
+    return [(c, m) for m, c in groups.items() if c != 0]
+
+
+def _reduce(p: sp.Expr, algebraic: Sequence[tuple[sp.Symbol, int]]) -> sp.Expr:
+    """A polynomial reduced by name^2 = n for each named root (and i^2 = -1)."""
+    for sym, n in algebraic:
+        if p.has(sym):
+            p = sp.Poly(p, sym).rem(sp.Poly(sym**2 - n, sym)).as_expr()
+    return sp.expand(p)
+
+
+@lru_cache(maxsize=2048)
+def _field_form(c: sp.Expr, algebraic: tuple[tuple[sp.Symbol, int], ...]) -> tuple[sp.Expr, sp.Expr]:
+    """(numerator, denominator) of ``c`` over one denominator free of the algebraic names, reduced."""
+    num, den = sp.fraction(sp.cancel(sp.together(c)))
+    num, den = _reduce(num, algebraic), _reduce(den, algebraic)
+    # integer coefficients above and below: 6 - 87 Delta/97 is (582 - 87 Delta)/97
+    k = sp.ilcm(_denominator(num), _denominator(den))
+    num, den = sp.expand(num * k), sp.expand(den * k)
+    for sym, _ in algebraic:
+        if den.has(sym):
+            # multiply by the conjugate in sym: the denominator loses sym
+            conj = den.xreplace({sym: -sym})
+            num, den = _reduce(num * conj, algebraic), _reduce(den * conj, algebraic)
+    if any(num.has(sym) for sym, _ in algebraic) or den != 1:
+        g = sp.gcd(num, den)
+        if g != 1 and not any(g.has(sym) for sym, _ in algebraic):
+            num, den = sp.cancel(num / g), sp.cancel(den / g)
+    return num, den
+
+
+def _denominator(p: sp.Expr) -> int:
+    """The least common denominator of the rational coefficients of a polynomial (1 when there are none)."""
+    out = 1
+    for term in sp.Add.make_args(p):
+        coeff = term.as_coeff_Mul()[0]
+        if coeff.is_Rational:
+            out = sp.ilcm(out, int(coeff.q))
+    return out
+
+
+def _factored(p: sp.Expr, algebraic: Sequence[tuple[sp.Symbol, int]]) -> list[sp.Expr]:
+    """A polynomial as factors: its content, then each part of ``sum_k g^k p_k`` factored over Q."""
+    if p.is_Number:
+        return [p]
+    syms = [sym for sym, _ in algebraic if p.has(sym)]
+    content, prim = sp.factor_terms(p).as_coeff_Mul()
+    if not syms:
+        return [content, *sp.Mul.make_args(sp.factor(prim))]
+    parts = sp.collect(sp.expand(prim), syms, evaluate=False)
+    # a part free of every other symbol is a number: nothing to factor
+    pieces = [(coeff if coeff.is_number else sp.factor(coeff)) * key for key, coeff in parts.items()]
+    return [content, *sp.Mul.make_args(sp.Add(*pieces))]
+
+
+def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
+    """A coefficient as factors (number, numerator, 1/denominator) in its field, written in the names.
+
+    The factors are kept apart, so that a product of them with a mode never
+    multiplies a number into a sum.  Square roots named in ``naming`` and the
+    imaginary unit are reduced by g^2 = n and cleared from the denominator; a
+    coefficient holding an indexed root, or too large, is only renamed.
+    """
+    c = naming.apply(coefficient)
+    if c.is_Rational or c.has(sp.CRootOf) or sp.count_ops(c) > _CANCEL_LIMIT:
+        return [c]
+    iota = sp.Dummy("iota")
+    algebraic = (*naming.algebraic, (iota, -1))
+    num, den = _field_form(c.xreplace({sp.I: iota}), algebraic)
+    n_parts = _factored(num, algebraic)
+    d_parts = _factored(den, algebraic)
+    number = n_parts[0] / d_parts[0]
+    rest_den = sp.Mul(*d_parts[1:])
+    for poly, sym in naming.denominators:
+        rest_den = rest_den.xreplace({poly: sym})
+    # one power per factor below, so the printers set a single fraction bar
+    factors = [number, *n_parts[1:]] + [sp.Pow(f, -1) for f in sp.Mul.make_args(rest_den) if f != 1]
+    return [f.xreplace({iota: sp.I}) for f in factors if f != 1] or [sp.Integer(1)]
+
+
+def tidy(coefficient: sp.Expr, naming: Naming) -> sp.Expr:
+    """One coefficient over one denominator in its field, factored, written in the names (unevaluated product).
+
+    >>> str(tidy(sp.Rational(1, 3) + sp.sqrt(97) / 97 + 2 / (3 + sp.sqrt(97)), naming_for_roots((97,))))
+    '(423*Delta + 3395)/12804'
+    """
+    parts = tidy_parts(coefficient, naming)
+    return parts[0] if len(parts) == 1 else sp.Mul(*parts, evaluate=False)
+
+
+def naming_for_roots(integers: Sequence[int]) -> Naming:
+    """A naming with only square roots of ``integers`` (Delta, Delta_2, ...), for examples and tests."""
+    rows = tuple((sp.Symbol("Delta" if len(integers) == 1 else f"Delta_{k + 1}", positive=True), sp.sqrt(n)) for k, n in enumerate(integers))
+    return Naming(rows=rows, forward=tuple((v, s) for s, v in rows), algebraic=tuple((s, n) for (s, _), n in zip(rows, integers)))
+
+
+def _rate_key(mode: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Expr]) -> tuple[Any, ...]:
+    """Order of the modes: the constant, the exponentials (slowest decay last), the input's own modes."""
+    exps = [f for f in sp.Mul.make_args(mode) if isinstance(f, sp.exp)]
+    trig = [f for f in sp.Mul.make_args(mode) if isinstance(f, (sp.sin, sp.cos))]
+    power = sp.degree(mode, t) if mode.is_polynomial(t) else 0
+    if mode == 1:
+        return (0, 0.0, 0.0, 0, 0, "")
+    rate = sp.expand(exps[0].args[0]).coeff(t) if exps else sp.Integer(0)
+    freq = sp.expand(trig[0].args[0]).coeff(t) if trig else sp.Integer(0)
+
+    def num(x: sp.Expr) -> float:
+        x = x.xreplace(dict(values))
+        x = x.xreplace({r: root_value(r) for r in x.atoms(sp.CRootOf)})
+        try:
+            return float(sp.re(sp.N(x, 15)))
+        except TypeError:
+            return 0.0
+
+    group = 1 if exps else 2
+    return (group, num(rate), abs(num(freq)), 0 if isinstance(trig[0] if trig else None, sp.cos) else 1,
+            power if isinstance(power, int) else 0, sp.srepr(mode) if not mode.has(sp.CRootOf) else "")
+
+
+def parameter_values(solution: Solution) -> dict[sp.Symbol, sp.Expr] | None:
+    """Every parameter's value, or None when one has none (no decimals then)."""
+    values = {}
+    for p in solution.system.params:
+        if p.value is None:
+            return None
+        values[p.symbol] = p.value
+    return values
+
+
+def compact(expr: sp.Expr, t: sp.Symbol, naming: Naming, *, values: Mapping[sp.Symbol, sp.Expr] | None = None,
+            sinusoid: "Sinusoid | None" = None, unknowns: frozenset[sp.Symbol] = frozenset()) -> sp.Expr:
+    """``expr`` as ``Terms`` ordered by mode with tidy coefficients, or written in the names when it is no sum of modes.
+
+    >>> t = sp.Symbol("t")
+    >>> compact(sp.exp(-t) / 3 + 1 + sp.exp(-t) / 6, t, Naming())
+    Terms(1, exp(-t)/2)
+    """
+    if not isinstance(expr, sp.Expr) or not expr.has(t):
+        return tidy(expr, naming) if isinstance(expr, sp.Expr) and expr.is_number is not None else expr
+    pairs = mode_terms(expr, t, unknowns)
+    if pairs is None:
+        return naming.apply(expr)
+    pairs.sort(key=lambda cm: _rate_key(cm[1], t, values or {}))
+    terms: list[sp.Expr] = []
+    for c, m in pairs:
+        if sinusoid is not None and isinstance(m, (sp.sin, sp.cos)) and m.args[0] == sinusoid.argument:
+            # the sine and cosine at the input's frequency, as one amplitude and phase
+            wave = sinusoid.term(naming, t)
+            if wave not in terms:
+                terms.append(wave)
+            continue
+        terms.append(_term(tidy_parts(c, naming), _mode_display(naming.apply(m), t)))
+    return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
+
+
+def _mode_display(mode: sp.Expr, t: sp.Symbol) -> sp.Expr:
+    """A mode with each exponent written rate times t, the rate factored: e^{-(13 + Delta) t/24}."""
+    def exponent(u: sp.Expr) -> sp.Expr:
+        u = sp.expand(u)
+        rate = u.coeff(t)
+        rest = sp.expand(u - rate * t)
+        if rest != 0 or not rate.is_Add:
+            return u
+        content, prim = rate.as_content_primitive()
+        if prim.could_extract_minus_sign():
+            content, prim = -content, -prim
+        return sp.Mul(content, prim, t, evaluate=False) if content != 1 else sp.Mul(prim, t, evaluate=False)
+    return mode.replace(lambda e: isinstance(e, sp.exp), lambda e: sp.exp(exponent(e.args[0]), evaluate=False))
+
+
+def _term(factors: list[sp.Expr], mode: sp.Expr) -> sp.Expr:
+    """coefficient factors times the mode, unevaluated so no number is multiplied into a sum."""
+    factors = [*factors, *sp.Mul.make_args(mode)]
+    factors = [f for f in factors if f != 1] or [sp.Integer(1)]
+    if factors[0] == -1 and len(factors) > 1:
+        factors = [sp.Integer(-1), *factors[1:]]
+    return factors[0] if len(factors) == 1 else sp.Mul(*factors, evaluate=False)
+
+
+@dataclass(frozen=True)
+class Sinusoid:
+    """A steady sinusoid a sin(u) + b cos(u) of one state written A sin(u + phi), with A and phi named."""
+
+    amplitude_name: sp.Symbol
+    phase_name: sp.Symbol
+    amplitude: sp.Expr
+    phase: sp.Expr
+    argument: sp.Expr
+    #: the amplitude and phase written in the sheet's names (omega, Gamma)
+    amplitude_shown: sp.Expr
+    phase_shown: sp.Expr
+
+    def term(self, naming: Naming, t: sp.Symbol) -> sp.Expr:
+        """A_k sin(omega t + phi_k), in the names."""
+        # the phase after the running argument, as written by hand: sin(omega t + phi_1)
+        return self.amplitude_name * sp.sin(Terms(naming.apply(self.argument), self.phase_name), evaluate=False)
+
+
+def steady_sinusoids(solution: Solution, naming: Naming) -> dict[int, Sinusoid]:
+    """Per state index, the amplitude and phase of its sinusoid at the input's frequency.
+
+    Only when the input is sinusoidal at one frequency (plus constants) and
+    the state holds both sin(omega t + c) and cos(omega t + c) free of any
+    exponential.  A = sqrt(a^2 + b^2) and phi = atan2(b, a) for
+    a sin(u) + b cos(u) = A sin(u + phi).
+    """
+    sy = solution.system
+    t = sy.t
+    found = sinusoidal_input(sp.Matrix(sy.f), t)
+    if found is None:
+        return {}
+    omega = found[0]
+    # A_k beside the matrix A reads as the amplitude of state k, as in the issue's notation; a case
+    # symbol A_1 or phi_1 moves the names on
+    case_names = naming.used - _SHEET_NAMES
+    amp_base = next(n for n in ("A", "B", "R", "C_amp") if not any(u == n or u.startswith(n + "_") for u in case_names))
+    phase_base = next(n for n in ("phi", "psi", "theta", "phi_ph") if not any(u == n or u.startswith(n + "_") for u in case_names))
+    out: dict[int, Sinusoid] = {}
+    for k, e in enumerate(solution.x):
+        pairs = mode_terms(e, t) if isinstance(e, sp.Expr) else None
+        if pairs is None:
+            continue
+        waves = {(type(m), m.args[0]): c for c, m in pairs if isinstance(m, (sp.sin, sp.cos))}
+        for (kind, arg), a in waves.items():
+            if kind is not sp.sin or (sp.cos, arg) not in waves or sp.expand(arg).coeff(t) - omega != 0:
+                continue
+            b = waves[(sp.cos, arg)]
+            amp = sp.sqrt(sp.factor(sp.cancel(sp.together(a**2 + b**2))))
+            phase = sp.atan2(b, a)
+            shown_amp = sp.Mul(*(sp.sqrt(f) for f in tidy_parts(a**2 + b**2, naming)), evaluate=False)
+            na, da = sp.fraction(sp.Mul(*tidy_parts(a, naming)))
+            nb, db = sp.fraction(sp.Mul(*tidy_parts(b, naming)))
+            # a positive denominator shared by a and b does not change atan2(b, a)
+            g = sp.gcd(na, nb)
+            if g.is_positive:
+                na, nb = sp.cancel(na / g), sp.cancel(nb / g)
+            shown_phase = sp.atan2(nb, na) if da == db and da.is_positive else naming.apply(phase)
+            out[k] = Sinusoid(sp.Symbol(f"{amp_base}_{k + 1}"), sp.Symbol(f"{phase_base}_{k + 1}"), amp, phase, arg,
+                              shown_amp, shown_phase)
+            break
+    return out
+
+
+def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Expr], *, digits: int = DIGITS,
+                  sinusoid: Sinusoid | None = None) -> sp.Expr | None:
+    """``expr`` ordered by mode with every number a decimal of ``digits`` figures; None if not numeric."""
+    pairs = mode_terms(expr, t)
+    if pairs is None:
+        return None
+    pairs.sort(key=lambda cm: _rate_key(cm[1], t, values))
+
+    def number(x: sp.Expr) -> sp.Expr | None:
+        x = x.xreplace(dict(values))
+        x = x.xreplace({r: root_value(r) for r in x.atoms(sp.CRootOf)})
+        if x.free_symbols:
+            return None
+        value = sp.N(x, digits + 4)
+        if value.has(sp.I) and abs(sp.im(value)) > 1e-30 * (1 + abs(sp.re(value))):
+            return None
+        value = sp.re(value)
+        return sp.Integer(int(value)) if float(value).is_integer() and abs(value) < 10**digits else sp.Float(value, digits)
+
+    def linear(u: sp.Expr) -> sp.Expr | None:
+        u = sp.expand(u)
+        rate, rest = number(u.coeff(t)), number(sp.expand(u - u.coeff(t) * t))
+        if rate is None or rest is None:
+            return None
+        return rate * t + rest
+
+    def dec(x: sp.Expr) -> sp.Expr | None:
+        if not x.has(t):
+            return number(x)
+        factors = []
+        for f in sp.Mul.make_args(x):
+            if isinstance(f, (sp.exp, sp.sin, sp.cos)):
+                u = linear(f.args[0])
+                if u is None:
+                    return None
+                factors.append(f.func(u))
+            elif f.has(t):
+                factors.append(f)
+            else:
+                v = number(f)
+                if v is None:
+                    return None
+                factors.append(v)
+        return sp.Mul(*factors)
+
+    terms: list[sp.Expr] = []
+    done = False
+    for c, m in pairs:
+        if sinusoid is not None and isinstance(m, (sp.sin, sp.cos)) and m.args[0] == sinusoid.argument:
+            if done:
+                continue
+            amp, ph, arg = dec(sinusoid.amplitude), dec(sinusoid.phase), dec(sinusoid.argument)
+            if amp is None or ph is None or arg is None:
+                return None
+            terms.append(amp * sp.sin(arg + ph))
+            done = True
+            continue
+        cd, md = dec(c), (sp.Integer(1) if m == 1 else dec(m))
+        if cd is None or md is None:
+            return None
+        if cd != 0:
+            if md == 1 or abs(cd) != 1:
+                terms.append(sp.Mul(cd, *sp.Mul.make_args(md), evaluate=False) if md != 1 else cd)
+            else:
+                terms.append(md if cd == 1 else -md)
+    return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
+
+
+def decimal_text(value: sp.Expr, fmt: MathFormatter, *, latex: bool, digits: int = DIGITS) -> str:
+    """The decimal of an exact number to ``digits`` figures ("" when it has no value)."""
+    from ..render.printing import format_decimal
+
+    return format_decimal(value, digits=digits, unit=fmt.style.imaginary_unit, latex=latex)
+
+
+def where_blocks(rows: Sequence[tuple[sp.Symbol, sp.Expr]], fmt: MathFormatter, *,
+                 values: Mapping[sp.Symbol, sp.Expr] | None = None) -> list[Block]:
+    """"where" and the named values, one per row, then their decimals on one line."""
+    lookup = dict(rows)
+
+    def exact(value: sp.Expr) -> sp.Expr:
+        # a name defined in terms of earlier names (Gamma in omega) is evaluated through them
+        for _ in range(3):
+            value = value.xreplace(lookup)
+        return value.xreplace(dict(values or {}))
+
+    out: list[Block] = [P("where", runs_on=True), Eq(tuple((Name(fmt.m(sym), fmt.plain(sym)), value) for sym, value in rows))]
+    decs_tex, decs_plain = [], []
+    for sym, value in rows:
+        text = decimal_text(exact(value), fmt, latex=True)
+        if text and not value.is_Rational:
+            unit = r"\ \mathrm{rad}" if sym.name.startswith(("phi", "psi", "theta")) else ""
+            decs_tex.append(rf"{fmt.m(sym)} \approx {text}{unit}")
+            decs_plain.append(f"{fmt.plain(sym)} ≈ {decimal_text(exact(value), fmt, latex=False)}{' rad' if unit else ''}")
+    if decs_tex:
+        out.append(P("In decimals: ", Name(r",\; ".join(decs_tex), ", ".join(decs_plain)), ".", runs_on=True))
+    return out
