@@ -48,6 +48,7 @@ __all__ = [
     "JumpStep",
     "ConvolutionStep",
     "SteadyStateStep",
+    "ShiftStep",
     "STEP_KINDS",
 ]
 
@@ -487,3 +488,19 @@ STEP_KINDS: tuple[type[Step], ...] = (
     ConvolutionStep,
     SteadyStateStep,
 )
+
+
+@dataclass(frozen=True)
+class ShiftStep(Step):
+    """Time measured from t0: tau = t - t0, forcing ``f_shifted`` = f(tau + t0), x(tau = 0) = x0."""
+
+    kind: ClassVar[str] = "shift"
+    t: sp.Symbol
+    tau: sp.Symbol
+    t0: sp.Expr
+    x0: Matrix
+    f: Matrix
+    f_shifted: Matrix
+
+
+STEP_KINDS += (ShiftStep,)

@@ -59,6 +59,7 @@ from derive.steps import (
     JumpStep,
     ConvolutionStep,
     SteadyStateStep,
+    ShiftStep,
 )
 
 M = sp.ImmutableMatrix
@@ -172,6 +173,8 @@ def sample_steps() -> dict[str, Step]:
             x_ss=M([1 + sp.cos(t) / 10 + 3 * sp.sin(t) / 10, 3 * sp.cos(t) / 10 - sp.sin(t) / 10]),
             transient=M([-sp.exp(-t), sp.exp(-t)]), since=None, residual_zero=True,
         ),
+        "shift": ShiftStep(t=t, tau=sp.Symbol("tau", real=True), t0=sp.Integer(1), x0=M([1, 0]), f=M([0, sp.sin(t)]),
+                           f_shifted=M([0, sp.sin(1) * sp.cos(sp.Symbol("tau", real=True)) + sp.cos(1) * sp.sin(sp.Symbol("tau", real=True))])),
     }
 
 
@@ -195,6 +198,7 @@ HEADINGS = {
     "jump": "Impulse at",
     "convolution": "Convolution form for",
     "steady_state": "Steady state and transient",
+    "shift": "Time measured from",
 }
 
 

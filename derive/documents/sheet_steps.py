@@ -18,6 +18,7 @@ import sympy as sp
 from ..model import Solution
 from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
+from .interval_blocks import shift_blocks, with_decimals
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
@@ -686,6 +687,8 @@ STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
     "convolution": _convolution,
     "steady_state": _steady_state,
 }
+STEP_BLOCKS["shift"] = shift_blocks  # noqa: E305 (time measured from t0; derive.documents.interval_blocks)
+STEP_BLOCKS["interval"], STEP_BLOCKS["jump"] = with_decimals(_interval), with_decimals(_jump)  # states handed over, in decimals
 
 
 
