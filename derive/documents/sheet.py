@@ -11,7 +11,7 @@ result, verification, references and caution.  Its record
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, fields, is_dataclass, replace
+from dataclasses import dataclass, fields, is_dataclass
 from typing import Any
 
 import sympy as sp
@@ -151,8 +151,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
 
     b.append(Heading(2, "Derivation"))
     for step in solution.steps:
-        own = getattr(step, "t", t)  # after a time shift the steps run in tau = t - t0
-        b += step_blocks(step, ctx if own == t else replace(ctx, solution=replace(solution, system=replace(system, t=own))))
+        b += step_blocks(step, ctx)
 
     b.append(Heading(2, "Result"))
     if not ver.ok:

@@ -10,7 +10,7 @@ to this description for a kind without one.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Callable, Sequence
 
 import sympy as sp
@@ -699,4 +699,6 @@ def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
     handler = STEP_BLOCKS.get(step.kind)
     if handler is None:
         raise OutputError(f"no rendering for step kind {step.kind!r}; expected one of {', '.join(STEP_BLOCKS)}", key="steps")
+    if getattr(step, "t", ctx.t) != ctx.t:  # after a time shift the steps run in tau = t - t0
+        ctx = replace(ctx, solution=replace(ctx.solution, system=replace(ctx.solution.system, t=step.t)))
     return handler(step, ctx)
