@@ -306,6 +306,9 @@ def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Exp
     trig, rates = dict(shift.trig), dict(shift.rates)
     if isinstance(e, sp.Piecewise):
         return sp.Piecewise(*[(to_t(v, shift, eigenvalues), _condition(c, shift)) for v, c in e.args])
+    if not e.free_symbols & set(values):
+        # no stand-in: no input mode to bring back to t (the free response), the method's grouping stands
+        return _from_tau(e, shift)
     groups: dict[tuple[sp.Expr, sp.Expr] | None, list[sp.Expr]] = {}
     held, back = _held(e)
     for term in sp.Add.make_args(held):
