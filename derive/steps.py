@@ -50,6 +50,7 @@ __all__ = [
     "SteadyStateStep",
     "ValuesStep",
     "OutputStep",
+    "ShiftStep",
     "STEP_KINDS",
 ]
 
@@ -533,3 +534,19 @@ class OutputStep(Step):
 
 
 STEP_KINDS += (ValuesStep, OutputStep)
+
+
+@dataclass(frozen=True)
+class ShiftStep(Step):
+    """Time measured from t0: tau = t - t0, forcing ``f_shifted`` = f(tau + t0), x(tau = 0) = x0."""
+
+    kind: ClassVar[str] = "shift"
+    t: sp.Symbol
+    tau: sp.Symbol
+    t0: sp.Expr
+    x0: Matrix
+    f: Matrix
+    f_shifted: Matrix
+
+
+STEP_KINDS += (ShiftStep,)

@@ -131,8 +131,9 @@ def test_impulse_at_t0_acts_on_x0():
 def test_t0_is_honoured_and_switches_before_t0_are_settled():
     # the step at t = 1 lies before t0 = 2: it is on throughout the solution's range
     sol = derive.solve([[0, 1], [-2, -3]], [0, sp.Heaviside(t - 1) + sp.Heaviside(t - 3)], t=t, x0=[1, -1], t0=2)
-    assert [s.start for s in sol.steps if isinstance(s, IntervalStep)] == [2, 3]
-    assert [sp.simplify(sol.steps[i].x.subs(t, 2)) for i, s in enumerate(sol.steps) if isinstance(s, IntervalStep)][0] == sp.Matrix([1, -1])
+    # the intervals are derived in tau = t - 2 (time measured from t0)
+    assert [s.start + 2 for s in sol.steps if isinstance(s, IntervalStep)] == [2, 3]
+    assert [sp.simplify(s.x.subs(s.t, 0)) for s in sol.steps if isinstance(s, IntervalStep)][0] == sp.Matrix([1, -1])
     times, ref = scipy_piecewise([[0, 1], [-2, -3]], [0, sp.Heaviside(t - 1) + sp.Heaviside(t - 3)], [1, -1],
                                  t0=2, switches=[3], t_end=7)
     assert np.max(np.abs(evaluate(sol.x, times) - ref)) < 1e-8

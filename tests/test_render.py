@@ -61,6 +61,7 @@ from derive.steps import (
     SteadyStateStep,
     ValuesStep,
     OutputStep,
+    ShiftStep,
 )
 
 M = sp.ImmutableMatrix
@@ -176,6 +177,8 @@ def sample_steps() -> dict[str, Step]:
         ),
         "values": ValuesStep(t=t, values=((k, sp.Integer(2)),), A_symbolic=M([[0, 1], [-k, -3]]), f_symbolic=F, x0_symbolic=None, A=A, f=F, x0=None),
         "outputs": OutputStep(t=t, states=(x1, x2), names=(sp.Symbol("y_1"),), written=(x1 + x2,), C=M([[1, 1]]), D=M([[0, 0]]), inputs=(), u=F, y=M([X[0] + X[1]]), method="exact"),
+        "shift": ShiftStep(t=t, tau=sp.Symbol("tau", real=True), t0=sp.Integer(1), x0=M([1, 0]), f=M([0, sp.sin(t)]),
+                           f_shifted=M([0, sp.sin(1) * sp.cos(sp.Symbol("tau", real=True)) + sp.cos(1) * sp.sin(sp.Symbol("tau", real=True))])),
     }
 
 
@@ -201,6 +204,7 @@ HEADINGS = {
     "steady_state": "Steady state and transient",
     "values": "Parameter values put into the algebra",
     "outputs": "Outputs",
+    "shift": "Time measured from",
 }
 
 

@@ -10,7 +10,7 @@ to this description for a kind without one.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Callable, Sequence
 
 import sympy as sp
@@ -19,6 +19,7 @@ from ..model import Solution
 from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
 from .output_blocks import output_blocks, values_blocks
+from .interval_blocks import shift_blocks, with_decimals
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
 
@@ -734,6 +735,8 @@ STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
     "steady_state": _steady_state,
     "values": values_blocks, "outputs": output_blocks,
 }
+STEP_BLOCKS["shift"] = shift_blocks  # noqa: E305 (time measured from t0; derive.documents.interval_blocks)
+STEP_BLOCKS["interval"], STEP_BLOCKS["jump"] = with_decimals(_interval), with_decimals(_jump)  # states handed over, in decimals
 
 
 
@@ -744,6 +747,8 @@ def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
     handler = STEP_BLOCKS.get(step.kind)
     if handler is None:
         raise OutputError(f"no rendering for step kind {step.kind!r}; expected one of {', '.join(STEP_BLOCKS)}", key="steps")
+    if getattr(step, "t", ctx.t) != ctx.t:  # after a time shift the steps run in tau = t - t0
+        ctx = replace(ctx, solution=replace(ctx.solution, system=replace(ctx.solution.system, t=step.t)))
     blocks = handler(step, ctx)
     # the names (omega, Delta, Gamma) a step's formulas use are defined where they first appear
     shown = [rhs for b in blocks if isinstance(b, Eq) for _, rhs in b.rows]

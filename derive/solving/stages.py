@@ -2,9 +2,11 @@
 
     System
       -> decompose   A = P J P^-1, exact (derive.spectral)
+      -> shift       an IVP at t0 != 0 in tau = t - t0 (derive.solving.shift)
       -> decouple    g = P^-1 f                              \
       -> integrate   each scalar y_i' = lam_i y_i + g_i       > by the forcing method
       -> recombine   x = P y, real form, constants from x0   /  (derive.solving.methods)
+      -> shift back  the result in t: input modes in t, free response in t - t0
       -> verify      residual, initial values, numeric run
       -> assemble    regime roots restored, steps, conditions -> Solution
 
@@ -34,6 +36,7 @@ from ..steps import EquationsStep, Step
 from ..substitution import regime_verdicts, substitute_values, with_values_step
 from .assembly import assemble
 from .methods import Problem, choose_method
+from .shift import shift_back, time_shift
 from .system import build_system
 
 __all__ = ["solve", "solve_case", "solve_system"]
@@ -70,8 +73,14 @@ def solve_system(
     if not regimes:
         notices.extend(regime_notes(dec.steps[0].factors, dec.lam, values))
     problem = Problem.of(system, dec, settings=settings)
+    # an initial value problem at t0 != 0 is solved in tau = t - t0 from 0 (it then costs what t0 = 0 costs)
+    shift = time_shift(system)
     # decouple, integrate, recombine: by the first method that accepts the forcing
-    pieces = choose_method(problem).solve(problem)
+    if shift is None:
+        pieces = choose_method(problem).solve(problem)
+    else:
+        shifted = Problem.of(shift.shifted, dec, settings=settings)
+        pieces = shift_back(choose_method(shifted).solve(shifted), shift, dec.column_eigenvalues)
     # verify and assemble
     return assemble(
         problem, pieces, steps=steps, regimes=regimes, conditions=conditions, notices=notices, case=case, check=check
