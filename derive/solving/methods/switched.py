@@ -21,12 +21,12 @@ import sympy as sp
 from ...errors import LimitError, UnsupportedError
 from ...forcing import decided_sign, impulse_weight, is_switched, resolve_on, switching_times
 from ...model import Condition
-from ...steps import DecoupleStep, IntervalStep, JumpStep, Step
+from ...steps import DecoupleStep, Deferred, IntervalStep, JumpStep, Step
 from ...verify.pieces import PieceRecord
 from .base import ForcingMethod, Pieces, Problem
 from .closed import expoly_column
 from .convolution import convolution_piece
-from .intervals import Piece, closed_piece, decoupled, group_terms
+from .intervals import Grouped, Piece, Shared, closed_piece, decoupled, difference, group_terms
 
 __all__ = ["Switched"]
 
@@ -43,9 +43,17 @@ def _midpoint(a: sp.Expr, b: sp.Expr | None) -> sp.Expr:
     return a + 1 if b is None else (a + b) / 2
 
 
-def _difference(x: sp.Expr, free: sp.Expr, t: sp.Symbol) -> sp.Expr:
-    """x - free, grouped; an interval before any input has x = free (nothing to group)."""
-    return _ZERO if x == free else group_terms(x - free, t)
+def _difference(piece: Piece, free: Matrix, free_grouped: tuple[Grouped, ...] | None, t: sp.Symbol) -> list[sp.Expr]:
+    """x - free on one interval, grouped; an interval before any input has x = free (nothing to group)."""
+    out = []
+    for i, x in enumerate(piece.x):
+        if x == free[i]:
+            out.append(_ZERO)
+        elif piece.grouped is not None and free_grouped is not None:
+            out.append(difference(piece.grouped[i], free_grouped[i], t))
+        else:
+            out.append(group_terms(x - free[i], t))
+    return out
 
 
 def _piecewise(values: list[sp.Expr], records: list[PieceRecord], t: sp.Symbol) -> sp.Expr:
@@ -64,11 +72,13 @@ class Switched(ForcingMethod):
         return is_switched(problem.system.f, problem.t)
 
     def _piece(
-        self, problem: Problem, f: Matrix, *, start: sp.Expr, x_start: Matrix, constants, free: bool
+        self, problem: Problem, f: Matrix, *, start: sp.Expr, x_start: Matrix, constants, free: bool, shared: Shared
     ) -> tuple[Piece, Matrix | None]:
         """One interval, in closed form when its input allows; with ``free``, its free response if known."""
         if expoly_column(f, problem.t) is not None:
-            return closed_piece(problem, f, start=start, x_start=x_start, constants=constants, free=free)
+            return closed_piece(
+                problem, f, start=start, x_start=x_start, constants=constants, free=free, shared=shared
+            )
         return convolution_piece(problem, f, start=start, x_start=x_start, constants=constants)[0], None
 
     def solve(self, problem: Problem) -> Pieces:
@@ -105,13 +115,16 @@ class Switched(ForcingMethod):
                 f"x({sp.sstr(t0)}) = ({', '.join(c.name for c in consts)})"
             )
         steps: list[Step] = [
-            DecoupleStep(t=t, y=problem.y, D=dec.J, P_inv=dec.P_inv, f=system.f, g=decoupled(problem, system.f))
+            DecoupleStep(t=t, y=problem.y, D=dec.J, P_inv=dec.P_inv, f=system.f, g=Deferred(decoupled, problem, system.f))
         ]
         bounds = [t0] + inner
         records: list[PieceRecord] = []
         conditions: list[Condition] = []
         state = x0
         free: Matrix | None = None
+        free_grouped: tuple[Grouped, ...] | None = None
+        pieces: list[Piece] = []
+        shared = Shared.of(problem)
         for k, a in enumerate(bounds):
             end = bounds[k + 1] if k + 1 < len(bounds) else None
             jump = impulse_weight(system.f, t, a)
@@ -122,9 +135,12 @@ class Switched(ForcingMethod):
             f_k = Matrix([sp.expand(resolve_on(e, t, _midpoint(a, end))) for e in system.f])
             # the first interval, when it starts from x0 itself, gives the free response on the way
             first = k == 0 and state == x0
-            piece, response = self._piece(problem, f_k, start=a, x_start=state, constants=consts, free=first)
+            piece, response = self._piece(
+                problem, f_k, start=a, x_start=state, constants=consts, free=first, shared=shared
+            )
             if first:
-                free = response
+                free, free_grouped = response, piece.free_grouped
+            pieces.append(piece)
             conditions.extend(piece.conditions)
             x_end = None if end is None else Matrix([_number(e.subs(t, end)) for e in piece.x])
             steps.append(
@@ -139,13 +155,13 @@ class Switched(ForcingMethod):
                 state = x_end
         if free is None:
             # the free response e^{A (t - t0)} x0, when no interval gave it on the way
-            free = closed_piece(problem, [_ZERO] * n, start=t0, x_start=x0, constants=consts)[0].x
+            unforced = closed_piece(problem, [_ZERO] * n, start=t0, x_start=x0, constants=consts, shared=shared)[0]
+            free, free_grouped = unforced.x, unforced.grouped
         assert free is not None
         x = Matrix([_piecewise([r.x[i] for r in records], records, t) for i in range(n)])
         # the forced response is the rest
-        forced = Matrix([
-            _piecewise([_difference(r.x[i], free[i], t) for r in records], records, t) for i in range(n)
-        ])
+        differences = [_difference(piece, free, free_grouped, t) for piece in pieces]
+        forced = Matrix([_piecewise([d[i] for d in differences], records, t) for i in range(n)])
         return Pieces(
             x=x,
             homogeneous=free,
