@@ -58,7 +58,8 @@ class _Ring:
         funcs = {a for a in funcs if isinstance(a, (sp.exp, sp.sin, sp.cos))}
         self.hold: dict[sp.Expr, sp.Dummy] = {}
         rates: dict[sp.Dummy, tuple[str, sp.Expr, sp.Expr]] = {}
-        for i, a in enumerate(sorted(funcs, key=sp.default_sort_key)):
+        # any order of the generators gives the same verdict: no sort keys (costly on exponentials)
+        for i, a in enumerate(funcs):
             u = a.args[0]
             if u.has(sp.exp, sp.sin, sp.cos):
                 raise _NotInRing("a nested function")
@@ -124,14 +125,18 @@ class _Ring:
         for e in exprs:
             got = self._held.get(e)
             held.append(got if got is not None else sp.sympify(e, strict=True).xreplace(self.hold))
+        # g' = sign u' h (h = g for e^u, the partner sine or cosine otherwise): u' is read, the
+        # product is taken in the ring (building u' g as an expression first costs more)
         rate_exprs = []
+        partners: list[tuple[int, sp.Dummy]] = []
         for g, (kind, du, _) in self.rates.items():
+            rate_exprs.append(du)
             if kind == "exp":
-                rate_exprs.append(du * g)
+                partners.append((1, g))
             elif kind == "cos":
-                rate_exprs.append(-du * self._trig_partner(g, "sin"))
+                partners.append((-1, self._trig_partner(g, "sin")))
             else:
-                rate_exprs.append(du * self._trig_partner(g, "cos"))
+                partners.append((1, self._trig_partner(g, "cos")))
         rels = [rel for _, rel in self.relations]
         every = [self._alg_expr(e) for e in held + rate_exprs + rels]
         try:
@@ -141,7 +146,13 @@ class _Ring:
         R = self.R
         k = len(held)
         # D p = dp/dt + sum over generators g of (dp/dg) g', with g' in the ring
-        self._rate_elems = [(R.gens[self.gens.index(g)], e) for g, e in zip(self.rates, out[k : k + len(rate_exprs)])]
+        index = {g: i for i, g in enumerate(self.gens)}
+        # a generator of rate zero (e^{-2}, a number) adds nothing to D p
+        self._rate_elems = [
+            (R.gens[index[g]], e * R.gens[index[h]] * sign)
+            for g, e, (sign, h) in zip(self.rates, out[k : k + len(rate_exprs)], partners)
+            if e
+        ]
         self._rel_elems = [r.monic() for r in out[k + len(rate_exprs) :]]
         return out[:k]
 

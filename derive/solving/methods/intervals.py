@@ -366,7 +366,7 @@ def _grouping_of(p: ExpPoly, tau: sp.Symbol, shift: dict, t: sp.Symbol, start: s
         key = shared.exponential(g, start, t) if g != 0 else sp.Integer(1)
         if key is None:
             return None
-        groups.append((key * t**k, sp.Add.make_args(c)))
+        groups.append((key * t**k if k else key, sp.Add.make_args(c)))
     stable = all(shared.stable.get((g, start), False) for (_, g), _ in p.terms if g != 0)
     return Grouped.of(tuple(groups), stable)
 

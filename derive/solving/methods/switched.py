@@ -36,7 +36,27 @@ _ZERO = sp.Integer(0)
 
 def _number(e: sp.Expr) -> sp.Expr:
     """A handed-over state value: expanded, with exponentials of numbers combined per term."""
-    return sp.Add(*[sp.powsimp(term) for term in sp.Add.make_args(sp.expand(e))])
+    return sp.Add(*[sp.powsimp(term) if _powers(term) > 1 else term for term in sp.Add.make_args(sp.expand(e))])
+
+
+def _state_at(piece: Piece, t: sp.Symbol, end: sp.Expr) -> Matrix:
+    """x(end) on a piece, as ``_number`` writes it.
+
+    From the groupings: a part of a coefficient times its factor's value is
+    a term of the expansion already, so nothing is expanded.
+    """
+    if piece.grouped is None:
+        return Matrix([_number(e.xreplace({t: end})) for e in piece.x])
+    out = []
+    for g in piece.grouped:
+        terms = [part * key.xreplace({t: end}) for key, parts in g.groups for part in parts]
+        out.append(sp.Add(*[sp.powsimp(term) if _powers(term) > 1 else term for term in terms]))
+    return Matrix(out)
+
+
+def _powers(term: sp.Expr) -> int:
+    """How many factors of a product are powers or exponentials (powsimp has nothing to join below two)."""
+    return sum(1 for f in sp.Mul.make_args(term) if f.is_Pow or isinstance(f, sp.exp) or f is sp.E)
 
 
 def _midpoint(a: sp.Expr, b: sp.Expr | None) -> sp.Expr:
@@ -142,7 +162,7 @@ class Switched(ForcingMethod):
                 free, free_grouped = response, piece.free_grouped
             pieces.append(piece)
             conditions.extend(piece.conditions)
-            x_end = None if end is None else Matrix([_number(e.subs(t, end)) for e in piece.x])
+            x_end = None if end is None else _state_at(piece, t, end)
             steps.append(
                 IntervalStep(
                     index=k + 1, t=t, start=a, end=end, f=f_k, g=piece.g, x_start=state, y_start=piece.y_start,
