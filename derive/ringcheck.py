@@ -32,7 +32,7 @@ from sympy.polys.polyerrors import PolynomialError
 from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyRing
 
-__all__ = ["residual_is_zero", "initial_is_zero"]
+__all__ = ["residual_is_zero", "residuals_are_zero", "initial_is_zero"]
 
 
 class _NotInRing(Exception):
@@ -58,7 +58,8 @@ class _Ring:
         funcs = {a for a in funcs if isinstance(a, (sp.exp, sp.sin, sp.cos))}
         self.hold: dict[sp.Expr, sp.Dummy] = {}
         rates: dict[sp.Dummy, tuple[str, sp.Expr, sp.Expr]] = {}
-        for i, a in enumerate(sorted(funcs, key=sp.default_sort_key)):
+        # any order of the generators gives the same verdict: no sort keys (costly on exponentials)
+        for i, a in enumerate(funcs):
             u = a.args[0]
             if u.has(sp.exp, sp.sin, sp.cos):
                 raise _NotInRing("a nested function")
@@ -124,14 +125,18 @@ class _Ring:
         for e in exprs:
             got = self._held.get(e)
             held.append(got if got is not None else sp.sympify(e, strict=True).xreplace(self.hold))
+        # g' = sign u' h (h = g for e^u, the partner sine or cosine otherwise): u' is read, the
+        # product is taken in the ring (building u' g as an expression first costs more)
         rate_exprs = []
+        partners: list[tuple[int, sp.Dummy]] = []
         for g, (kind, du, _) in self.rates.items():
+            rate_exprs.append(du)
             if kind == "exp":
-                rate_exprs.append(du * g)
+                partners.append((1, g))
             elif kind == "cos":
-                rate_exprs.append(-du * self._trig_partner(g, "sin"))
+                partners.append((-1, self._trig_partner(g, "sin")))
             else:
-                rate_exprs.append(du * self._trig_partner(g, "cos"))
+                partners.append((1, self._trig_partner(g, "cos")))
         rels = [rel for _, rel in self.relations]
         every = [self._alg_expr(e) for e in held + rate_exprs + rels]
         try:
@@ -141,7 +146,13 @@ class _Ring:
         R = self.R
         k = len(held)
         # D p = dp/dt + sum over generators g of (dp/dg) g', with g' in the ring
-        self._rate_elems = [(R.gens[self.gens.index(g)], e) for g, e in zip(self.rates, out[k : k + len(rate_exprs)])]
+        index = {g: i for i, g in enumerate(self.gens)}
+        # a generator of rate zero (e^{-2}, a number) adds nothing to D p
+        self._rate_elems = [
+            (R.gens[index[g]], e * R.gens[index[h]] * sign)
+            for g, e, (sign, h) in zip(self.rates, out[k : k + len(rate_exprs)], partners)
+            if e
+        ]
         self._rel_elems = [r.monic() for r in out[k + len(rate_exprs) :]]
         return out[:k]
 
@@ -233,10 +244,13 @@ def _rate(u: sp.Expr, t: sp.Symbol) -> sp.Expr:
     """du/dt; for the usual argument g t it is read off the product."""
     if u == t:
         return sp.Integer(1)
-    if u.is_Mul:
-        rest, dep = u.as_independent(t, as_Add=False)
-        if dep == t:
-            return rest
+    if u.is_number:
+        return sp.Integer(0)
+    if u.is_Mul and u.args.count(t) == 1 and not any(a.has(t) for a in u.args if a != t):
+        return sp.Mul(*[a for a in u.args if a != t])
+    if u.is_Add:
+        # a t + b, term by term: sympy's diff of a sum costs more than the sum of the parts
+        return sp.Add(*[_rate(a, t) for a in u.args])
     return sp.diff(u, t)
 
 
@@ -271,26 +285,51 @@ def residual_is_zero(
 
     False means "not settled here", never "nonzero".
     """
-    n = len(x)
+    return residuals_are_zero([(x, f)], A, t)[0]
 
-    def check(ring: _Ring) -> bool:
-        others = [A[i, j] for i in range(n) for j in range(n) if A[i, j] != 0 and not A[i, j].is_Rational]
-        elems = ring.elements(list(x) + list(f) + others)
-        px, pf = elems[:n], elems[n : 2 * n]
-        pa = dict(zip(others, elems[2 * n :]))
+
+def residuals_are_zero(
+    pieces: Sequence[tuple[Sequence[sp.Expr], Sequence[sp.Expr]]], A: sp.MatrixBase, t: sp.Symbol
+) -> list[bool]:
+    """``residual_is_zero`` for several (x, f) pairs (the intervals of a switched input) in one ring.
+
+    The generators, rates and relations of all pieces are read once; a piece
+    the shared ring cannot read is tried on its own.
+    """
+    n = A.rows
+    others = [A[i, j] for i in range(n) for j in range(n) if A[i, j] != 0 and not A[i, j].is_Rational]
+
+    def check(ring: _Ring) -> list[bool]:
+        exprs = [e for x, f in pieces for e in (*x, *f)]
+        elems = ring.elements(exprs + others)
+        pa = dict(zip(others, elems[len(exprs):]))
         dom = ring.R.domain
-        for i in range(n):
-            r = ring.derivative(px[i]) - pf[i]
-            for j in range(n):
-                a = A[i, j]
-                if a == 0:
-                    continue
-                r = r - (px[j] * dom.convert(a) if a.is_Rational else px[j] * pa[a])
-            if ring.reduce(r):
-                return False
-        return True
+        out = []
+        for k in range(len(pieces)):
+            px, pf = elems[2 * n * k : 2 * n * k + n], elems[2 * n * k + n : 2 * n * (k + 1)]
+            out.append(all(not ring.reduce(_component(ring, px, pf, pa, A, dom, i)) for i in range(n)))
+        return out
 
-    return _in_ring(check, list(x) + list(f), t)
+    everything = [e for x, f in pieces for e in (*x, *f)]
+    for symbols_as_gens in (True, False):
+        try:
+            return check(_Ring(everything, t, symbols_as_gens))
+        except _NotInRing:
+            continue
+    if len(pieces) == 1:
+        return [False]
+    return [residuals_are_zero([p], A, t)[0] for p in pieces]
+
+
+def _component(ring: _Ring, px: Sequence, pf: Sequence, pa: dict, A: sp.MatrixBase, dom, i: int):
+    """Row i of x' - A x - f in the ring."""
+    r = ring.derivative(px[i]) - pf[i]
+    for j in range(len(px)):
+        a = A[i, j]
+        if a == 0:
+            continue
+        r = r - (px[j] * dom.convert(a) if a.is_Rational else px[j] * pa[a])
+    return r
 
 
 def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -> bool:

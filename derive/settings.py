@@ -36,6 +36,8 @@ class ZeroPolicy:
     seed: int = 60221
     simplify_ops: int = 300
     relative_tol: float = 1e-30
+    #: seconds sympy's simplifier may take on one expression; past it the numeric identity test decides
+    simplify_seconds: float = 2.0
 
 
 DEFAULT_ZERO_POLICY = ZeroPolicy()

@@ -250,3 +250,23 @@ def test_text_is_never_read_as_an_expression():
     assert residual_is_zero([sp.exp(-t)], A, [0], t)
     with pytest.raises(sp.SympifyError):
         residual_is_zero(["exp(-t)"], A, [0], t)
+
+
+def test_the_pieces_of_a_switched_input_are_read_into_one_ring():
+    from derive.ringcheck import residuals_are_zero
+
+    A = sp.ImmutableMatrix([[0, 1], [-2, -3]])
+    # x(t) of x' = A x + (0, u(t - 1)) from x(0) = (1, 0), written out by hand on each interval
+    before = [2 * sp.exp(-t) - sp.exp(-2 * t), -2 * sp.exp(-t) + 2 * sp.exp(-2 * t)]
+    e1, e2 = sp.exp(-1), sp.exp(-2)
+    after = [
+        (2 * e1 - 1) * sp.exp(1 - t) + (sp.Rational(1, 2) - e2) * sp.exp(2 - 2 * t) + sp.Rational(1, 2),
+        (1 - 2 * e1) * sp.exp(1 - t) + (2 * e2 - 1) * sp.exp(2 - 2 * t),
+    ]
+    wrong = [after[0] + sp.exp(-t), after[1]]
+    assert residuals_are_zero([(before, [0, 0]), (after, [0, 1])], A, t) == [True, True]
+    # a wrong piece is not settled, and does not hide or spoil its neighbours' verdicts
+    assert residuals_are_zero([(before, [0, 0]), (wrong, [0, 1]), (after, [0, 1])], A, t) == [True, False, True]
+    # a piece the shared ring cannot read (a nested function) is tried on its own
+    nested = [sp.exp(sp.exp(t)), 0]
+    assert residuals_are_zero([(nested, [0, 0]), (after, [0, 1])], A, t) == [False, True]

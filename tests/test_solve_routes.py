@@ -262,3 +262,41 @@ def test_values_on_a_condition_of_the_derivation_are_reported_not_crashed_on():
     at_values = sp.limit(sol.x[0].subs({k: 1, m: 1}), c, 2)
     t = sol.t
     assert sp.simplify(at_values - (1 + t) * sp.exp(-t)) == 0
+
+
+def test_the_forced_part_of_an_interval_is_the_grouped_difference():
+    from derive.solving.methods.intervals import difference, group_terms, grouping
+
+    e1 = sp.exp(-1)
+    a = (2 * e1 - 1) * sp.exp(1 - t) + (sp.Rational(1, 2) - sp.exp(-2)) * sp.exp(2 - 2 * t) + sp.Rational(1, 2)
+    cases = [
+        (a, 2 * sp.exp(-t) - sp.exp(-2 * t)),  # no factor in common
+        (a, 3 * sp.exp(1 - t) - sp.Rational(1, 2)),  # factors in common, one cancelling
+        (a, a - sp.exp(1 - t)),  # all but one group cancel
+        (t * sp.exp(-t) + sp.exp(-t), 2 * t * sp.exp(-t)),  # powers of t
+    ]
+    for x, free in cases:
+        grouped_x, grouped_free = grouping(x, t), grouping(free, t)
+        assert difference(grouped_x, grouped_free, t) == group_terms(grouped_x.expr - grouped_free.expr, t)
+        # and it is x - free
+        assert sp.expand(difference(grouped_x, grouped_free, t) - (x - free)) == 0
+
+
+def test_a_switched_solve_on_numbers_matches_scipy_across_the_switches():
+    A = [[0, 1], [-2, -3]]
+    sol = derive.solve(A, [0, sp.Heaviside(t - 1) - sp.Heaviside(t - 2)], t=t, x0=[1, 0])
+    assert sol.ok
+    # the pulse integrated by scipy's solve_ivp (DOP853), restarted at each switch (common practice)
+    xs = [0.5, 1.5, 3.0]
+    state, t_prev, ref = np.array([1.0, 0.0]), 0.0, []
+    for lo, hi, u in ((0.0, 1.0, 0.0), (1.0, 2.0, 1.0), (2.0, 3.0, 0.0)):
+        run = solve_ivp(lambda _s, y, u=u: [y[1], -2 * y[0] - 3 * y[1] + u], (lo, hi), state,
+                        method="DOP853", rtol=1e-12, atol=1e-14, dense_output=True)
+        ref += [run.sol(x) for x in xs if lo <= x <= hi]
+        state = run.y[:, -1]
+    for x, r in zip(xs, ref):
+        got = [float(c.subs(t, x)) for c in sol.x]
+        assert np.allclose(got, r, rtol=1e-9, atol=1e-12)
+    # x = homogeneous + particular on every interval
+    for x in xs:
+        assert all(abs(float((a - h - p).subs(t, x))) < 1e-12 for a, h, p in zip(sol.x, sol.homogeneous, sol.particular))

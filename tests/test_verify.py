@@ -287,3 +287,19 @@ def test_settings_are_passed_in_not_patched():
     ode = sp.dsolve(f(t).diff(t, 2) + 3 * f(t).diff(t) + 2 * f(t) - sp.sin(t), f(t), ics={f(0): 0, f(t).diff(t).subs(t, 0): 1})
     assert abs(float((ode.rhs - sol.x[0]).subs(t, 1))) < 1e-12
     assert np.isfinite(v.numeric.max_rel_gap)
+
+
+def test_the_simplifier_is_bounded_by_the_policy_and_the_numeric_test_decides():
+    x = sp.Symbol("x", positive=True)
+    # sqrt((x + 1)^2) = x + 1 for x > 0: expansion and cancel leave it, the simplifier is asked
+    e = sp.sqrt(x**2 + 2 * x + 1) - x - 1
+    ample = decide(e)
+    assert ample.zero and "stopped" not in ample.method
+    hurried = replace(DEFAULT_SETTINGS.zero, simplify_seconds=1e-4)
+    # a fresh expression (sympy caches what simplify found for the first)
+    e = sp.sqrt(x**2 + 4 * x + 4) - x - 2
+    verdict = decide(e, policy=hurried)
+    assert verdict.zero and verdict.kind == "numeric"
+    assert "simplify stopped at its 0.0001 s budget" in verdict.method
+    # a nonzero expression is refused by the numeric test before the simplifier is asked
+    assert not decide(e + sp.Rational(1, 10**6), policy=hurried).zero

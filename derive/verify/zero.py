@@ -20,7 +20,8 @@ Verification of a solution, verification per interval and the claim checks of
    nowhere near it.
 3. When the numeric test finds zero (or cannot evaluate), ``simplify`` on
    expressions under ``policy.simplify_ops`` operations may still settle it
-   exactly.
+   exactly, within ``policy.simplify_seconds``; when that runs out the
+   numeric verdict stands and its method says the simplifier was stopped.
 
 Impulses in t are judged as distributions: g(t) delta(t - a) vanishes when
 g(a) = 0, so a wrong jump at a switching time fails although every sample
@@ -34,7 +35,7 @@ from __future__ import annotations
 
 import random
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from types import MappingProxyType
 from typing import Any
 
@@ -42,6 +43,7 @@ import mpmath
 import sympy as sp
 from sympy.core.function import AppliedUndef
 
+from ..limits import LimitExpired, inner_limit
 from ..settings import DEFAULT_ZERO_POLICY, ZeroPolicy
 from .evaluate import root_value
 
@@ -438,10 +440,17 @@ def _regular(expr: sp.Expr, t: sp.Symbol | None, policy: ZeroPolicy, simplify: b
     numeric = _numeric(e, t, policy)
     if not numeric.zero and numeric.kind == "numeric":
         return numeric
-    # numerically zero (or not evaluable): try to settle it exactly
+    # numerically zero (or not evaluable): try to settle it exactly, within the policy's time
     if simplify and not radical and ops <= policy.simplify_ops:
-        if sp.simplify(held) == 0:
-            return _exact(True)
+        try:
+            with inner_limit(policy.simplify_seconds) as armed:
+                if armed and sp.simplify(held) == 0:
+                    return _exact(True)
+        except LimitExpired:
+            if numeric.kind == "numeric":
+                # the sheet prints the method: it says the simplifier was stopped and who decided
+                stopped = f", simplify stopped at its {policy.simplify_seconds:g} s budget"
+                return replace(numeric, method=numeric.method + stopped)
     return numeric
 
 

@@ -21,12 +21,12 @@ import sympy as sp
 from ...errors import LimitError, UnsupportedError
 from ...forcing import decided_sign, impulse_weight, is_switched, resolve_on, switching_times
 from ...model import Condition
-from ...steps import DecoupleStep, IntervalStep, JumpStep, Step
+from ...steps import DecoupleStep, Deferred, IntervalStep, JumpStep, Step
 from ...verify.pieces import PieceRecord
 from .base import ForcingMethod, Pieces, Problem
 from .closed import expoly_column
 from .convolution import convolution_piece
-from .intervals import Piece, closed_piece, decoupled, group_terms
+from .intervals import Grouped, Piece, Shared, closed_piece, decoupled, difference, group_terms
 
 __all__ = ["Switched"]
 
@@ -36,16 +36,44 @@ _ZERO = sp.Integer(0)
 
 def _number(e: sp.Expr) -> sp.Expr:
     """A handed-over state value: expanded, with exponentials of numbers combined per term."""
-    return sp.Add(*[sp.powsimp(term) for term in sp.Add.make_args(sp.expand(e))])
+    return sp.Add(*[sp.powsimp(term) if _powers(term) > 1 else term for term in sp.Add.make_args(sp.expand(e))])
+
+
+def _state_at(piece: Piece, t: sp.Symbol, end: sp.Expr) -> Matrix:
+    """x(end) on a piece, as ``_number`` writes it.
+
+    From the groupings: a part of a coefficient times its factor's value is
+    a term of the expansion already, so nothing is expanded.
+    """
+    if piece.grouped is None:
+        return Matrix([_number(e.xreplace({t: end})) for e in piece.x])
+    out = []
+    for g in piece.grouped:
+        terms = [part * key.xreplace({t: end}) for key, parts in g.groups for part in parts]
+        out.append(sp.Add(*[sp.powsimp(term) if _powers(term) > 1 else term for term in terms]))
+    return Matrix(out)
+
+
+def _powers(term: sp.Expr) -> int:
+    """How many factors of a product are powers or exponentials (powsimp has nothing to join below two)."""
+    return sum(1 for f in sp.Mul.make_args(term) if f.is_Pow or isinstance(f, sp.exp) or f is sp.E)
 
 
 def _midpoint(a: sp.Expr, b: sp.Expr | None) -> sp.Expr:
     return a + 1 if b is None else (a + b) / 2
 
 
-def _difference(x: sp.Expr, free: sp.Expr, t: sp.Symbol) -> sp.Expr:
-    """x - free, grouped; an interval before any input has x = free (nothing to group)."""
-    return _ZERO if x == free else group_terms(x - free, t)
+def _difference(piece: Piece, free: Matrix, free_grouped: tuple[Grouped, ...] | None, t: sp.Symbol) -> list[sp.Expr]:
+    """x - free on one interval, grouped; an interval before any input has x = free (nothing to group)."""
+    out = []
+    for i, x in enumerate(piece.x):
+        if x == free[i]:
+            out.append(_ZERO)
+        elif piece.grouped is not None and free_grouped is not None:
+            out.append(difference(piece.grouped[i], free_grouped[i], t))
+        else:
+            out.append(group_terms(x - free[i], t))
+    return out
 
 
 def _piecewise(values: list[sp.Expr], records: list[PieceRecord], t: sp.Symbol) -> sp.Expr:
@@ -64,11 +92,13 @@ class Switched(ForcingMethod):
         return is_switched(problem.system.f, problem.t)
 
     def _piece(
-        self, problem: Problem, f: Matrix, *, start: sp.Expr, x_start: Matrix, constants, free: bool
+        self, problem: Problem, f: Matrix, *, start: sp.Expr, x_start: Matrix, constants, free: bool, shared: Shared
     ) -> tuple[Piece, Matrix | None]:
         """One interval, in closed form when its input allows; with ``free``, its free response if known."""
         if expoly_column(f, problem.t) is not None:
-            return closed_piece(problem, f, start=start, x_start=x_start, constants=constants, free=free)
+            return closed_piece(
+                problem, f, start=start, x_start=x_start, constants=constants, free=free, shared=shared
+            )
         return convolution_piece(problem, f, start=start, x_start=x_start, constants=constants)[0], None
 
     def solve(self, problem: Problem) -> Pieces:
@@ -105,13 +135,16 @@ class Switched(ForcingMethod):
                 f"x({sp.sstr(t0)}) = ({', '.join(c.name for c in consts)})"
             )
         steps: list[Step] = [
-            DecoupleStep(t=t, y=problem.y, D=dec.J, P_inv=dec.P_inv, f=system.f, g=decoupled(problem, system.f))
+            DecoupleStep(t=t, y=problem.y, D=dec.J, P_inv=dec.P_inv, f=system.f, g=Deferred(decoupled, problem, system.f))
         ]
         bounds = [t0] + inner
         records: list[PieceRecord] = []
         conditions: list[Condition] = []
         state = x0
         free: Matrix | None = None
+        free_grouped: tuple[Grouped, ...] | None = None
+        pieces: list[Piece] = []
+        shared = Shared.of(problem)
         for k, a in enumerate(bounds):
             end = bounds[k + 1] if k + 1 < len(bounds) else None
             jump = impulse_weight(system.f, t, a)
@@ -122,11 +155,14 @@ class Switched(ForcingMethod):
             f_k = Matrix([sp.expand(resolve_on(e, t, _midpoint(a, end))) for e in system.f])
             # the first interval, when it starts from x0 itself, gives the free response on the way
             first = k == 0 and state == x0
-            piece, response = self._piece(problem, f_k, start=a, x_start=state, constants=consts, free=first)
+            piece, response = self._piece(
+                problem, f_k, start=a, x_start=state, constants=consts, free=first, shared=shared
+            )
             if first:
-                free = response
+                free, free_grouped = response, piece.free_grouped
+            pieces.append(piece)
             conditions.extend(piece.conditions)
-            x_end = None if end is None else Matrix([_number(e.subs(t, end)) for e in piece.x])
+            x_end = None if end is None else _state_at(piece, t, end)
             steps.append(
                 IntervalStep(
                     index=k + 1, t=t, start=a, end=end, f=f_k, g=piece.g, x_start=state, y_start=piece.y_start,
@@ -139,13 +175,13 @@ class Switched(ForcingMethod):
                 state = x_end
         if free is None:
             # the free response e^{A (t - t0)} x0, when no interval gave it on the way
-            free = closed_piece(problem, [_ZERO] * n, start=t0, x_start=x0, constants=consts)[0].x
+            unforced = closed_piece(problem, [_ZERO] * n, start=t0, x_start=x0, constants=consts, shared=shared)[0]
+            free, free_grouped = unforced.x, unforced.grouped
         assert free is not None
         x = Matrix([_piecewise([r.x[i] for r in records], records, t) for i in range(n)])
         # the forced response is the rest
-        forced = Matrix([
-            _piecewise([_difference(r.x[i], free[i], t) for r in records], records, t) for i in range(n)
-        ])
+        differences = [_difference(piece, free, free_grouped, t) for piece in pieces]
+        forced = Matrix([_piecewise([d[i] for d in differences], records, t) for i in range(n)])
         return Pieces(
             x=x,
             homogeneous=free,
