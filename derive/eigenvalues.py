@@ -14,6 +14,7 @@ from __future__ import annotations
 from typing import Sequence
 
 import sympy as sp
+from sympy.polys.constructor import construct_domain
 from sympy.polys.matrices import DomainMatrix
 
 from .relations import regime_sign
@@ -244,6 +245,10 @@ def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -
     """
     if exact is not None:
         return exact[0].domain.to_sympy(exact[0].det())
+    if P.free_symbols:
+        # parameters: no decimal exists, so det P is found exactly with each square
+        # root a generator (reduced by its square afterwards)
+        return _symbolic_determinant(P)
     if P.rows <= 4 and not P.has(sp.CRootOf):
         try:
             return sp.radsimp(sp.expand(P.det(method="berkowitz")))
@@ -261,3 +266,29 @@ def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -
     if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
         return sp.Float(d.real, 12)
     return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
+
+
+def _symbolic_determinant(P: sp.ImmutableMatrix) -> sp.Expr:
+    """det P for entries in K(params)(sqrt(D_1), ..., sqrt(D_m)).
+
+    Each square root becomes a symbol g_i, the determinant is taken over the
+    rational functions in the parameters and the g_i (fraction-free, cheap),
+    and numerator and denominator are reduced by g_i^2 = D_i.  Other radicals
+    or indexed roots (not met with parameters: the size rule refuses them) go
+    to sympy's own determinant.
+    """
+    roots = {p for p in P.atoms(sp.Pow) if p.exp.is_Rational and not p.exp.is_Integer}
+    if P.has(sp.CRootOf) or any(p.exp.q != 2 for p in roots):
+        return sp.factor(P.det(method="berkowitz"))
+    bases = {p.base for p in roots}
+    gens = {base: sp.Dummy("g") for base in bases}
+    swap = {p: gens[p.base] ** int(p.exp.p) for p in roots}
+    Q = P.xreplace(swap)
+    dom, _ = construct_domain(list(Q), field=True)
+    det = dom.to_sympy(domain_matrix(Q, dom).det())
+    num, den = sp.fraction(sp.together(det))
+    for base, g in gens.items():
+        num = sp.rem(sp.expand(num), g**2 - base, g)
+        den = sp.rem(sp.expand(den), g**2 - base, g)
+    back = {g: sp.sqrt(base) for base, g in gens.items()}
+    return sp.factor(num.xreplace(back)) / sp.factor(den.xreplace(back))
