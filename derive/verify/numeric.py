@@ -40,6 +40,7 @@ from sympy.core.function import AppliedUndef
 from ..model import NumericCheck, System
 from ..settings import DEFAULT_SETTINGS, Settings
 from .evaluate import numeric_function, root_value
+from .span import settling_span
 from .zero import Singular, drop_empty_integrals, mp_value
 
 __all__ = [
@@ -53,8 +54,14 @@ __all__ = [
     "stepped",
 ]
 
+#: e-foldings of the fastest growing mode a check may span (the old bound too)
+GROWTH_FOLDS = 30.0
+
 STEPPED = "scipy.linalg.expm (Pade, scaling and squaring), stepped"
 INTEGRATED = "scipy solve_ivp DOP853"
+STIFF = "scipy solve_ivp Radau (stiff over the span)"
+#: spans longer than this many time constants of the fastest mode go to the implicit integrator
+STIFF_RATIO = 500.0
 
 
 @dataclass(frozen=True)
@@ -82,44 +89,67 @@ def sample_constants(constants: Sequence[sp.Symbol]) -> dict[sp.Symbol, sp.Expr]
 
 
 def time_span(eigenvalues: Sequence[sp.Expr], subs: dict, decimals: Sequence[complex | None] = ()) -> float:
-    """A time span that shows the slowest decaying mode without overflow.
+    """The span of the check: the one rule of :mod:`derive.verify.span`, growth capped.
 
     ``decimals`` are the eigenvalues' values where the caller has them
-    (nested radicals are slow to evaluate again).
+    (nested radicals are slow to evaluate again).  A growing mode is followed
+    for at most ``GROWTH_FOLDS`` e-foldings: past that, double precision has
+    nothing left of a decaying part, and e^{sigma t} overflows soon after.
 
     >>> time_span([sp.Integer(-1), sp.Integer(-2)], {})
-    4.0
+    5.0
     """
-    rates = []
+    values: list[complex] = []
     known = list(decimals) + [None] * (len(eigenvalues) - len(decimals))
     for lam, z in zip(eigenvalues, known):
-        if z is not None:
-            if abs(z) > 1e-12:
-                rates.append(abs(z))
+        if z is None and isinstance(lam, sp.Basic):  # eigenvalues are sympy objects; anything else is skipped
+            try:
+                z = complex(sp.N(lam.xreplace(subs), 15))
+            except (TypeError, ValueError):
+                continue
+        if z is not None and math.isfinite(z.real) and math.isfinite(z.imag):
+            values.append(z)
+    span = settling_span(values)
+    growth = max([z.real for z in values if z.real > 1e-9 * abs(z)], default=0.0)
+    return float(min(span, GROWTH_FOLDS / growth) if growth > 0 else span)
+
+
+def _exponentials_inside(e: sp.Expr) -> sp.Expr:
+    """e^{-a t} Int_0^t g(s) e^{a s} ds as Int_0^t g(s) e^{a (s - t)} ds, term by term.
+
+    Over a span of many time constants of a fast mode the two factors
+    overflow and underflow apart (inf times 0); joined in one exponent they
+    stay of the size of the answer.
+    """
+    terms = []
+    for term in sp.Add.make_args(e):
+        factors = sp.Mul.make_args(term)
+        ints = [f for f in factors if isinstance(f, sp.Integral)]
+        if len(ints) != 1 or len(ints[0].limits) != 1:
+            terms.append(term)
             continue
-        if not isinstance(lam, sp.Basic):  # eigenvalues are sympy objects; anything else is skipped
+        I = ints[0]
+        s = I.limits[0][0]
+        outer = [f for f in factors if isinstance(f, sp.exp) and not f.has(s)]
+        if not outer:
+            terms.append(term)
             continue
-        try:
-            z = complex(sp.N(lam.xreplace(subs), 15))
-        except (TypeError, ValueError):
-            continue
-        if abs(z) > 1e-12:
-            rates.append(abs(z))
-    if not rates:
-        return 5.0
-    slow, fast = min(rates), max(rates)
-    span = 4.0 / slow
-    # growing modes: keep e^{Re(lam) T} moderate
-    return float(min(max(span, 0.5), 20.0, 30.0 / max(fast, 1e-9) if fast > 1 else 20.0))
+        inner = sp.Mul.make_args(I.function)
+        rates = [f.args[0] for f in (*outer, *inner) if isinstance(f, sp.exp)]
+        body = sp.Mul(*[f for f in inner if not isinstance(f, sp.exp)], sp.exp(sp.expand(sp.Add(*rates))))
+        rest = [f for f in factors if f is not I and not any(f is o for o in outer)]
+        terms.append(sp.Mul(*rest, sp.Integral(body, I.limits[0])))
+    return sp.Add(*terms)
 
 
 def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol):
     """tt -> real values of X at t = tt; unevaluated integrals by adaptive quadrature."""
     from scipy.integrate import quad
 
-    ints = sorted({I for e in X for I in sp.sympify(e, strict=True).atoms(sp.Integral)}, key=sp.default_sort_key)
+    X = [_exponentials_inside(sp.sympify(e, strict=True)) for e in X]
+    ints = sorted({I for e in X for I in e.atoms(sp.Integral)}, key=sp.default_sort_key)
     dummies = [sp.Dummy(f"I{k}") for k in range(len(ints))]
-    Xd = [sp.sympify(e, strict=True).xreplace(dict(zip(ints, dummies))) for e in X]
+    Xd = [e.xreplace(dict(zip(ints, dummies))) for e in X]
     # mpmath evaluates special functions of closed-form integrals (erf, Ei, ...) at complex arguments too
     main = numeric_function([t, *dummies], Xd, ["mpmath"])
     parts = []
@@ -353,20 +383,20 @@ def numeric_pieces(
             modes_used = max(modes_used, len(md.modes))  # type: ignore[union-attr]
         else:
             md = None
-            numeric = _integrated(A, f_expr, t, state, grid, settings)
-            methods.append(INTEGRATED)
+            numeric, route = _integrated(A, f_expr, t, state, grid, settings)
+            methods.append(route)
         intervals.append(_Interval(a, b, grid, p, md, ref))
         numeric_parts.append(numeric)
         state = numeric[:, -1]
     worst = max(float(np.max(np.abs(num - iv.ref))) for num, iv in zip(numeric_parts, intervals))
     scale = max([1.0] + [float(np.max(np.abs(iv.ref))) for iv in intervals])
     rel = worst / scale
-    integrated = INTEGRATED in methods
+    integrated = any(m != STEPPED for m in methods)
     limit = settings.numeric_gap_limit
     if integrated:
         # the integrator's error, amplified by the span; never so wide that a wrong answer passes
         limit = min(max(limit, 1e3 * settings.numeric_rtol * _growth(A, max(t_end - t0, 0.0))), 1e-3)
-    method = STEPPED if not integrated else (INTEGRATED if len(set(methods)) == 1 else f"{STEPPED} / {INTEGRATED}")
+    method = " / ".join(dict.fromkeys(methods))
     if len(intervals) > 1:
         method += ", restarted at each switch"
     ok = bool(math.isfinite(rel) and rel <= limit)
@@ -406,7 +436,7 @@ def _growth(A: np.ndarray, span: float) -> float:
     return worst
 
 
-def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarray, grid: np.ndarray, settings: Settings) -> np.ndarray:
+def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarray, grid: np.ndarray, settings: Settings) -> tuple[np.ndarray, str]:
     from scipy.integrate import solve_ivp
 
     bad = (KeyError, TypeError, ValueError, ZeroDivisionError, OverflowError)
@@ -425,12 +455,16 @@ def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarr
         np.asarray(rhs(grid[0], y0))
     except bad as exc:
         raise NumericSkipped(f"the forcing cannot be evaluated at the given parameter values ({type(exc).__name__}: {exc})")
+    # an explicit integrator over many time constants of a fast mode crawls at its stability limit
+    fastest = float(np.max(np.abs(np.linalg.eigvals(A)))) if len(A) else 0.0
+    stiff = (grid[-1] - grid[0]) * fastest > STIFF_RATIO
     sol = solve_ivp(
-        rhs, (grid[0], grid[-1]), y0, method="DOP853", rtol=settings.numeric_rtol, atol=settings.numeric_atol, t_eval=grid
+        rhs, (grid[0], grid[-1]), y0, method="Radau" if stiff else "DOP853", rtol=settings.numeric_rtol,
+        atol=settings.numeric_atol, t_eval=grid, **({"jac": A} if stiff else {}),
     )
     if not sol.success:
         raise NumericSkipped(f"the integrator stopped: {sol.message}")
-    return sol.y
+    return sol.y, STIFF if stiff else INTEGRATED
 
 
 def _high_precision_gap(
