@@ -142,8 +142,8 @@ def _exponentials_inside(e: sp.Expr) -> sp.Expr:
     return sp.Add(*terms)
 
 
-def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol):
-    """tt -> real values of X at t = tt; unevaluated integrals by adaptive quadrature."""
+def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol, *, complex_values: bool = False):
+    """tt -> values of X at t = tt (real parts unless ``complex_values``); integrals by adaptive quadrature."""
     from scipy.integrate import quad
 
     X = [_exponentials_inside(sp.sympify(e, strict=True)) for e in X]
@@ -171,7 +171,8 @@ def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol):
                 re = quad(lambda u: complex(body(u, tt)).real, a, b, limit=200, epsabs=1e-14, epsrel=1e-12)[0]
                 im = quad(lambda u: complex(body(u, tt)).imag, a, b, limit=200, epsabs=1e-14, epsrel=1e-12)[0] if cplx else 0.0
                 vals.append(re + 1j * im)
-        return np.array([complex(v) for v in main(tt, *vals)], dtype=complex).reshape(-1).real
+        out = np.array([complex(v) for v in main(tt, *vals)], dtype=complex).reshape(-1)
+        return out if complex_values else out.real
 
     return value
 
@@ -237,7 +238,9 @@ def stepped(M: np.ndarray, X0: np.ndarray, t_eval: np.ndarray) -> np.ndarray:
     return X
 
 
-def _stepped_with_modes(md: _Modes, f_expr: sp.MatrixBase, t: sp.Symbol, A: np.ndarray, y0: np.ndarray, t_eval: np.ndarray) -> np.ndarray | None:
+def _stepped_with_modes(
+    md: _Modes, f_expr: sp.MatrixBase, t: sp.Symbol, A: np.ndarray, y0: np.ndarray, t_eval: np.ndarray, complex_values: bool = False
+) -> np.ndarray | None:
     """x(t) for x' = A x + f with f = C z, by one matrix exponential of the extended state.
 
     The forcing written as the output of its own linear system (common
@@ -261,7 +264,8 @@ def _stepped_with_modes(md: _Modes, f_expr: sp.MatrixBase, t: sp.Symbol, A: np.n
         scale = max(1.0, float(np.max(np.abs(f_grid))))
         if float(np.max(np.abs(M[:n, n:] @ z_grid - f_grid))) > 1e-9 * scale:
             return None
-    return stepped(M, np.concatenate([y0, z_grid[:, 0]]), t_eval)[:n].real
+    X = stepped(M, np.concatenate([y0, z_grid[:, 0]]), t_eval)[:n]
+    return X if complex_values else X.real
 
 
 # ---------------------------------------------------------------------------
@@ -278,16 +282,17 @@ class _Interval:
     ref: np.ndarray
 
 
-def _exact_function(x: Sequence[sp.Expr], t: sp.Symbol, sampled: dict):
-    """t-grid -> the exact x on it (real parts), vectorised where x has no integrals."""
+def _exact_function(x: Sequence[sp.Expr], t: sp.Symbol, sampled: dict, complex_values: bool = False):
+    """t-grid -> the exact x on it (real parts for real data), vectorised where x has no integrals."""
     if any(e.has(sp.Integral) for e in x):
-        point = numeric_solution([drop_empty_integrals(e.xreplace(sampled)) for e in x], t)
+        point = numeric_solution([drop_empty_integrals(e.xreplace(sampled)) for e in x], t, complex_values=complex_values)
         return lambda grid: np.array([point(tt) for tt in grid]).T
     fn = numeric_function(t, list(x), ["numpy"], values=sampled)
 
     def exact(grid: np.ndarray) -> np.ndarray:
         # one vectorised call; a constant component comes back as a scalar
-        return np.array([np.broadcast_to(np.asarray(v, dtype=complex), np.shape(grid)) for v in fn(grid)]).real
+        values = np.array([np.broadcast_to(np.asarray(v, dtype=complex), np.shape(grid)) for v in fn(grid)])
+        return values if complex_values else values.real
 
     return exact
 
@@ -336,7 +341,10 @@ def numeric_pieces(
             raise NumericSkipped("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))
         xs_all.append(xs)
     A_num = system.A.xreplace(subs) if subs else system.A
-    A = np.array([[float(e) if e.is_Rational else float(e.evalf(20)) for e in row] for row in A_num.tolist()], dtype=float)
+    # complex data (i in A, f or x0): the check runs in complex arithmetic; else real parts
+    cplx = any(e.has(sp.I) for e in (*A_num, *(system.x0 if system.x0 is not None else ()), *(q for p in pieces for q in (*p.f, *p.jump))))
+    kind: Any = complex if cplx else float
+    A = np.array([[kind(e) if e.is_Rational else kind(e.evalf(20)) for e in row] for row in A_num.tolist()], dtype=kind)
     t0 = float(sp.N(system.t0.xreplace(subs)))
     switches = [float(sp.N(p.start.xreplace(subs))) for p in pieces[1:]]
     T = time_span(eigenvalues, subs, decimals)
@@ -355,7 +363,7 @@ def numeric_pieces(
         count = points if len(pieces) == 1 else max(4, int(points * (b - a) / max(t_end - t0, 1e-9)))
         grid = np.linspace(a, b, count)
         try:
-            ref = _exact_function(list(xs), t, sampled)(grid)  # grid[0] is the start: x(t0) starts the check
+            ref = _exact_function(list(xs), t, sampled, cplx)(grid)  # grid[0] is the start: x(t0) starts the check
         except bad as exc:
             raise NumericSkipped(
                 f"the exact solution cannot be evaluated at the given parameter values "
@@ -370,11 +378,11 @@ def numeric_pieces(
                 )
         else:
             assert state is not None
-            state = state + np.array([float(sp.N(v.xreplace(subs))) for v in p.jump])
+            state = state + np.array([kind(sp.N(v.xreplace(subs))) for v in p.jump])
         f_expr = p.f.xreplace(subs) if subs else p.f
         if any(e != 0 for e in f_expr):
             md = _read_modes(f_expr, t)
-            numeric = _stepped_with_modes(md, f_expr, t, A, state, grid) if md is not None else None
+            numeric = _stepped_with_modes(md, f_expr, t, A, state, grid, cplx) if md is not None else None
         else:
             md = _Modes((), tuple(() for _ in f_expr))
             numeric = stepped(A, state, grid)
@@ -402,7 +410,7 @@ def numeric_pieces(
     ok = bool(math.isfinite(rel) and rel <= limit)
     if not ok and not integrated and not any(e.has(sp.Integral) for e in xs_all):
         # the double-precision comparison may be limited by round-off: repeat it at high precision
-        hp = _high_precision_gap(system, intervals, [xs_all[i] for i in range(len(intervals))], subs, sampled, settings)
+        hp = _high_precision_gap(system, intervals, [xs_all[i] for i in range(len(intervals))], subs, sampled, settings, cplx)
         if hp is not None:
             worst, rel = hp
             method += f"; repeated at {settings.numeric_hp_digits} digits (mpmath) as double precision was limited by round-off"
@@ -445,9 +453,9 @@ def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarr
             f_fn = numeric_function(t, list(f_expr), "numpy")
 
             def rhs(tt: float, y: np.ndarray) -> np.ndarray:
-                return A @ y + np.array(f_fn(tt), dtype=float).reshape(-1)
+                return A @ y + np.array(f_fn(tt), dtype=y.dtype).reshape(-1)
         else:
-            f_const = np.array([float(e) for e in f_expr])
+            f_const = np.array([complex(e) if e.has(sp.I) else float(e) for e in f_expr])
 
             def rhs(tt: float, y: np.ndarray) -> np.ndarray:
                 return A @ y + f_const
@@ -474,8 +482,10 @@ def _high_precision_gap(
     subs: dict,
     sampled: dict,
     settings: Settings,
+    complex_values: bool = False,
 ) -> tuple[float, float] | None:
     """The stepped comparison again at high precision: (max abs gap, max rel gap), or None if it cannot run."""
+    part: Any = (lambda z: z) if complex_values else mpmath.re
     t = system.t
     A_exact = system.A.xreplace(subs) if subs else system.A
     try:
@@ -500,7 +510,7 @@ def _high_precision_gap(
 
                 def exact_at(tt: Any) -> list[Any]:
                     point[t] = tt
-                    return [mpmath.re(mp_value(e, point)[0]) for e in xs]
+                    return [part(mp_value(e, point)[0]) for e in xs]
 
                 if k == 0:
                     x_now = exact_at(a)
@@ -514,9 +524,9 @@ def _high_precision_gap(
                     tt = a + j * h
                     ref = exact_at(tt)
                     for i in range(n):
-                        worst = max(worst, abs(mpmath.re(X[i]) - ref[i]))
+                        worst = max(worst, abs(part(X[i]) - ref[i]))
                         scale = max(scale, abs(ref[i]))
-                state = [mpmath.re(X[i]) for i in range(n)]
+                state = [part(X[i]) for i in range(n)]
             return float(worst), float(worst / scale)
     except (Singular, ZeroDivisionError, ValueError, TypeError, OverflowError):
         return None
