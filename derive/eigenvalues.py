@@ -14,6 +14,7 @@ from __future__ import annotations
 from typing import Sequence
 
 import sympy as sp
+from sympy.polys.constructor import construct_domain
 from sympy.polys.matrices import DomainMatrix
 
 from .relations import regime_sign
@@ -21,6 +22,7 @@ from .errors import DeriveError, UnsupportedError
 from .model import Condition, Relation
 
 __all__ = [
+    "COMPLEX_DATA_NOTICE",
     "domain_matrix",
     "determinant_shown",
     "factor_charpoly",
@@ -33,6 +35,13 @@ __all__ = [
     "denominator",
     "parameter_conditions",
 ]
+
+
+#: why an answer for complex data stays in complex form (the sheet lists it with the notices)
+COMPLEX_DATA_NOTICE = (
+    "A, f(t) or the initial values have complex (non-real) entries, so the eigenvalues, eigenvectors "
+    "and the result are in complex form: a real form with sines and cosines exists only for real data"
+)
 
 
 def domain_matrix(M: sp.MatrixBase, dom) -> DomainMatrix:
@@ -89,8 +98,13 @@ def roots_of(
     aux: list | None = None,
     *,
     ops_limit: int = 16,
+    conditions: list[Condition] | None = None,
 ) -> tuple[list[sp.Expr], str, str]:
-    """The roots of an irreducible factor, in the form the size rule picks."""
+    """The roots of an irreducible factor, in the form the size rule picks.
+
+    Conditions the form relies on (a sign no assumption decides) are appended
+    to ``conditions``.
+    """
     d = q.degree()
     if d == 1:
         c1, c0 = q.all_coeffs()
@@ -119,12 +133,16 @@ def roots_of(
         r1 = (-b + s) / (2 * a)
         r2 = (-b - s) / (2 * a)
         return [sp.expand(r1) if not has_params else r1, sp.expand(r2) if not has_params else r2], "radical", ""
+    if has_params and d == 4 and q.nth(3) == 0 and q.nth(1) == 0:
+        return _biquadratic_roots(q, lam, regimes, aux, conditions)
     if has_params:
         raise UnsupportedError(
             f"the characteristic polynomial has an irreducible factor of degree {d} with "
             f"symbolic coefficients ({q.as_expr()}); give the parameters numeric values or "
             "choose a parameter relation that splits it",
         )
+    if any(cf.has(sp.I) for cf in q.all_coeffs()):
+        return _gaussian_roots(q, lam, ops_limit)
     if d >= 5:
         roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
         return roots, "indexed root", f"irreducible factor of degree {d} (>= 5): no general radical form"
@@ -146,6 +164,69 @@ def roots_of(
         rule = "no radical form found"
     roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
     return roots, "indexed root", rule
+
+
+def _biquadratic_roots(
+    q: sp.Poly, lam: sp.Symbol, regimes: Sequence[tuple[sp.Expr, int]], aux: list | None, conditions: list[Condition] | None
+) -> tuple[list[sp.Expr], str, str]:
+    """Roots of a q(lambda) = a lambda^4 + b lambda^2 + c in the parameters, through mu = lambda^2.
+
+    mu_k = (-b +- sqrt(b^2 - 4ac))/(2a), lambda = +-sqrt(mu_k).  When the
+    assumptions make b/a and c/a positive (an undamped chain with positive
+    masses and stiffnesses), both mu_k are negative once the discriminant is
+    positive, and lambda = +-i omega_k with omega_k = sqrt(-mu_k): each omega_k
+    is a positive placeholder while the algebra runs (as for a regime), so the
+    real form is taken, and the root is put back in the result.  A
+    discriminant whose sign the assumptions leave open is stated as a condition.
+    """
+    a, b, c = q.nth(4), q.nth(2), q.nth(0)
+    disc = sp.factor(b**2 - 4 * a * c)
+    sign = regime_sign(disc, regimes) or (1 if disc.is_positive else -1 if disc.is_negative else 0)
+    mus = [(-b + sp.sqrt(disc)) / (2 * a), (-b - sp.sqrt(disc)) / (2 * a)]
+    shown = "mu^2" if a == 1 else f"({sp.sstr(a)}) mu^2"
+    rule = f"characteristic polynomial in lambda^2 alone: mu = lambda^2 solves {shown} + ({sp.sstr(b)}) mu + ({sp.sstr(c)}) = 0"
+    if aux is None or sign < 0 or not (sp.factor(b / a).is_positive and sp.factor(c / a).is_positive):
+        return [r for mu in mus for r in (sp.sqrt(mu), -sp.sqrt(mu))], "radical", rule + ", lambda = +-sqrt(mu)"
+    if sign == 0 and conditions is not None:
+        conditions.append(
+            Condition(expr=sp.expand(disc), relation=Relation.POSITIVE, reason="the squared frequencies mu = lambda^2 are real (discriminant of the quadratic in mu)")
+        )
+    roots = []
+    for mu in mus:
+        w = sp.Dummy("w", positive=True)
+        aux.append((w, sp.sqrt(sp.factor(-mu))))
+        roots += [sp.I * w, -sp.I * w]
+    return roots, "radical", rule + "; both mu < 0, so lambda = +-i omega with omega = sqrt(-mu)"
+
+
+def _gaussian_roots(q: sp.Poly, lam: sp.Symbol, ops_limit: int) -> tuple[list[sp.Expr], str, str]:
+    """Roots of an irreducible factor of degree >= 3 with non-real coefficients (in Q(i)).
+
+    Radicals within the size limit; otherwise indexed roots of the norm
+    q * conj(q), a polynomial over Q whose roots are those of q and of its
+    conjugate: the d of them where q vanishes are taken (decided at 30
+    digits, the two sets being disjoint for an irreducible q with non-real
+    coefficients).
+    """
+    d = q.degree()
+    rule = f"irreducible factor of degree {d} over Q(i): no general radical form" if d >= 5 else ""
+    if d <= 4:
+        rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
+        if len(rad) == d:
+            ops = max(sp.count_ops(r) for r in rad)
+            if ops <= ops_limit:
+                return [sp.expand(r) for r in rad], "radical", f"radical form within the size limit ({ops} <= {ops_limit} operations)"
+            rule = f"radical form needs {ops} operations, above the limit of {ops_limit}"
+        else:
+            rule = "no radical form found"
+    expr = q.as_expr()
+    norm = sp.Poly(sp.expand(expr * expr.xreplace({sp.I: -sp.I})), lam)
+    if any(cf.has(sp.I) for cf in norm.all_coeffs()) or not norm.is_irreducible:  # pragma: no cover - theory says no
+        raise UnsupportedError(f"the factor {expr} over Q(i) has no indexed form here")
+    candidates = [sp.CRootOf(norm.as_expr(), lam, i) for i in range(norm.degree())]
+    size = [abs(complex(q.eval(sp.N(r, 30)))) for r in candidates]
+    order = sorted(range(len(candidates)), key=lambda i: size[i])
+    return [candidates[i] for i in sorted(order[:d])], "indexed root", rule + "; indexed roots of q times its conjugate, over Q"
 
 
 def with_root_values(e):
@@ -197,11 +278,28 @@ def denominator(e: sp.Expr, K) -> sp.Expr:
             return K.from_sympy(e).denom.as_expr()
         except (sp.CoercionFailed, sp.polys.polyerrors.PolynomialError, ValueError, TypeError):
             pass
+    radicals = {p for p in e.atoms(sp.Pow) if p.exp.is_Rational and not p.exp.is_Integer}
+    if radicals:
+        # each radical a generator of a field of rational functions: cancelling the
+        # expression with nested square roots in it took minutes on a two-mass chain
+        gens = {p: sp.Dummy("g") for p in radicals}
+        try:
+            dom, (elem,) = construct_domain([e.xreplace(gens)], field=True)
+        except (sp.CoercionFailed, sp.polys.polyerrors.PolynomialError, ValueError, TypeError):
+            dom = None
+        if dom is not None and dom.is_FractionField:
+            return elem.denom.as_expr().xreplace({g: p for p, g in gens.items()})
     return sp.fraction(sp.cancel(sp.together(e)))[1]
 
 
-def parameter_conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, ...]:
-    """Conditions in the parameters on which the derivation relies."""
+def parameter_conditions(A, factors, P, P_inv, lam, K=None, *, generic: Sequence[DomainMatrix] | None = None) -> tuple[Condition, ...]:
+    """Conditions in the parameters on which the derivation relies.
+
+    ``generic`` are the blocks' V and W over K or K[theta]/(q): their
+    denominators, read off the coefficients in K, are those of P and P^-1
+    (putting a root in for theta adds none), without cancelling expressions
+    that hold the roots.
+    """
     out: list[Condition] = []
     seen: set = set()
 
@@ -227,6 +325,11 @@ def parameter_conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, 
         pieces = [sp.discriminant(f, lam) for f in fs if sp.degree(f, lam) >= 2]
         pieces += [sp.resultant(fs[i], fs[j], lam) ** 2 for i in range(len(fs)) for j in range(i + 1, len(fs))]
         add(sp.Mul(*pieces), "the eigenvalues are distinct (discriminant of the characteristic polynomial)")
+    if generic is not None and K is not None and K.is_FractionField:
+        for den in dict.fromkeys(_field_denominators(generic, K)):
+            if den.free_symbols:
+                add(den, "a denominator in P or P^-1 is nonzero")
+        return tuple(out)
     for e in dict.fromkeys(list(P) + list(P_inv)):
         if not e.free_symbols:
             continue
@@ -234,6 +337,17 @@ def parameter_conditions(A, factors, P, P_inv, lam, K=None) -> tuple[Condition, 
         if den.free_symbols:
             add(den, "a denominator in P or P^-1 is nonzero")
     return tuple(out)
+
+
+def _field_denominators(matrices: Sequence[DomainMatrix], K) -> list[sp.Expr]:
+    """The denominators (in K) of the coefficients of every entry: elements of K, or polynomials in theta over K."""
+    out: list[sp.Expr] = []
+    for M in matrices:
+        for row in M.to_dense().rep.to_ddm():
+            for x in row:
+                coeffs = x.rep.to_list() if M.domain != K else [x]
+                out.extend(c.denom.as_expr() for c in coeffs if c)
+    return out
 
 
 def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -> sp.Expr:
@@ -244,6 +358,10 @@ def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -
     """
     if exact is not None:
         return exact[0].domain.to_sympy(exact[0].det())
+    if P.free_symbols:
+        # parameters: no decimal exists, so det P is found exactly with each square
+        # root a generator (reduced by its square afterwards)
+        return _symbolic_determinant(P)
     if P.rows <= 4 and not P.has(sp.CRootOf):
         try:
             return sp.radsimp(sp.expand(P.det(method="berkowitz")))
@@ -261,3 +379,29 @@ def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -
     if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
         return sp.Float(d.real, 12)
     return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
+
+
+def _symbolic_determinant(P: sp.ImmutableMatrix) -> sp.Expr:
+    """det P for entries in K(params)(sqrt(D_1), ..., sqrt(D_m)).
+
+    Each square root becomes a symbol g_i, the determinant is taken over the
+    rational functions in the parameters and the g_i (fraction-free, cheap),
+    and numerator and denominator are reduced by g_i^2 = D_i.  Other radicals
+    or indexed roots (not met with parameters: the size rule refuses them) go
+    to sympy's own determinant.
+    """
+    roots = {p for p in P.atoms(sp.Pow) if p.exp.is_Rational and not p.exp.is_Integer}
+    if P.has(sp.CRootOf) or any(p.exp.q != 2 for p in roots):
+        return sp.factor(P.det(method="berkowitz"))
+    bases = {p.base for p in roots}
+    gens = {base: sp.Dummy("g") for base in bases}
+    swap = {p: gens[p.base] ** int(p.exp.p) for p in roots}
+    Q = P.xreplace(swap)
+    dom, _ = construct_domain(list(Q), field=True)
+    det = dom.to_sympy(domain_matrix(Q, dom).det())
+    num, den = sp.fraction(sp.together(det))
+    for base, g in gens.items():
+        num = sp.rem(sp.expand(num), g**2 - base, g)
+        den = sp.rem(sp.expand(den), g**2 - base, g)
+    back = {g: sp.sqrt(base) for base, g in gens.items()}
+    return sp.factor(num.xreplace(back)) / sp.factor(den.xreplace(back))

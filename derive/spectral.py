@@ -24,7 +24,6 @@ A P = P J must hold, in K.
 from __future__ import annotations
 
 import functools
-import math
 from dataclasses import dataclass
 from typing import Sequence
 
@@ -34,6 +33,18 @@ from sympy.polys.constructor import construct_domain
 from sympy.polys.domains.domain import Domain
 from sympy.polys.matrices import DomainMatrix
 
+from .chains import (
+    cols_to_dm as _cols_to_dm,
+    column as _column,
+    inv as _inv,
+    jordan_chains as _jordan_chains,
+    normalise_chain as _normalise_chain,
+    nullspace_cols as _nullspace_cols,
+    rref as _rref,
+    scale_chain as _scale_chain,
+    scale_generic_chain as _scale_generic_chain,
+    scale_rational_chain as _scale_rational_chain,
+)
 from .eigenvalues import (
     decimal_text,
     determinant_shown,
@@ -162,211 +173,6 @@ def _to_matrix(M: DomainMatrix, fld: _Field, lam: sp.Symbol | None = None) -> sp
     return sp.ImmutableMatrix(rows, cols, [fld.to_expr(dense[i][j], lam) for i in range(rows) for j in range(cols)])
 
 
-def _column(vals, dom) -> DomainMatrix:
-    return DomainMatrix([[v] for v in vals], (len(vals), 1), dom)
-
-
-def _cols_to_dm(cols: Sequence[DomainMatrix], dom, n: int) -> DomainMatrix:
-    if not cols:
-        return DomainMatrix.zeros((n, 0), dom)
-    out = cols[0]
-    for c in cols[1:]:
-        out = out.hstack(c)
-    return out
-
-
-def _rref(M: DomainMatrix) -> tuple[DomainMatrix, tuple[int, ...]]:
-    """Gauss-Jordan over a field.  The fraction-free variants sympy picks by
-    default divide in the underlying polynomial ring, which is wrong for
-    K[theta]/(q); plain Gauss-Jordan only ever inverts field elements."""
-    R, pivots = M.to_dense().rref(method="GJ")
-    return R, tuple(pivots)
-
-
-def _rank(cols: Sequence[DomainMatrix], dom, n: int) -> int:
-    if not cols:
-        return 0
-    return len(_rref(_cols_to_dm(cols, dom, n))[1])
-
-
-def _nullspace_cols(M: DomainMatrix) -> list[DomainMatrix]:
-    R, pivots = _rref(M)
-    rows, n = M.shape
-    dense = R.rep.to_ddm()
-    dom = M.domain
-    out = []
-    for f in range(n):
-        if f in pivots:
-            continue
-        vals = [dom.zero] * n
-        vals[f] = dom.one
-        for i, p in enumerate(pivots):
-            vals[p] = -dense[i][f]
-        out.append(_column(vals, dom))
-    return out
-
-
-def _inv(M: DomainMatrix) -> DomainMatrix:
-    n = M.shape[0]
-    dom = M.domain
-    R, pivots = _rref(M.hstack(DomainMatrix.eye(n, dom).to_dense()))
-    if pivots[:n] != tuple(range(n)):
-        raise ZeroDivisionError("singular matrix")
-    dense = R.rep.to_ddm()
-    return DomainMatrix([row[n:] for row in dense], (n, n), dom)
-
-
-# ---------------------------------------------------------------------------
-# chains in one field
-
-
-def _jordan_chains(N: DomainMatrix, mult: int, n: int) -> tuple[list[list[DomainMatrix]], list[list[DomainMatrix]]]:
-    """Jordan chains of N = A - lam I for an eigenvalue of algebraic multiplicity ``mult``.
-
-    Top-down: with K_j = ker N^j, pick at each level vectors of K_j that are
-    independent of K_{j-1} and of the vectors longer chains already put on
-    that level; each such w starts the chain N^{j-1} w, ..., N w, w.
-    Returns (chains, kernel bases by level).
-    """
-    dom = N.domain
-    kernels: list[list[DomainMatrix]] = []
-    power = N
-    while True:
-        basis = _nullspace_cols(power)
-        kernels.append(basis)
-        if len(basis) >= mult or len(kernels) > mult:
-            break
-        power = power * N
-    s = len(kernels)
-    chains: list[list[DomainMatrix]] = []
-    for level in range(s, 0, -1):
-        below = kernels[level - 2] if level >= 2 else []
-        occupied = [ch[level - 1] for ch in chains if len(ch) >= level]
-        chosen: list[DomainMatrix] = []
-        current = _rank(below + occupied, dom, n)
-        for w in kernels[level - 1]:
-            r = _rank(below + occupied + chosen + [w], dom, n)
-            if r > current:
-                chosen.append(w)
-                current = r
-        for w in chosen:
-            chain = [w]
-            for _ in range(level - 1):
-                chain.insert(0, N * chain[0])
-            chains.append(chain)
-    chains.sort(key=lambda ch: -len(ch))
-    return chains, kernels
-
-
-def _normalise_chain(chain: list[DomainMatrix], fld: _Field) -> list[DomainMatrix]:
-    """Divide a chain by one of its v_1 entries (an element of F), choosing the
-    entry that gives the shortest expressions: for a companion-like matrix this
-    turns (3 lam^2 - lam - 9, 3 - lam^2, -1) into (1, lam, lam^2)."""
-    dom = fld.dom
-    first = chain[0].to_dense().rep.to_ddm()
-    best, best_size = chain, None
-    for row in first:
-        e = row[0]
-        if e == dom.zero:
-            continue
-        inv = dom.one / e
-        cand = [v * inv for v in chain]
-        size = sum(sp.count_ops(fld.to_expr(x[0])) for v in cand for x in v.to_dense().rep.to_ddm())
-        if best_size is None or size < best_size:
-            best, best_size = cand, size
-    return best
-
-
-def _scale_rational_chain(chain: list[DomainMatrix]) -> list[DomainMatrix]:
-    """``_scale_chain`` for vectors over QQ, in QQ: the smallest integer multiple,
-    first nonzero entry of v_1 positive."""
-    entries = [e for v in chain for row in v.to_dense().rep.to_ddm() for e in row if e]
-    if not entries:
-        return chain
-    L = math.lcm(*[int(e.denominator) for e in entries])
-    G = math.gcd(*[int(e.numerator) * (L // int(e.denominator)) for e in entries])
-    dom = chain[0].domain
-    factor = dom(L) / dom(G)
-    first = next((row[0] for row in chain[0].to_dense().rep.to_ddm() if row[0]), None)
-    if first is not None and first < 0:
-        factor = -factor
-    return [v * factor for v in chain]
-
-
-def _scale_generic_chain(chain: list[DomainMatrix]) -> list[DomainMatrix]:
-    """``_scale_chain`` for vectors over Q[theta]/(q), worked on the rational
-    coefficients of the entries (polynomials in theta) with the same result.
-
-    As there: the denominators cleared are those of the single-term entries
-    (a sum such as theta/6 + 4/3 counts as denominator 1), the gcd of all the
-    coefficients is taken in Q one after the other, stopping at 1, and the
-    leading coefficient of the first nonzero entry of v_1 is made positive.
-    """
-    dense = [v.to_dense().rep.to_ddm() for v in chain]
-    entries = [e for rows in dense for row in rows for e in row if e]
-    if not entries:
-        return chain
-    polys = [e.rep.to_list() for e in entries]  # coefficients, highest power first
-    dens = [int(next(c for c in cs if c).denominator) if sum(1 for c in cs if c) == 1 else 1 for cs in polys]
-    L = math.lcm(*dens) if len(dens) > 1 else dens[0]
-    coeffs = [c * L for cs in polys for c in cs if c]
-    G = coeffs[0]  # alone it keeps its sign, as in _scale_chain
-    for c in coeffs[1:]:
-        G = sp.QQ.gcd(G, c)
-        if G == 1:
-            break
-    factor = sp.QQ(L) / G
-    first = next((row[0] for row in dense[0] if row[0]), None)
-    if first is not None and first.rep.LC() * factor < 0:
-        factor = -factor
-    scale = chain[0].domain.convert(factor)
-    return [v * scale for v in chain]
-
-
-def _scale_chain(chain: list[sp.ImmutableMatrix], gen: sp.Symbol | None) -> list[sp.ImmutableMatrix]:
-    """Scale a whole chain by one factor so its entries are small and integral.
-
-    One factor for the chain keeps (A - lam I) v_{k+1} = v_k intact.
-    """
-    if all(e.is_Rational for v in chain for e in v):
-        # rational vectors: integer arithmetic, no expression round trip
-        nonzero = [e for v in chain for e in v if e != 0]
-        if not nonzero:
-            return chain
-        L = math.lcm(*[int(e.q) for e in nonzero])
-        G = math.gcd(*[int(e.p) * (L // int(e.q)) for e in nonzero])
-        factor = sp.Rational(L, G)
-        first = next(e for e in chain[0] if e != 0) if any(e != 0 for e in chain[0]) else None
-        if first is not None and first < 0:
-            factor = -factor
-        return [sp.ImmutableMatrix(v * factor) for v in chain]
-    entries = [sp.cancel(e) for v in chain for e in v if e != 0]
-    if not entries:
-        return chain
-    dens = [sp.fraction(e)[1] for e in entries]
-    L = sp.lcm_list(dens) if len(dens) > 1 else dens[0]
-    nums = [sp.expand(sp.cancel(e * L)) for e in entries]
-    coeffs: list[sp.Expr] = []
-    for num in nums:
-        if gen is not None and num.has(gen):
-            coeffs.extend(sp.Poly(num, gen).coeffs())
-        else:
-            coeffs.append(num)
-    G = sp.gcd_list(coeffs) if len(coeffs) > 1 else coeffs[0]
-    if G == 0:
-        G = sp.Integer(1)
-    factor = sp.cancel(L / G)
-    # sign: first nonzero entry of v_1 positive where that can be decided
-    first = next((e for e in chain[0] if e != 0), None)
-    if first is not None:
-        lead = sp.cancel(first * factor)
-        if gen is not None and lead.has(gen):
-            lead = sp.Poly(lead, gen).LC()
-        if lead.could_extract_minus_sign():
-            factor = -factor
-    return [sp.ImmutableMatrix(v.applyfunc(lambda e: sp.expand(sp.cancel(e * factor)))) for v in chain]
-
-
 def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None) -> sp.Expr:
     """A polynomial in the generic root, evaluated at one concrete root."""
     if gen is None:
@@ -462,6 +268,7 @@ def decompose(
     params = sorted(A.free_symbols, key=sp.default_sort_key)
     has_params = bool(params)
     aux: list[tuple[sp.Symbol, sp.Expr]] = []
+    root_conditions: list[Condition] = []
     expanded, factored, factors = factor_charpoly(A, K, lam)
     steps: list[Step] = [
         CharPolyStep(
@@ -478,13 +285,16 @@ def decompose(
     vector_steps: list[Step] = []
     chain_steps: list[Step] = []
     field_ok = True
+    generic_entries: list[DomainMatrix] = []  # V and W of each block, for the denominators
 
     all_linear = all(sp.degree(fexpr, lam) == 1 for fexpr, _ in factors)
     for fexpr, mult in factors:
         mult = int(mult)
         q_lam = sp.Poly(fexpr, lam, domain=K)
         q_monic = q_lam.monic()
-        roots, form, rule = roots_of(q_lam, lam, has_params, regimes, aux, ops_limit=settings.radical_ops_limit)
+        roots, form, rule = roots_of(
+            q_lam, lam, has_params, regimes, aux, ops_limit=settings.radical_ops_limit, conditions=root_conditions
+        )
         for w, w_value in aux:
             if w not in values and all(p in values for p in w_value.free_symbols):
                 values[w] = sp.N(w_value.xreplace(values), 30)
@@ -536,6 +346,7 @@ def decompose(
         left_cols = _nullspace_cols(Pw)
         L = _cols_to_dm(left_cols, Fdom, n).transpose()  # m x n
         W = _inv(L * V) * L
+        generic_entries += [V, W]
         # J for this eigenvalue, then the exact checks in F
         m = mult
         Jrows = [[Fdom.zero] * m for _ in range(m)]
@@ -704,7 +515,8 @@ def decompose(
     if strict and not sim_ok:
         raise VerificationError("the decomposition failed its own check P D P^-1 = A; no result is reported")
 
-    conditions = parameter_conditions(A, factors, P, P_inv, lam, K) if has_params else ()
+    generic = None if all_in_K else tuple(generic_entries)
+    conditions = (*root_conditions, *parameter_conditions(A, factors, P, P_inv, lam, K, generic=generic)) if has_params else ()
     return Decomposition(
         A=A,
         lam=lam,

@@ -9,12 +9,12 @@ eigenvector from P: the pattern in which the states move together.
 
 from __future__ import annotations
 
-import math
 from typing import Mapping
 
 import sympy as sp
 
 from ..model import Solution
+from ..verify.span import settling_span
 from .evaluation import approx, decided_sign
 from .records import Mode
 from .stability import jordan_blocks
@@ -157,16 +157,4 @@ def time_span(modes: tuple[Mode, ...], *, last_switch: float = 0.0, forcing_freq
     """
     if any(sp.sympify(m.eigenvalue).free_symbols for m in modes):
         return None
-    spans: list[float] = []
-    for m in modes:
-        sigma = approx(m.eigenvalue).real
-        omega = abs(approx(m.eigenvalue).imag)
-        if m.time_constant is not None and sigma < 0:
-            spans.append(5 * approx(m.time_constant).real)
-        elif sigma > 0:
-            spans.append(3 / sigma)
-        elif omega > 0:
-            spans.append(3 * 2 * math.pi / omega)
-    if forcing_frequency:
-        spans.append(3 * 2 * math.pi / forcing_frequency)
-    return last_switch + (max(spans) if spans else 10.0)
+    return last_switch + settling_span([approx(m.eigenvalue) for m in modes], forcing_frequency=forcing_frequency)

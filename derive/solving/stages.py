@@ -31,12 +31,14 @@ from ..relations import apply_relations, parse_relations, split_assumptions
 from ..relations import check_regimes
 from ..relations import regimes as regime_notes
 from ..settings import DEFAULT_SETTINGS, Settings
+from ..eigenvalues import COMPLEX_DATA_NOTICE
 from ..spectral import decompose
 from ..steps import EquationsStep, Step
 from ..substitution import regime_verdicts, substitute_values, with_values_step
 from .assembly import assemble
 from .methods import Problem, choose_method
 from .shift import shift_back, time_shift
+from .methods.base import is_real_data
 from .system import build_system
 
 __all__ = ["solve", "solve_case", "solve_system"]
@@ -70,6 +72,8 @@ def solve_system(
         # a regime that fixes no discriminant would be listed as solved here and then ignored
         check_regimes(dec.steps[0].factors, dec.lam, regimes)
     notices = list(notices)
+    if not is_real_data(system):
+        notices.append(COMPLEX_DATA_NOTICE)
     if not regimes:
         notices.extend(regime_notes(dec.steps[0].factors, dec.lam, values))
     problem = Problem.of(system, dec, settings=settings)

@@ -40,6 +40,7 @@ from sympy.core.function import AppliedUndef
 from ..model import NumericCheck, System
 from ..settings import DEFAULT_SETTINGS, Settings
 from .evaluate import numeric_function, root_value
+from .span import settling_span
 from .zero import Singular, drop_empty_integrals, mp_value
 
 __all__ = [
@@ -53,8 +54,14 @@ __all__ = [
     "stepped",
 ]
 
+#: e-foldings of the fastest growing mode a check may span (the old bound too)
+GROWTH_FOLDS = 30.0
+
 STEPPED = "scipy.linalg.expm (Pade, scaling and squaring), stepped"
 INTEGRATED = "scipy solve_ivp DOP853"
+STIFF = "scipy solve_ivp Radau (stiff over the span)"
+#: spans longer than this many time constants of the fastest mode go to the implicit integrator
+STIFF_RATIO = 500.0
 
 
 @dataclass(frozen=True)
@@ -82,44 +89,67 @@ def sample_constants(constants: Sequence[sp.Symbol]) -> dict[sp.Symbol, sp.Expr]
 
 
 def time_span(eigenvalues: Sequence[sp.Expr], subs: dict, decimals: Sequence[complex | None] = ()) -> float:
-    """A time span that shows the slowest decaying mode without overflow.
+    """The span of the check: the one rule of :mod:`derive.verify.span`, growth capped.
 
     ``decimals`` are the eigenvalues' values where the caller has them
-    (nested radicals are slow to evaluate again).
+    (nested radicals are slow to evaluate again).  A growing mode is followed
+    for at most ``GROWTH_FOLDS`` e-foldings: past that, double precision has
+    nothing left of a decaying part, and e^{sigma t} overflows soon after.
 
     >>> time_span([sp.Integer(-1), sp.Integer(-2)], {})
-    4.0
+    5.0
     """
-    rates = []
+    values: list[complex] = []
     known = list(decimals) + [None] * (len(eigenvalues) - len(decimals))
     for lam, z in zip(eigenvalues, known):
-        if z is not None:
-            if abs(z) > 1e-12:
-                rates.append(abs(z))
-            continue
-        if not isinstance(lam, sp.Basic):  # eigenvalues are sympy objects; anything else is skipped
-            continue
-        try:
-            z = complex(sp.N(lam.xreplace(subs), 15))
-        except (TypeError, ValueError):
-            continue
-        if abs(z) > 1e-12:
-            rates.append(abs(z))
-    if not rates:
-        return 5.0
-    slow, fast = min(rates), max(rates)
-    span = 4.0 / slow
-    # growing modes: keep e^{Re(lam) T} moderate
-    return float(min(max(span, 0.5), 20.0, 30.0 / max(fast, 1e-9) if fast > 1 else 20.0))
+        if z is None and isinstance(lam, sp.Basic):  # eigenvalues are sympy objects; anything else is skipped
+            try:
+                z = complex(sp.N(lam.xreplace(subs), 15))
+            except (TypeError, ValueError):
+                continue
+        if z is not None and math.isfinite(z.real) and math.isfinite(z.imag):
+            values.append(z)
+    span = settling_span(values)
+    growth = max([z.real for z in values if z.real > 1e-9 * abs(z)], default=0.0)
+    return float(min(span, GROWTH_FOLDS / growth) if growth > 0 else span)
 
 
-def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol):
-    """tt -> real values of X at t = tt; unevaluated integrals by adaptive quadrature."""
+def _exponentials_inside(e: sp.Expr) -> sp.Expr:
+    """e^{-a t} Int_0^t g(s) e^{a s} ds as Int_0^t g(s) e^{a (s - t)} ds, term by term.
+
+    Over a span of many time constants of a fast mode the two factors
+    overflow and underflow apart (inf times 0); joined in one exponent they
+    stay of the size of the answer.
+    """
+    terms = []
+    for term in sp.Add.make_args(e):
+        factors = sp.Mul.make_args(term)
+        ints = [f for f in factors if isinstance(f, sp.Integral)]
+        if len(ints) != 1 or len(ints[0].limits) != 1:
+            terms.append(term)
+            continue
+        I = ints[0]
+        s = I.limits[0][0]
+        outer = [f for f in factors if isinstance(f, sp.exp) and not f.has(s)]
+        if not outer:
+            terms.append(term)
+            continue
+        inner = sp.Mul.make_args(I.function)
+        rates = [f.args[0] for f in (*outer, *inner) if isinstance(f, sp.exp)]
+        body = sp.Mul(*[f for f in inner if not isinstance(f, sp.exp)], sp.exp(sp.expand(sp.Add(*rates))))
+        rest = [f for f in factors if f is not I and not any(f is o for o in outer)]
+        terms.append(sp.Mul(*rest, sp.Integral(body, I.limits[0])))
+    return sp.Add(*terms)
+
+
+def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol, *, complex_values: bool = False):
+    """tt -> values of X at t = tt (real parts unless ``complex_values``); integrals by adaptive quadrature."""
     from scipy.integrate import quad
 
-    ints = sorted({I for e in X for I in sp.sympify(e, strict=True).atoms(sp.Integral)}, key=sp.default_sort_key)
+    X = [_exponentials_inside(sp.sympify(e, strict=True)) for e in X]
+    ints = sorted({I for e in X for I in e.atoms(sp.Integral)}, key=sp.default_sort_key)
     dummies = [sp.Dummy(f"I{k}") for k in range(len(ints))]
-    Xd = [sp.sympify(e, strict=True).xreplace(dict(zip(ints, dummies))) for e in X]
+    Xd = [e.xreplace(dict(zip(ints, dummies))) for e in X]
     # mpmath evaluates special functions of closed-form integrals (erf, Ei, ...) at complex arguments too
     main = numeric_function([t, *dummies], Xd, ["mpmath"])
     parts = []
@@ -141,7 +171,8 @@ def numeric_solution(X: Sequence[sp.Expr], t: sp.Symbol):
                 re = quad(lambda u: complex(body(u, tt)).real, a, b, limit=200, epsabs=1e-14, epsrel=1e-12)[0]
                 im = quad(lambda u: complex(body(u, tt)).imag, a, b, limit=200, epsabs=1e-14, epsrel=1e-12)[0] if cplx else 0.0
                 vals.append(re + 1j * im)
-        return np.array([complex(v) for v in main(tt, *vals)], dtype=complex).reshape(-1).real
+        out = np.array([complex(v) for v in main(tt, *vals)], dtype=complex).reshape(-1)
+        return out if complex_values else out.real
 
     return value
 
@@ -207,7 +238,9 @@ def stepped(M: np.ndarray, X0: np.ndarray, t_eval: np.ndarray) -> np.ndarray:
     return X
 
 
-def _stepped_with_modes(md: _Modes, f_expr: sp.MatrixBase, t: sp.Symbol, A: np.ndarray, y0: np.ndarray, t_eval: np.ndarray) -> np.ndarray | None:
+def _stepped_with_modes(
+    md: _Modes, f_expr: sp.MatrixBase, t: sp.Symbol, A: np.ndarray, y0: np.ndarray, t_eval: np.ndarray, complex_values: bool = False
+) -> np.ndarray | None:
     """x(t) for x' = A x + f with f = C z, by one matrix exponential of the extended state.
 
     The forcing written as the output of its own linear system (common
@@ -231,7 +264,8 @@ def _stepped_with_modes(md: _Modes, f_expr: sp.MatrixBase, t: sp.Symbol, A: np.n
         scale = max(1.0, float(np.max(np.abs(f_grid))))
         if float(np.max(np.abs(M[:n, n:] @ z_grid - f_grid))) > 1e-9 * scale:
             return None
-    return stepped(M, np.concatenate([y0, z_grid[:, 0]]), t_eval)[:n].real
+    X = stepped(M, np.concatenate([y0, z_grid[:, 0]]), t_eval)[:n]
+    return X if complex_values else X.real
 
 
 # ---------------------------------------------------------------------------
@@ -248,16 +282,17 @@ class _Interval:
     ref: np.ndarray
 
 
-def _exact_function(x: Sequence[sp.Expr], t: sp.Symbol, sampled: dict):
-    """t-grid -> the exact x on it (real parts), vectorised where x has no integrals."""
+def _exact_function(x: Sequence[sp.Expr], t: sp.Symbol, sampled: dict, complex_values: bool = False):
+    """t-grid -> the exact x on it (real parts for real data), vectorised where x has no integrals."""
     if any(e.has(sp.Integral) for e in x):
-        point = numeric_solution([drop_empty_integrals(e.xreplace(sampled)) for e in x], t)
+        point = numeric_solution([drop_empty_integrals(e.xreplace(sampled)) for e in x], t, complex_values=complex_values)
         return lambda grid: np.array([point(tt) for tt in grid]).T
     fn = numeric_function(t, list(x), ["numpy"], values=sampled)
 
     def exact(grid: np.ndarray) -> np.ndarray:
         # one vectorised call; a constant component comes back as a scalar
-        return np.array([np.broadcast_to(np.asarray(v, dtype=complex), np.shape(grid)) for v in fn(grid)]).real
+        values = np.array([np.broadcast_to(np.asarray(v, dtype=complex), np.shape(grid)) for v in fn(grid)])
+        return values if complex_values else values.real
 
     return exact
 
@@ -306,7 +341,10 @@ def numeric_pieces(
             raise NumericSkipped("free symbols left in x(t): " + ", ".join(sorted(s.name for s in leftover)))
         xs_all.append(xs)
     A_num = system.A.xreplace(subs) if subs else system.A
-    A = np.array([[float(e) if e.is_Rational else float(e.evalf(20)) for e in row] for row in A_num.tolist()], dtype=float)
+    # complex data (i in A, f or x0): the check runs in complex arithmetic; else real parts
+    cplx = any(e.has(sp.I) for e in (*A_num, *(system.x0 if system.x0 is not None else ()), *(q for p in pieces for q in (*p.f, *p.jump))))
+    kind: Any = complex if cplx else float
+    A = np.array([[kind(e) if e.is_Rational else kind(e.evalf(20)) for e in row] for row in A_num.tolist()], dtype=kind)
     t0 = float(sp.N(system.t0.xreplace(subs)))
     switches = [float(sp.N(p.start.xreplace(subs))) for p in pieces[1:]]
     T = time_span(eigenvalues, subs, decimals)
@@ -325,7 +363,7 @@ def numeric_pieces(
         count = points if len(pieces) == 1 else max(4, int(points * (b - a) / max(t_end - t0, 1e-9)))
         grid = np.linspace(a, b, count)
         try:
-            ref = _exact_function(list(xs), t, sampled)(grid)  # grid[0] is the start: x(t0) starts the check
+            ref = _exact_function(list(xs), t, sampled, cplx)(grid)  # grid[0] is the start: x(t0) starts the check
         except bad as exc:
             raise NumericSkipped(
                 f"the exact solution cannot be evaluated at the given parameter values "
@@ -340,11 +378,11 @@ def numeric_pieces(
                 )
         else:
             assert state is not None
-            state = state + np.array([float(sp.N(v.xreplace(subs))) for v in p.jump])
+            state = state + np.array([kind(sp.N(v.xreplace(subs))) for v in p.jump])
         f_expr = p.f.xreplace(subs) if subs else p.f
         if any(e != 0 for e in f_expr):
             md = _read_modes(f_expr, t)
-            numeric = _stepped_with_modes(md, f_expr, t, A, state, grid) if md is not None else None
+            numeric = _stepped_with_modes(md, f_expr, t, A, state, grid, cplx) if md is not None else None
         else:
             md = _Modes((), tuple(() for _ in f_expr))
             numeric = stepped(A, state, grid)
@@ -353,26 +391,26 @@ def numeric_pieces(
             modes_used = max(modes_used, len(md.modes))  # type: ignore[union-attr]
         else:
             md = None
-            numeric = _integrated(A, f_expr, t, state, grid, settings)
-            methods.append(INTEGRATED)
+            numeric, route = _integrated(A, f_expr, t, state, grid, settings)
+            methods.append(route)
         intervals.append(_Interval(a, b, grid, p, md, ref))
         numeric_parts.append(numeric)
         state = numeric[:, -1]
     worst = max(float(np.max(np.abs(num - iv.ref))) for num, iv in zip(numeric_parts, intervals))
     scale = max([1.0] + [float(np.max(np.abs(iv.ref))) for iv in intervals])
     rel = worst / scale
-    integrated = INTEGRATED in methods
+    integrated = any(m != STEPPED for m in methods)
     limit = settings.numeric_gap_limit
     if integrated:
         # the integrator's error, amplified by the span; never so wide that a wrong answer passes
         limit = min(max(limit, 1e3 * settings.numeric_rtol * _growth(A, max(t_end - t0, 0.0))), 1e-3)
-    method = STEPPED if not integrated else (INTEGRATED if len(set(methods)) == 1 else f"{STEPPED} / {INTEGRATED}")
+    method = " / ".join(dict.fromkeys(methods))
     if len(intervals) > 1:
         method += ", restarted at each switch"
     ok = bool(math.isfinite(rel) and rel <= limit)
     if not ok and not integrated and not any(e.has(sp.Integral) for e in xs_all):
         # the double-precision comparison may be limited by round-off: repeat it at high precision
-        hp = _high_precision_gap(system, intervals, [xs_all[i] for i in range(len(intervals))], subs, sampled, settings)
+        hp = _high_precision_gap(system, intervals, [xs_all[i] for i in range(len(intervals))], subs, sampled, settings, cplx)
         if hp is not None:
             worst, rel = hp
             method += f"; repeated at {settings.numeric_hp_digits} digits (mpmath) as double precision was limited by round-off"
@@ -406,7 +444,7 @@ def _growth(A: np.ndarray, span: float) -> float:
     return worst
 
 
-def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarray, grid: np.ndarray, settings: Settings) -> np.ndarray:
+def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarray, grid: np.ndarray, settings: Settings) -> tuple[np.ndarray, str]:
     from scipy.integrate import solve_ivp
 
     bad = (KeyError, TypeError, ValueError, ZeroDivisionError, OverflowError)
@@ -415,9 +453,9 @@ def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarr
             f_fn = numeric_function(t, list(f_expr), "numpy")
 
             def rhs(tt: float, y: np.ndarray) -> np.ndarray:
-                return A @ y + np.array(f_fn(tt), dtype=float).reshape(-1)
+                return A @ y + np.array(f_fn(tt), dtype=y.dtype).reshape(-1)
         else:
-            f_const = np.array([float(e) for e in f_expr])
+            f_const = np.array([complex(e) if e.has(sp.I) else float(e) for e in f_expr])
 
             def rhs(tt: float, y: np.ndarray) -> np.ndarray:
                 return A @ y + f_const
@@ -425,12 +463,16 @@ def _integrated(A: np.ndarray, f_expr: sp.MatrixBase, t: sp.Symbol, y0: np.ndarr
         np.asarray(rhs(grid[0], y0))
     except bad as exc:
         raise NumericSkipped(f"the forcing cannot be evaluated at the given parameter values ({type(exc).__name__}: {exc})")
+    # an explicit integrator over many time constants of a fast mode crawls at its stability limit
+    fastest = float(np.max(np.abs(np.linalg.eigvals(A)))) if len(A) else 0.0
+    stiff = (grid[-1] - grid[0]) * fastest > STIFF_RATIO
     sol = solve_ivp(
-        rhs, (grid[0], grid[-1]), y0, method="DOP853", rtol=settings.numeric_rtol, atol=settings.numeric_atol, t_eval=grid
+        rhs, (grid[0], grid[-1]), y0, method="Radau" if stiff else "DOP853", rtol=settings.numeric_rtol,
+        atol=settings.numeric_atol, t_eval=grid, **({"jac": A} if stiff else {}),
     )
     if not sol.success:
         raise NumericSkipped(f"the integrator stopped: {sol.message}")
-    return sol.y
+    return sol.y, STIFF if stiff else INTEGRATED
 
 
 def _high_precision_gap(
@@ -440,8 +482,10 @@ def _high_precision_gap(
     subs: dict,
     sampled: dict,
     settings: Settings,
+    complex_values: bool = False,
 ) -> tuple[float, float] | None:
     """The stepped comparison again at high precision: (max abs gap, max rel gap), or None if it cannot run."""
+    part: Any = (lambda z: z) if complex_values else mpmath.re
     t = system.t
     A_exact = system.A.xreplace(subs) if subs else system.A
     try:
@@ -466,7 +510,7 @@ def _high_precision_gap(
 
                 def exact_at(tt: Any) -> list[Any]:
                     point[t] = tt
-                    return [mpmath.re(mp_value(e, point)[0]) for e in xs]
+                    return [part(mp_value(e, point)[0]) for e in xs]
 
                 if k == 0:
                     x_now = exact_at(a)
@@ -480,9 +524,9 @@ def _high_precision_gap(
                     tt = a + j * h
                     ref = exact_at(tt)
                     for i in range(n):
-                        worst = max(worst, abs(mpmath.re(X[i]) - ref[i]))
+                        worst = max(worst, abs(part(X[i]) - ref[i]))
                         scale = max(scale, abs(ref[i]))
-                state = [mpmath.re(X[i]) for i in range(n)]
+                state = [part(X[i]) for i in range(n)]
             return float(worst), float(worst / scale)
     except (Singular, ZeroDivisionError, ValueError, TypeError, OverflowError):
         return None
