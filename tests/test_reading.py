@@ -333,3 +333,15 @@ def test_complex_mode_shape_is_magnitudes_and_phases():
     assert mode.shape == (sp.Rational(1, 2), 1)
     assert abs(sp.N(mode.phase[0] + sp.arg(lam), 40)) < 1e-35 and mode.phase[1] == 0
     assert samples(derive.solve([[0, 1], [-4, -1]], t=t, x0=[1, 0]), ["x_2"], points=5).values.keys() == {"x_2"}
+
+
+def test_a_growing_mode_limits_the_figure_span_to_a_few_e_foldings():
+    # eigenvalues 2 and -1/10 under an input of period 24: five slow time constants (50) or three
+    # periods (72) would draw only e^{2t} near 1e60; three e-foldings of the growing mode, 1.5, show it
+    from derive.reading import plot_span
+
+    t = sp.Symbol("t")
+    sol = derive.solve([[2, 0], [1, sp.Rational(-1, 10)]], [0, sp.sin(sp.pi * t / 12)], t=t, x0=[1, 0])
+    assert plot_span(sol) == pytest.approx(1.5)
+    # the numeric check runs longer (up to 30 e-foldings, repeating at high precision where growth amplifies round-off)
+    assert sol.verification.numeric is not None and sol.verification.numeric.t_end == pytest.approx(15.0)

@@ -14,7 +14,7 @@ from typing import Mapping
 import sympy as sp
 
 from ..model import Solution
-from ..verify.span import settling_span
+from ..verify.span import PERIODS, settling_span
 from .evaluation import approx, decided_sign
 from .records import Mode
 from .stability import jordan_blocks
@@ -157,4 +157,11 @@ def time_span(modes: tuple[Mode, ...], *, last_switch: float = 0.0, forcing_freq
     """
     if any(sp.sympify(m.eigenvalue).free_symbols for m in modes):
         return None
-    return last_switch + settling_span([approx(m.eigenvalue) for m in modes], forcing_frequency=forcing_frequency)
+    values = [complex(approx(m.eigenvalue)) for m in modes]
+    span = settling_span(values, forcing_frequency=forcing_frequency)
+    # a growing mode hides everything else after a few e-foldings: a figure over a slow mode's
+    # settling or three input periods would show only e^{sigma t} at 1e60 (the check may run longer)
+    growth = max((z.real for z in values if z.real > 1e-9 * abs(z)), default=0.0)
+    if growth > 0:
+        span = min(span, PERIODS / growth)
+    return last_switch + span

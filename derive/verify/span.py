@@ -11,7 +11,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 
-__all__ = ["DECAYING_TIME_CONSTANTS", "settling_span"]
+__all__ = ["DECAYING_TIME_CONSTANTS", "PERIODS", "settling_span"]
 
 #: time constants of the slowest decaying mode that a span covers
 DECAYING_TIME_CONSTANTS = 5
