@@ -479,7 +479,7 @@ def _initial(
 
 def _second_order(
     ctx: _Ctx, system: Mapping[str, Any], symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
-) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix]:
+) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, Any]:
     """M q'' + C q' + K q = F from system.mass, damping, stiffness and force, in block first-order form."""
     from .second_order import block_form, second_order_states
 
@@ -508,7 +508,7 @@ def _second_order(
     except InputError as exc:
         raise ctx.error("system.mass", exc.message) from None
     notices.append(f"system.mass: M q'' + C q' + K q = F written in first-order form with the states {', '.join(names)}, then their derivatives")
-    return second_order_states(names), A, f
+    return second_order_states(names), A, f, tuple(sp.ImmutableMatrix(m) for m in (M, C, K, F))
 
 
 # ---------------------------------------------------------------------------
@@ -577,8 +577,9 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             )
 
     equations: tuple[str, ...] = ()
+    second = None
     if forms[0] == "mass":
-        states, A, f = _second_order(ctx, system, with_t, t, notices)
+        states, A, f, second = _second_order(ctx, system, with_t, t, notices)
         n = A.shape[0]
         shape = f"system.mass is {n // 2}x{n // 2}, so the system has {n} states (q, then q')"
     elif has_matrix:
@@ -675,7 +676,7 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         x0=x0,
         t0=t0,
         params=tuple(params),
-        equations=equations,
+        equations=equations, second_order=second,
     )
     return Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices))
 

@@ -65,6 +65,8 @@ class System:
     t0: sp.Expr = sp.Integer(0)
     params: tuple[Parameter, ...] = ()
     equations: tuple[str, ...] = ()
+    #: (M, C, K, F) when the system was given as M q'' + C q' + K q = F (derive.modal shows the modes)
+    second_order: tuple[sp.ImmutableMatrix, sp.ImmutableMatrix, sp.ImmutableMatrix, sp.ImmutableMatrix] | None = None
 
     @property
     def n(self) -> int:

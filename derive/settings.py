@@ -69,6 +69,8 @@ class Settings:
     batch_tex_seconds: float = 120.0
     #: numeric check: digits of the repeat at high precision when double precision is limited by round-off
     numeric_hp_digits: int = 30
+    #: seconds for the independent check through the Laplace transform (derive.laplace)
+    laplace_seconds: float = 5.0
 
 
 DEFAULT_SETTINGS = Settings()

@@ -21,6 +21,7 @@ import pytest
 import sympy as sp
 
 import derive
+from model_samples import MODEL_HEADINGS, model_step_samples
 
 from derive.errors import InputError, OutputError
 from derive.model import Case, NumericCheck, Parameter, SheetMeta, Solution, System, Verification, Condition
@@ -172,6 +173,7 @@ def sample_steps() -> dict[str, Step]:
             x_ss=M([1 + sp.cos(t) / 10 + 3 * sp.sin(t) / 10, 3 * sp.cos(t) / 10 - sp.sin(t) / 10]),
             transient=M([-sp.exp(-t), sp.exp(-t)]), since=None, residual_zero=True,
         ),
+        **model_step_samples(),
     }
 
 
@@ -195,6 +197,7 @@ HEADINGS = {
     "jump": "Impulse at",
     "convolution": "Convolution form for",
     "steady_state": "Steady state and transient",
+    **MODEL_HEADINGS,
 }
 
 

@@ -18,6 +18,7 @@ import sympy as sp
 from ..model import Solution
 from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
+from . import model_blocks
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
@@ -685,6 +686,9 @@ STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
     "jump": _jump,
     "convolution": _convolution,
     "steady_state": _steady_state,
+    "reduction": model_blocks.reduction_blocks,
+    "modal": model_blocks.modal_blocks,
+    "laplace_check": model_blocks.laplace_blocks,
 }
 
 

@@ -21,6 +21,7 @@ from typing import Any, Sequence
 
 import sympy as sp
 
+from ..modal import form_steps
 from ..model import Case, Condition, Solution, System
 from ..relations import apply_relations, parse_relations, split_assumptions
 from ..relations import check_regimes
@@ -55,6 +56,7 @@ def solve_system(
     steps: list[Step] = []
     if system.equations:
         steps.append(EquationsStep(equations=system.equations, states=system.states, t=system.t, A=system.A, f=system.f))
+    steps.extend(form_steps(system))
     values = system.parameter_values()
     # decompose (a failed check P J P^-1 = A is reported by the verification, with the result)
     dec = decompose(system.A, values=values, regimes=regimes, settings=settings, strict=False)
