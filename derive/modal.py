@@ -201,7 +201,17 @@ def _frequency_equation(M: sp.MatrixBase, K: sp.MatrixBase, omega: sp.Symbol) ->
     return sp.factor((K - omega**2 * M).det())
 
 
-def _modes_of(M: sp.ImmutableMatrix, K: sp.ImmutableMatrix, C: sp.ImmutableMatrix) -> Modes:
+#: the sheet writes out the modes when every factor of det(K - omega^2 M) has at most this degree in omega^2
+MAX_MODE_DEGREE = 2
+
+
+def _modes_of(M: sp.ImmutableMatrix, K: sp.ImmutableMatrix, C: sp.ImmutableMatrix) -> Modes | None:
+    """The modes for the sheet, or None when a factor of the frequency equation has degree 3 or more in
+    omega^2: the shapes of its roots in radicals are unreadable and slow to reach (minutes for a cubic)."""
+    mu = sp.Dummy("mu")
+    _, factors = sp.factor_list((K - mu * M).det(), mu)
+    if any(sp.degree(q, mu) > MAX_MODE_DEGREE for q, _ in factors):
+        return None
     return modes(M, K, C)
 
 

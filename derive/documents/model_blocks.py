@@ -93,6 +93,13 @@ def modal_blocks(s: Any, c: Any) -> list[Block]:
           ", so the undamped mode shapes decouple the equations. They solve the generalized eigenproblem ",
           N(r"K\,\varphi = \omega^{2} M\,\varphi", "K phi = omega^2 M phi"), ", whose frequency equation is"),
         Eq(((N(r"\det(K - \omega^{2} M)", "det(K - omega^2 M)"), s.frequency_equation),)),
+    ]
+    if md is None:
+        return out + [P("A factor of this equation has degree three or more in ", N(r"\omega^{2}", "omega^2"),
+                        "; its roots and mode shapes are not written out here. The solution below is found from the "
+                        "first-order form, whose eigenvalues are the values of ", N(r"\pm i\,\omega_r", "+-i omega_r"),
+                        " shifted by the damping.")]
+    out += [
         P("Its roots, the natural frequencies and the mass-normalised shapes ",
           N(r"\varphi_r^{T} M\,\varphi_r = 1", "phi_r^T M phi_r = 1"),
           (", with the damping ratios " if not undamped else ""),
