@@ -755,7 +755,8 @@ def _expand(loaded: tuple[Case, Mapping[str, Any]], ctx: _Ctx) -> tuple[Case, ..
         return (case,)
     from .sweep import expand_sweep
 
-    return expand_sweep(case, data["sweep"], file=ctx.file, limits=ctx.limits)
+    return expand_sweep(case, data["sweep"], file=ctx.file, limits=ctx.limits, inputs=data.get("inputs", {}),
+                        rebuild=lambda table: _build({**data, "inputs": table}, ctx=ctx, name=case.name, source=case.source, digest=case.source_hash))
 
 
 def loads_cases(
