@@ -197,8 +197,9 @@ def modal_coordinates(system: Any, n: int) -> tuple[sp.Symbol, ...]:
 
 
 def _frequency_equation(M: sp.MatrixBase, K: sp.MatrixBase, omega: sp.Symbol) -> sp.Expr:
-    """det(K - omega^2 M), factored (shown beside the eigenproblem)."""
-    return sp.factor((K - omega**2 * M).det())
+    """det(K - omega^2 M), factored as a polynomial in omega^2 (shown beside the eigenproblem)."""
+    mu = sp.Dummy("mu")
+    return sp.factor((K - mu * M).det()).xreplace({mu: omega**2})
 
 
 #: the sheet writes out the modes when every factor of det(K - omega^2 M) has at most this degree in omega^2

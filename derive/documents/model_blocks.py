@@ -134,8 +134,7 @@ def modal_blocks(s: Any, c: Any) -> list[Block]:
     ]
     osc = []
     for r, e in enumerate(s.eta):
-        terms = [(sp.Integer(1), sp.Symbol(e.name + "''")), (alpha + beta * md.omega_squared[r], sp.Symbol(e.name + "'")),
-                 (md.omega_squared[r], e)]
+        terms = [(sp.Integer(1), e, "''"), (alpha + beta * md.omega_squared[r], e, "'"), (md.omega_squared[r], e, "")]
         force = (md.shapes[:, r].T * s.F)[0]
         osc.append((_oscillator(terms, f), sp.factor(force) if force != 0 else force))
     out.append(Eq(tuple(osc)))
@@ -144,22 +143,24 @@ def modal_blocks(s: Any, c: Any) -> list[Block]:
     return out
 
 
-def _oscillator(terms: list[tuple[sp.Expr, sp.Symbol]], f: Any) -> Name:
+def _oscillator(terms: list[tuple[sp.Expr, sp.Symbol, str]], f: Any) -> Name:
     """eta'' + a eta' + b eta in this order (a sympy sum would sort the terms), zero terms left out."""
     tex: list[str] = []
     plain: list[str] = []
-    for coeff, sym in terms:
+    for coeff, sym, primes in terms:
         if coeff == 0:
             continue
         c = sp.factor(coeff)
         lead = " + " if tex else ""
+        name, name_plain = f.m(sym) + primes, f.plain(sym) + primes
         if c == 1:
-            tex.append(lead + f.m(sym)); plain.append(lead + f.plain(sym))
+            tex.append(lead + name)
+            plain.append(lead + name_plain)
         else:
             wrap = isinstance(c, sp.Add)
             ct, cp = f.m(c), f.plain(c)
-            tex.append(lead + (rf"\left({ct}\right)" if wrap else ct) + r"\," + f.m(sym))
-            plain.append(lead + (f"({cp})" if wrap else cp) + " " + f.plain(sym))
+            tex.append(lead + (rf"\left({ct}\right)" if wrap else ct) + r"\," + name)
+            plain.append(lead + (f"({cp})" if wrap else cp) + " " + name_plain)
     return Name("".join(tex), "".join(plain))
 
 
@@ -173,8 +174,8 @@ def laplace_blocks(s: Any, c: Any) -> list[Block]:
     if not s.inputs:
         out += [
             P("The system is unforced, so the transfer function from an input added to each state equation is the "
-              "resolvent,"),
-            _mat(rf"G({S}) = ({S} I - A)^{{-1}}", f"G({Sp}) = ({Sp} I - A)^-1", s.G),
+              "resolvent, ", N(rf"G({S}) = ({S} I - A)^{{-1}}", f"G({Sp}) = ({Sp} I - A)^-1"), ":"),
+            _mat(f"G({S})", f"G({Sp})", s.G),
         ]
     else:
         if len(s.inputs) == 1:
@@ -186,8 +187,9 @@ def laplace_blocks(s: Any, c: Any) -> list[Block]:
               u, " and"),
             _mat("B", "B", s.B),
             P("The transform of ", N(r"x' = A\,x + B\,u", "x' = A x + B u"),
-              " gives the transfer function from the inputs to the states,"),
-            _mat(rf"G({S}) = ({S} I - A)^{{-1}} B", f"G({Sp}) = ({Sp} I - A)^-1 B", s.G),
+              " gives the transfer function from the inputs to the states, ",
+              N(rf"G({S}) = ({S} I - A)^{{-1}} B", f"G({Sp}) = ({Sp} I - A)^-1 B"), ":"),
+            _mat(f"G({S})", f"G({Sp})", s.G),
         ]
     out.append(P("With the initial state and the transformed forcing, ",
                  N(rf"X({S}) = ({S} I - A)^{{-1}} \bigl(x({T}_0) + F({S})\bigr)",
