@@ -169,3 +169,23 @@ def test_a_cubic_frequency_equation_is_stated_without_its_modes() -> None:
     assert modal.modes is None
     omega = sp.Symbol("omega", positive=True)
     assert sp.degree(modal.frequency_equation, omega) == 6
+
+
+def test_the_sheet_says_what_the_steps_could_not_show() -> None:
+    """A modal step without modes and a Laplace step that disagrees or did not run, in plain text."""
+    from dataclasses import replace
+
+    from model_samples import model_step_samples
+    from test_render import make_solution
+
+    samples = model_step_samples()
+    steps = (
+        replace(samples["modal"], modes=None),
+        replace(samples["laplace_check"], agrees=False),
+        replace(samples["laplace_check"], ran=False, reason="it did not finish within 5 s"),
+    )
+    text = render(make_solution(steps), "text")
+    flat = " ".join(text.split())
+    assert "its roots and mode shapes are not written out here" in flat
+    assert "the two routes disagree" in flat
+    assert "This check was not run: it did not finish within 5 s." in flat

@@ -96,9 +96,8 @@ def modal_blocks(s: Any, c: Any) -> list[Block]:
     ]
     if md is None:
         return out + [P("A factor of this equation has degree three or more in ", N(r"\omega^{2}", "omega^2"),
-                        "; its roots and mode shapes are not written out here. The solution below is found from the "
-                        "first-order form, whose eigenvalues are the values of ", N(r"\pm i\,\omega_r", "+-i omega_r"),
-                        " shifted by the damping.")]
+                        "; its roots and mode shapes are not written out here (in radicals they would be "
+                        "unreadable). The solution below does not need them: it is found from the first-order form.")]
     out += [
         P("Its roots, the natural frequencies and the mass-normalised shapes ",
           N(r"\varphi_r^{T} M\,\varphi_r = 1", "phi_r^T M phi_r = 1"),
