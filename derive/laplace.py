@@ -203,16 +203,22 @@ def _coefficient_zero(c: sp.Expr, settings: Settings) -> Any:
 
 
 def laplace_check(
-    system: Any, x: sp.MatrixBase, eigenvalues: Sequence[sp.Expr], *, one_piece: bool = True,
+    system: Any, x: sp.MatrixBase, eigenvalues: Sequence[sp.Expr], *, closed_form: bool = True,
     settings: Settings = DEFAULT_SETTINGS,
 ) -> LaplaceCheckStep:
-    """The sheet's Laplace step: G(s), and x(t) found again and compared with ``x``; or why it was not run."""
+    """The sheet's Laplace step: G(s), and x(t) found again and compared with ``x``; or why it was not run.
+
+    ``closed_form`` is False when the solution came interval by interval or
+    through convolution integrals: the forcing then has no rational transform
+    here, and the check is not attempted (reading such a forcing can be slow).
+    """
     t = system.t
     s = _laplace_variable(system)
     if system.n > MAX_CHECK_STATES:
         return LaplaceCheckStep(t=t, s=s, ran=False, reason=f"it is made for systems of at most {MAX_CHECK_STATES} states")
-    if not one_piece:
-        return LaplaceCheckStep(t=t, s=s, ran=False, reason="the solution is found interval by interval; the input switches")
+    if not closed_form:
+        return LaplaceCheckStep(t=t, s=s, ran=False, reason="the input is not a sum of powers, exponentials and "
+                                "sinusoids (the solution is found interval by interval or by convolution)")
     if any(e.has(sp.CRootOf) for e in eigenvalues):
         return LaplaceCheckStep(t=t, s=s, ran=False, reason="the eigenvalues are indexed roots, whose residues are costly")
     B, u, how = input_matrix(system.f, t)

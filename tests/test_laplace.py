@@ -91,6 +91,9 @@ def test_not_run_reasons() -> None:
     switched = derive.solve([[-1]], ["step(t - 1)"], x0=[0])
     (step,) = [st for st in switched.steps if st.kind == "laplace_check"]
     assert not step.ran and "interval by interval" in step.reason
+    convolved = derive.solve([[-1]], ["1/(1 + t^2)"], x0=[0])
+    (step,) = [st for st in convolved.steps if st.kind == "laplace_check"]
+    assert not step.ran and "by convolution" in step.reason
     big = derive.solve(sp.diag(-1, -2, -3, -4, -5), x0=[1, 1, 1, 1, 1])
     (step,) = [st for st in big.steps if st.kind == "laplace_check"]
     assert not step.ran and "at most 4 states" in step.reason

@@ -173,7 +173,8 @@ def assemble(
     kept = tuple(c for c in own if not (c.relation == Relation.NONZERO and sp.expand(c.expr) in implied))
     eigenvalues = tuple(sp.sympify(e, strict=True).xreplace(aux) for e in dec.column_eigenvalues)
     ver = verification(problem, pieces, eigenvalues=eigenvalues)
-    all_steps += (laplace_check(system, pieces.x, eigenvalues, one_piece=not pieces.records, settings=problem.settings),)
+    closed = not pieces.records and not any(st.kind == "convolution" for st in pieces.steps)
+    all_steps += (laplace_check(system, pieces.x, eigenvalues, closed_form=closed, settings=problem.settings),)
     P, J, P_inv = (Matrix(m.xreplace(aux)) if aux else m for m in (dec.P, dec.J, dec.P_inv))
     sol = Solution(
         system=system,
