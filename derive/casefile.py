@@ -481,7 +481,7 @@ def _initial(
 
 def _second_order(
     ctx: _Ctx, system: Mapping[str, Any], symbols: Mapping[str, sp.Symbol], t: sp.Symbol, notices: list[str]
-) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix]:
+) -> tuple[tuple[sp.Symbol, ...], sp.ImmutableMatrix, sp.ImmutableMatrix, Any]:
     """M q'' + C q' + K q = F from system.mass, damping, stiffness and force, in block first-order form."""
     from .second_order import block_form, second_order_states
 
@@ -510,7 +510,7 @@ def _second_order(
     except InputError as exc:
         raise ctx.error("system.mass", exc.message) from None
     notices.append(f"system.mass: M q'' + C q' + K q = F written in first-order form with the states {', '.join(names)}, then their derivatives")
-    return second_order_states(names), A, f
+    return second_order_states(names), A, f, tuple(sp.ImmutableMatrix(m) for m in (M, C, K, F))
 
 
 # ---------------------------------------------------------------------------
@@ -579,8 +579,9 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
             )
 
     equations: tuple[str, ...] = ()
+    second = None
     if forms[0] == "mass":
-        states, A, f = _second_order(ctx, system, with_t, t, notices)
+        states, A, f, second = _second_order(ctx, system, with_t, t, notices)
         n = A.shape[0]
         shape = f"system.mass is {n // 2}x{n // 2}, so the system has {n} states (q, then q')"
     elif has_matrix:
@@ -677,7 +678,7 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         x0=x0,
         t0=t0,
         params=tuple(params),
-        equations=equations,
+        equations=equations, second_order=second,
     )
     case = Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices), plot_span=read_plot_span(data.get("plot"), file=ctx.file))
     return read_sections(case, data, inputs=inputs, file=ctx.file, limits=ctx.limits)
@@ -757,7 +758,8 @@ def _expand(loaded: tuple[Case, Mapping[str, Any]], ctx: _Ctx) -> tuple[Case, ..
         return (case,)
     from .sweep import expand_sweep
 
-    return expand_sweep(case, data["sweep"], file=ctx.file, limits=ctx.limits)
+    return expand_sweep(case, data["sweep"], file=ctx.file, limits=ctx.limits, inputs=data.get("inputs", {}),
+                        rebuild=lambda table: _build({**data, "inputs": table}, ctx=ctx, name=case.name, source=case.source, digest=case.source_hash))
 
 
 def loads_cases(

@@ -67,6 +67,8 @@ class System:
     params: tuple[Parameter, ...] = ()
     equations: tuple[str, ...] = ()
     substituted: bool = False  # the parameter values were put into A, f, x0 before the decomposition
+    #: (M, C, K, F) when the system was given as M q'' + C q' + K q = F (derive.modal shows the modes)
+    second_order: tuple[sp.ImmutableMatrix, sp.ImmutableMatrix, sp.ImmutableMatrix, sp.ImmutableMatrix] | None = None
 
     @property
     def n(self) -> int:

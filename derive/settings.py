@@ -73,6 +73,8 @@ class Settings:
     numeric_hp_digits: int = 30
     #: batches: seconds for the engineering reading of one case (stability, time constant, final values, peaks)
     batch_reading_seconds: float = 10.0
+    #: seconds for the independent check through the Laplace transform (derive.laplace)
+    laplace_seconds: float = 5.0
 
 
 DEFAULT_SETTINGS = Settings()

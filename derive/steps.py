@@ -550,3 +550,75 @@ class ShiftStep(Step):
 
 
 STEP_KINDS += (ShiftStep,)
+
+
+@dataclass(frozen=True)
+class ReductionStep(Step):
+    """Equations of higher order, or M q'' + C q' + K q = F, rewritten as a first-order system.
+
+    ``definitions`` gives each state as (state, variable, order): the state
+    ``y'`` stands for the first derivative of ``y``.  ``rows`` pairs each state
+    with the right side of its derivative, as the reduction wrote it (named
+    inputs still as symbols); ``A`` and ``f`` are the system solved.
+    ``second_order`` is (M, C, K, F) for the matrix form, else None.
+    """
+
+    kind: ClassVar[str] = "reduction"
+    t: sp.Symbol
+    equations: tuple[str, ...]
+    definitions: tuple[tuple[sp.Symbol, sp.Symbol, int], ...]
+    rows: tuple[tuple[sp.Symbol, sp.Expr], ...]
+    A: Matrix
+    f: Matrix
+    second_order: tuple[Matrix, Matrix, Matrix, Matrix] | None = None
+
+
+@dataclass(frozen=True)
+class ModalStep(Step):
+    """The modal route of M q'' + C q' + K q = F when C = 0 or C = alpha M + beta K.
+
+    ``modes`` is a ``derive.modal.Modes`` record (possibly deferred: the
+    generalized eigenproblem is solved only for the sheet); ``eta`` are the
+    modal coordinates, q = Phi eta, and ``rayleigh`` the (alpha, beta) of C.
+    """
+
+    kind: ClassVar[str] = "modal"
+    t: sp.Symbol
+    coordinates: tuple[sp.Symbol, ...]
+    eta: tuple[sp.Symbol, ...]
+    M: Matrix
+    C: Matrix
+    K: Matrix
+    F: Matrix
+    rayleigh: tuple[sp.Expr, sp.Expr]
+    modes: Lazy[Any]
+    #: det(K - omega^2 M), factored, in the symbol omega
+    frequency_equation: Lazy[sp.Expr]
+
+
+@dataclass(frozen=True)
+class LaplaceCheckStep(Step):
+    """The solution found again through the Laplace transform, as an independent check.
+
+    ``G`` is C (sI - A)^-1 B + D for the input matrix ``B`` (``inputs`` names
+    its columns); ``ran`` says whether the check was made (``reason`` says why
+    not, or, when it ran, how B was chosen); ``x`` is the response from
+    partial fractions of X(s) = (sI - A)^-1 (x(t0) + F(s)) and ``agrees`` the
+    exact comparison with the solution, decided by ``method``.
+    """
+
+    kind: ClassVar[str] = "laplace_check"
+    t: sp.Symbol
+    s: sp.Symbol
+    ran: bool
+    reason: str
+    B: Matrix | None = None
+    inputs: tuple[sp.Expr, ...] = ()
+    G: Matrix | None = None
+    x: Matrix | None = None
+    agrees: bool | None = None
+    method: str = ""
+
+
+STEP_KINDS += (ReductionStep, ModalStep, LaplaceCheckStep)
+__all__ += ["ReductionStep", "ModalStep", "LaplaceCheckStep"]

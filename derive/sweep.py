@@ -1,11 +1,12 @@
 """Parameter sweeps: one case file, one case per combination of values.
 
 A case file may carry a ``[sweep]`` table whose keys are declared parameters
-and whose values are non-empty lists::
+(or inputs of ``[inputs]``) and whose values are non-empty lists::
 
     [sweep]
     k = [1, 2, "5/2"]     # numbers: k is replaced by the exact number
     c = ["2*m", 0.5]      # an expression in other parameters: c is replaced by it
+    u = ["step(t)", "sin(2*t)"]   # an input: the case is read again with this formula for u
 
 Every combination (the product, in the order of the file) becomes its own
 :class:`~derive.model.Case`, solved exactly with the substituted value: a
@@ -23,7 +24,7 @@ import itertools
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
-from typing import Any, Sequence
+from typing import Any, Callable, Sequence
 
 import sympy as sp
 
@@ -52,6 +53,8 @@ class SweepValue:
     value: sp.Expr
     label: str
     key: str
+    #: the formula as written when the swept name is an input of ``[inputs]`` (None for a parameter)
+    input_text: str | None = None
 
 
 def _label(raw: object) -> str:
@@ -90,7 +93,7 @@ def sweep_name(base: str, values: tuple[SweepValue, ...]) -> str:
 
 
 def parse_sweep(
-    raw: object, base: Case, *, file: str | None = None, limits: Limits = DEFAULT_LIMITS
+    raw: object, base: Case, *, file: str | None = None, limits: Limits = DEFAULT_LIMITS, inputs: Mapping[str, Any] = {}
 ) -> tuple[tuple[SweepValue, ...], ...]:
     """Check a ``[sweep]`` table against the case's parameters; one tuple of values per parameter."""
     if not isinstance(raw, dict):
@@ -102,6 +105,9 @@ def parse_sweep(
     out: list[tuple[SweepValue, ...]] = []
     for name, values in raw.items():
         key = f"sweep.{name}"
+        if name in inputs:
+            out.append(_input_values(name, values, base, key=key, file=file, limits=limits))
+            continue
         if name not in params:
             guess = nearest(name, list(params))
             declared = ", ".join(params) or "none"
@@ -165,8 +171,31 @@ def parse_sweep(
     return tuple(out)
 
 
+def _input_values(
+    name: str, values: object, base: Case, *, key: str, file: str | None, limits: Limits
+) -> tuple[SweepValue, ...]:
+    """The formulas of a swept input, each checked as ``[inputs]`` reads it (parameters and t)."""
+    if not isinstance(values, list) or not values:
+        raise CaseFileError(f"{key} is not a non-empty list; expected formulas in {base.system.t}, "
+                            "e.g. [\"step(t)\", \"sin(2*t)\"]", file=file, key=key)
+    symbols = {p.name: p.symbol for p in base.system.params} | {base.system.t.name: base.system.t}
+    items: list[SweepValue] = []
+    for i, v in enumerate(values):
+        vkey = f"{key}[{i}]"
+        if isinstance(v, bool) or not isinstance(v, (int, float, str)):
+            raise CaseFileError(f"{vkey} is {type(v).__name__} ({v!r}); expected a formula in {base.system.t}",
+                                file=file, key=vkey)
+        expr, _ = parse_expression(v, symbols=symbols, key=vkey, file=file, limits=limits, t=base.system.t)
+        if any(expr == seen.value for seen in items):
+            raise CaseFileError(f"{vkey} = {v!r} repeats an earlier value of {key}", file=file, key=vkey)
+        items.append(SweepValue(parameter=name, value=expr, label=_label(v), key=vkey, input_text=str(v)))
+    return tuple(items)
+
+
 def _substitute(base: Case, combo: tuple[SweepValue, ...]) -> Case:
-    rep: Mapping[Any, sp.Expr] = {next(p.symbol for p in base.system.params if p.name == v.parameter): v.value for v in combo}
+    rep: Mapping[Any, sp.Expr] = {
+        next(p.symbol for p in base.system.params if p.name == v.parameter): v.value for v in combo if v.input_text is None
+    }
     s = base.system
     system = replace(
         s,
@@ -174,8 +203,11 @@ def _substitute(base: Case, combo: tuple[SweepValue, ...]) -> Case:
         f=sp.ImmutableMatrix(s.f.xreplace(rep)),
         x0=None if s.x0 is None else sp.ImmutableMatrix(s.x0.xreplace(rep)),
         params=tuple(p for p in s.params if p.symbol not in rep),
+        second_order=None if s.second_order is None else (
+            s.second_order[0].xreplace(rep), s.second_order[1].xreplace(rep), s.second_order[2].xreplace(rep),
+            s.second_order[3].xreplace(rep)),
     )
-    said = ", ".join(f"{v.parameter} = {sp.sstr(v.value)}" for v in combo)
+    said = ", ".join(f"{v.parameter} = {v.input_text if v.input_text is not None else sp.sstr(v.value)}" for v in combo)
     line = f"This case is one combination of a parameter sweep declared in the case file: {said}."
     meta = replace(base.meta, notes=f"{base.meta.notes}\n\n{line}" if base.meta.notes else line)
     options = None if base.options is None else base.options.xreplace(rep)
@@ -183,17 +215,26 @@ def _substitute(base: Case, combo: tuple[SweepValue, ...]) -> Case:
 
 
 def expand_sweep(
-    base: Case, raw: object, *, file: str | None = None, limits: Limits = DEFAULT_LIMITS
+    base: Case, raw: object, *, file: str | None = None, limits: Limits = DEFAULT_LIMITS,
+    inputs: Mapping[str, Any] = {}, rebuild: Callable[[dict[str, Any]], Case] | None = None,
 ) -> tuple[Case, ...]:
     """One Case per combination of the ``[sweep]`` values, named ``<base>-<param>_<value>...``.
+
+    ``inputs`` is the case file's ``[inputs]`` table and ``rebuild`` reads the
+    case again with another such table (``casefile`` passes both); without
+    them only parameters can be swept.
 
     >>> from derive.casefile import loads_case
     >>> base = loads_case('[system]\\nmatrix = [["-k"]]\\n[parameters.k]\\nassume = ["positive"]')
     >>> [c.name for c in expand_sweep(base, {"k": [1, 2]})]
     ['case-k_1', 'case-k_2']
     """
-    axes = parse_sweep(raw, base, file=file, limits=limits)
-    cases = [_substitute(base, combo) for combo in itertools.product(*axes)]
+    axes = parse_sweep(raw, base, file=file, limits=limits, inputs=inputs if rebuild is not None else {})
+    cases: list[Case] = []
+    for combo in itertools.product(*axes):
+        # a swept input: the case is read again with its formula, so it enters f exactly as [inputs] puts it
+        chosen = {v.parameter: v.input_text for v in combo if v.input_text is not None}
+        cases.append(_substitute(rebuild({**inputs, **chosen}) if chosen and rebuild else base, combo))
     seen: dict[str, int] = {}
     for i, c in enumerate(cases):
         if c.name in seen:

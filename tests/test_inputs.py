@@ -72,3 +72,44 @@ def test_undeclared_call_is_still_refused() -> None:
     with pytest.raises(ExpressionError) as err:
         loads_case('[parameters.u]\n[system]\nequations = ["x\' = -x + u(t)"]\n')
     assert "write u for a constant input" in (err.value.hint or "")
+
+
+SWEPT_INPUT = """
+[parameters.a]
+assume = ["positive"]
+[inputs]
+u = "step(t)"
+[system]
+equations = ["x' = -a*x + 2*u"]
+[initial]
+values = [0]
+[sweep]
+a = [1, 2]
+u = ["step(t)", "sin(2*t)"]
+"""
+
+
+def test_a_sweep_varies_an_input() -> None:
+    from derive.casefile import loads_cases
+
+    cases = loads_cases(SWEPT_INPUT, name="lag")
+    assert [c.name for c in cases] == ["lag-a_1-u_stept", "lag-a_1-u_sin2t", "lag-a_2-u_stept", "lag-a_2-u_sin2t"]
+    t = cases[0].system.t
+    assert [c.system.f[0] for c in cases] == [2 * sp.Heaviside(t), 2 * sp.sin(2 * t)] * 2
+    assert [c.system.A[0] for c in cases] == [-1, -1, -2, -2]
+    assert "u = sin(2*t)" in cases[1].meta.notes
+    sol = derive.solve_case(cases[3])
+    x = sol.x[0]
+    # by substitution: x' + 2 x = 2 sin(2t), x(0) = 0
+    assert sp.simplify(x.diff(t) + 2 * x - 2 * sp.sin(2 * t)) == 0 and x.subs(t, 0) == 0
+
+
+def test_a_swept_input_formula_is_checked_where_it_is_written() -> None:
+    from derive.casefile import loads_cases
+
+    with pytest.raises(ExpressionError) as err:
+        loads_cases(SWEPT_INPUT.replace('"sin(2*t)"', '"sin(2*t"'), name="lag")
+    assert err.value.key == "sweep.u[1]"
+    with pytest.raises(derive.CaseFileError) as err:
+        loads_cases(SWEPT_INPUT.replace('u = ["step(t)", "sin(2*t)"]', 'v = ["step(t)"]'), name="lag")
+    assert err.value.key == "sweep.v" and "not a declared parameter" in err.value.message

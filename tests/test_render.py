@@ -21,6 +21,7 @@ import pytest
 import sympy as sp
 
 import derive
+from model_samples import MODEL_HEADINGS, model_step_samples
 
 from derive.errors import InputError, OutputError
 from derive.model import Case, NumericCheck, Parameter, SheetMeta, Solution, System, Verification, Condition
@@ -179,6 +180,7 @@ def sample_steps() -> dict[str, Step]:
         "outputs": OutputStep(t=t, states=(x1, x2), names=(sp.Symbol("y_1"),), written=(x1 + x2,), C=M([[1, 1]]), D=M([[0, 0]]), inputs=(), u=F, y=M([X[0] + X[1]]), method="exact"),
         "shift": ShiftStep(t=t, tau=sp.Symbol("tau", real=True), t0=sp.Integer(1), x0=M([1, 0]), f=M([0, sp.sin(t)]),
                            f_shifted=M([0, sp.sin(1) * sp.cos(sp.Symbol("tau", real=True)) + sp.cos(1) * sp.sin(sp.Symbol("tau", real=True))])),
+        **model_step_samples(),
     }
 
 
@@ -205,6 +207,7 @@ HEADINGS = {
     "values": "Parameter values put into the algebra",
     "outputs": "Outputs",
     "shift": "Time measured from",
+    **MODEL_HEADINGS,
 }
 
 

@@ -20,6 +20,7 @@ from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
 from .output_blocks import output_blocks, values_blocks
 from .interval_blocks import shift_blocks, with_decimals
+from . import model_blocks
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
 
@@ -734,6 +735,9 @@ STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
     "convolution": _convolution,
     "steady_state": _steady_state,
     "values": values_blocks, "outputs": output_blocks,
+    "reduction": model_blocks.reduction_blocks,
+    "modal": model_blocks.modal_blocks,
+    "laplace_check": model_blocks.laplace_blocks,
 }
 STEP_BLOCKS["shift"] = shift_blocks  # noqa: E305 (time measured from t0; derive.documents.interval_blocks)
 STEP_BLOCKS["interval"], STEP_BLOCKS["jump"] = with_decimals(_interval), with_decimals(_jump)  # states handed over, in decimals

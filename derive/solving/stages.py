@@ -24,6 +24,7 @@ from typing import Any, Callable, Mapping, Sequence
 import sympy as sp
 
 from ..errors import CaseFileError, InputError, VerificationError
+from ..modal import form_steps
 from ..model import Case, Condition, Solution, System
 from ..options import OutputSpec, SolveOptions
 from ..outputs import attach_outputs, outputs_from_mapping
@@ -64,6 +65,7 @@ def solve_system(
     steps: list[Step] = []
     if system.equations:
         steps.append(EquationsStep(equations=system.equations, states=system.states, t=system.t, A=system.A, f=system.f))
+    steps.extend(form_steps(system))
     values = system.parameter_values()
     # decompose (a failed check P J P^-1 = A is reported by the verification, with the result)
     dec = decompose(system.A, values=values, regimes=regimes, settings=settings, strict=False)
