@@ -21,7 +21,7 @@ declared, C = I and D = 0, so G(s) maps the inputs to the states.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from typing import Any, Sequence
 
 import sympy as sp
@@ -29,7 +29,7 @@ import sympy as sp
 from .expoly import NotExpPoly, to_expoly
 from .limits import LimitExpired, inner_limit
 from .settings import DEFAULT_SETTINGS, Settings
-from .steps import LaplaceCheckStep
+from .steps import Deferred, LaplaceCheckStep
 from .verify.zero import decide
 
 __all__ = [
@@ -37,6 +37,7 @@ __all__ = [
     "frequency_response",
     "input_matrix",
     "laplace_check",
+    "deferred_laplace_check",
     "laplace_response",
     "transfer_function",
     "MAX_CHECK_STATES",
@@ -244,6 +245,38 @@ def laplace_check(
     agrees = all(v.zero for v in verdicts)
     method = "exact" if all(v.kind == "exact" for v in verdicts) else next(v.short for v in verdicts if v.kind != "exact")
     return LaplaceCheckStep(t=t, s=s, ran=True, reason=how, B=B, inputs=u, G=G, x=found, agrees=agrees, method=method)
+
+
+class _Once:
+    """One Laplace check, made on the first read of any of its step's fields and kept."""
+
+    def __init__(self, *args: Any, **kwargs: Any) -> None:
+        self.args, self.kwargs = args, kwargs
+        self.step: LaplaceCheckStep | None = None
+
+    def field(self, name: str) -> Any:
+        if self.step is None:
+            self.step = laplace_check(*self.args, **self.kwargs)
+        return getattr(self.step, name)
+
+
+def _field(once: _Once, name: str) -> Any:
+    return once.field(name)
+
+
+def deferred_laplace_check(
+    system: Any, x: sp.MatrixBase, eigenvalues: Sequence[sp.Expr], *, closed_form: bool = True,
+    settings: Settings = DEFAULT_SETTINGS,
+) -> LaplaceCheckStep:
+    """The step of :func:`laplace_check`, made when the step is first read (by a sheet, a test, pickling).
+
+    The check is a second opinion beside the verification, which decides
+    ``Solution.ok`` on its own; a solve that is never shown need not pay for
+    it (it cost about as much as the solve itself on small cases).
+    """
+    once = _Once(system, x, tuple(eigenvalues), closed_form=closed_form, settings=settings)
+    lazy = {f.name: Deferred(_field, once, f.name) for f in fields(LaplaceCheckStep) if f.name not in ("t", "s")}
+    return LaplaceCheckStep(t=system.t, s=_laplace_variable(system), **lazy)
 
 
 def _laplace_variable(system: Any) -> sp.Symbol:

@@ -19,7 +19,7 @@ import sympy as sp
 from ..relations import regime_sign
 from ..errors import VerificationError
 from ..exact import root_value
-from ..laplace import laplace_check
+from ..laplace import deferred_laplace_check
 from ..model import Case, Condition, Relation, Solution, Verification
 from ..recombine import restore_roots
 from ..steady import steady_state_steps
@@ -174,7 +174,7 @@ def assemble(
     eigenvalues = tuple(sp.sympify(e, strict=True).xreplace(aux) for e in dec.column_eigenvalues)
     ver = verification(problem, pieces, eigenvalues=eigenvalues)
     closed = not pieces.records and not any(st.kind == "convolution" for st in pieces.steps)
-    all_steps += (laplace_check(system, pieces.x, eigenvalues, closed_form=closed, settings=problem.settings),)
+    all_steps += (deferred_laplace_check(system, pieces.x, eigenvalues, closed_form=closed, settings=problem.settings),)
     P, J, P_inv = (Matrix(m.xreplace(aux)) if aux else m for m in (dec.P, dec.J, dec.P_inv))
     sol = Solution(
         system=system,
