@@ -18,6 +18,7 @@ import sympy as sp
 from ..model import Solution
 from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
+from ..render.root_parts import part_legend
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
@@ -113,6 +114,7 @@ class StepContext:
             for k, r in enumerate(group):
                 parts += [", " if k else "", N(rf"{f.m(r.root)} \approx {r.decimal}", f"{f.plain(r.root)} ~ {r.decimal}")]
             parts.append(".")
+        parts += [p if isinstance(p, str) else N(*p) for p in part_legend(wanted, f, lead=" " if parts else "")]
         # the LaTeX sheet keeps the line of an empty legend
         return [Para(tuple(p for p in parts if p != ""), runs_on=True)]
 
