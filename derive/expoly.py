@@ -266,8 +266,9 @@ def split_complex(z: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
     z = sp.expand(z)
     if z.has(sp.CRootOf):
         z = sp.expand(as_real_parts(z))
-        im = z.coeff(sp.I)
-        return sp.expand(z - sp.I * im), sp.expand(im)
+        if all(r.is_real for r in z.atoms(sp.CRootOf)):  # else sympy's re() and im() below
+            im = z.coeff(sp.I)
+            return sp.expand(z - sp.I * im), sp.expand(im)
     if z.is_real:
         return z, sp.Integer(0)
     re, im = z.as_real_imag()

@@ -325,10 +325,10 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
             coeff = sp.expand(sp.Add(*ts))
             if coeff == 0:
                 continue
-            if has_params:
-                coeff = _factor_by_trig(coeff)
-            elif coeff.has(sp.CRootOf):
+            if coeff.has(sp.CRootOf):  # factor would build and factor root polynomials again
                 coeff = _by_trig(coeff)
+            elif has_params:
+                coeff = _factor_by_trig(coeff)
             inner.append(coeff if rate == 0 else sp.exp(sp.factor_terms(rate * t)) * coeff)
         out.append(c * sp.Add(*inner))
     return sp.Add(*out)
@@ -364,10 +364,10 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
         inner = []
         for ex, rests in groups[cs].items():
             coeff = sp.Add(*rests)
-            if has_params:
-                coeff = _factor_by_trig(coeff)
-            elif coeff.has(sp.CRootOf):
+            if coeff.has(sp.CRootOf):  # factor would build and factor root polynomials again
                 coeff = _by_trig(coeff)
+            elif has_params:
+                coeff = _factor_by_trig(coeff)
             inner.append(ex.xreplace(back) * coeff)
         out.append(sp.Mul(*cs) * sp.Add(*inner))
     # a placeholder can also sit inside a coefficient (an exponential in a denominator)

@@ -19,6 +19,7 @@ from scipy.linalg import expm
 from bench.corpus import companion
 from reference import ivp_values
 from derive import render, solve
+from derive.expoly import split_complex
 from derive.realroots import as_pair_roots, as_real_parts, pair_parts, part_of
 from derive.ringcheck import residual_is_zero
 
@@ -188,6 +189,11 @@ def test_pair_parts_match_the_roots(poly: sp.Expr) -> None:
         assert part_of(sigma) == ("sigma", upper) and part_of(omega) == ("omega", upper)
         assert sp.expand(as_pair_roots(as_real_parts(r)) - r) == 0
         assert sp.expand(as_real_parts(r * sp.conjugate(r)) - (sigma**2 + omega**2)) == 0
+        sign = 1 if r == upper else -1
+        assert split_complex(3 * r**2 + sp.I * r) == (
+            sp.expand(3 * sigma**2 - 3 * omega**2 - sign * omega),
+            sp.expand(sign * 6 * sigma * omega + sigma),
+        )
 
 
 def test_sheet_lists_sigma_and_omega() -> None:
