@@ -28,6 +28,8 @@ import sympy as sp
 from sympy.polys.fields import sfield
 from sympy.polys.polyerrors import BasePolynomialError
 
+from .realroots import as_real_parts, conjugate_roots
+
 __all__ = [
     "ExpPoly",
     "to_expoly",
@@ -256,8 +258,17 @@ def reads_negative(b: sp.Expr) -> bool:
 
 
 def split_complex(z: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
-    """Exact real and imaginary parts of an exact number or real-parameter expression."""
+    """Exact real and imaginary parts of an exact number or real-parameter expression.
+
+    A complex indexed root is written sigma + i omega first (``realroots``), so
+    the parts are polynomials in named real algebraic numbers.
+    """
     z = sp.expand(z)
+    if z.has(sp.CRootOf):
+        z = sp.expand(as_real_parts(z))
+        if all(r.is_real for r in z.atoms(sp.CRootOf)):  # else sympy's re() and im() below
+            im = z.coeff(sp.I)
+            return sp.expand(z - sp.I * im), sp.expand(im)
     if z.is_real:
         return z, sp.Integer(0)
     re, im = z.as_real_imag()
@@ -399,6 +410,9 @@ def symmetric_reduce(e: sp.Expr) -> sp.Expr:
 def conjugate(p: ExpPoly) -> ExpPoly:
     """Complex conjugate, for a real variable t and real parameters."""
     out: dict = {}
+    if any(g.has(sp.CRootOf) or c.has(sp.CRootOf) for (_, g), c in p.terms):
+        # indexed roots stay as they are, each complex one taken to its partner
+        return ExpPoly.from_dict({(k, conjugate_roots(g)): conjugate_roots(c) for (k, g), c in p.terms})
     for (k, g), c in p.terms:
         gr, gi = split_complex(g)
         cr, ci = split_complex(c)

@@ -175,10 +175,9 @@ def recombine(
     # only a full pairing of the complex eigenvalues gives a real form
     n_complex = sum(1 for b in blocks if b.kind == "complex")
     n_unknown = sum(1 for b in blocks if b.kind == "unknown")
-    # indexed complex roots stay in exponential form: their real and imaginary
-    # parts have no closed form to write, and the value is real anyway
-    indexed = any(b.kind == "complex" and b.value.has(sp.CRootOf) for b in blocks)
-    do_real = real and n_unknown == 0 and 2 * len(pairs) == n_complex and not indexed
+    # an indexed complex root r is written sigma + i omega, both named real roots
+    # of rational polynomials (realroots), so the real form is taken for it too
+    do_real = real and n_unknown == 0 and 2 * len(pairs) == n_complex
 
     values: dict[sp.Symbol, sp.Expr] = {}
     if x0 is not None:
@@ -326,7 +325,9 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
             coeff = sp.expand(sp.Add(*ts))
             if coeff == 0:
                 continue
-            if has_params:
+            if coeff.has(sp.CRootOf):  # factor would build and factor root polynomials again
+                coeff = _by_trig(coeff)
+            elif has_params:
                 coeff = _factor_by_trig(coeff)
             inner.append(coeff if rate == 0 else sp.exp(sp.factor_terms(rate * t)) * coeff)
         out.append(c * sp.Add(*inner))
@@ -363,7 +364,9 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
         inner = []
         for ex, rests in groups[cs].items():
             coeff = sp.Add(*rests)
-            if has_params:
+            if coeff.has(sp.CRootOf):  # factor would build and factor root polynomials again
+                coeff = _by_trig(coeff)
+            elif has_params:
                 coeff = _factor_by_trig(coeff)
             inner.append(ex.xreplace(back) * coeff)
         out.append(sp.Mul(*cs) * sp.Add(*inner))
@@ -396,6 +399,19 @@ def _factor_by_trig(coeff: sp.Expr) -> sp.Expr:
         return sp.factor(coeff)
     parts = sp.collect(sp.expand(coeff), trig, evaluate=False)
     return sp.Add(*[sp.factor(cf) * tr for tr, cf in parts.items()])
+
+
+def _by_trig(coeff: sp.Expr) -> sp.Expr:
+    """a cos wt + b sin wt, each of a and b one expanded polynomial in the indexed roots.
+
+    Nothing is factored: a factor of a polynomial in sigma and omega is not
+    shorter, and the numbers are read term by term against the legend.
+    """
+    trig = sorted(coeff.atoms(sp.sin, sp.cos), key=sp.default_sort_key)
+    if not trig:
+        return coeff
+    parts = sp.collect(sp.expand(coeff), trig, evaluate=False)
+    return sp.Add(*[sp.expand(cf) * tr for tr, cf in parts.items()])
 
 
 def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:

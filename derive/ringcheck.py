@@ -32,6 +32,8 @@ from sympy.polys.polyerrors import PolynomialError
 from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyRing
 
+from .realroots import as_pair_roots
+
 __all__ = ["residual_is_zero", "residuals_are_zero", "initial_is_zero"]
 
 
@@ -69,8 +71,8 @@ class _Ring:
             du = _rate(u, t)
             if du.has(t):
                 raise _NotInRing("an argument not linear in t")
-            rates[g] = (type(a).__name__, du, u)
-        self._held = {e: e.xreplace(self.hold) for e in exprs}  # elements() reads the same expressions
+            rates[g] = (type(a).__name__, as_pair_roots(du), u)
+        self._held = {e: as_pair_roots(e.xreplace(self.hold)) for e in exprs}  # elements() reads the same expressions
         held = list(self._held.values()) + [du for _, du, _ in rates.values()]
         # algebraic numbers as generators, with their relations
         alg: dict[sp.Expr, sp.Dummy] = {}
@@ -124,7 +126,7 @@ class _Ring:
         held = []
         for e in exprs:
             got = self._held.get(e)
-            held.append(got if got is not None else sp.sympify(e, strict=True).xreplace(self.hold))
+            held.append(got if got is not None else as_pair_roots(sp.sympify(e, strict=True).xreplace(self.hold)))
         # g' = sign u' h (h = g for e^u, the partner sine or cosine otherwise): u' is read, the
         # product is taken in the ring (building u' g as an expression first costs more)
         rate_exprs = []

@@ -283,7 +283,7 @@ def solution_record(solution: Solution) -> dict[str, Any]:
         "eigenvalues": [str(e) for e in solution.eigenvalues],
         "eigenvalue_decimals": [format_decimal(e) for e in solution.eigenvalues],
         "indexed_roots": [
-            {"name": f"lambda_{r.number}", "root": str(r.root), "decimal": r.decimal} for r in roots
+            {"name": f"{r.letter}_{r.number}", "root": str(r.root), "decimal": r.decimal} for r in roots
         ],
         "is_diagonalizable": solution.is_diagonalizable,
         "P": to_json_value(solution.P),

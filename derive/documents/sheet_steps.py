@@ -21,6 +21,7 @@ from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visib
 from .output_blocks import output_blocks, values_blocks
 from .interval_blocks import shift_blocks, with_decimals
 from . import model_blocks
+from ..render.root_parts import part_legend
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
 
@@ -155,6 +156,7 @@ class StepContext:
             for k, r in enumerate(group):
                 parts += [", " if k else "", N(rf"{f.m(r.root)} \approx {r.decimal}", f"{f.plain(r.root)} ~ {r.decimal}")]
             parts.append(".")
+        parts += [p if isinstance(p, str) else N(*p) for p in part_legend(wanted, f, lead=" " if parts else "")]
         # the LaTeX sheet keeps the line of an empty legend
         return [Para(tuple(p for p in parts if p != ""), runs_on=True)]
 

@@ -29,6 +29,7 @@ from .escape import tex_escape
 from .latex_blocks import blocks_latex
 from .latex_reading import reading_latex
 from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows, visible_width
+from .root_parts import part_legend_latex
 from .templating import FRAGMENT_PACKAGES, get_template
 
 __all__ = ["sheet_context", "render_sheet"]
@@ -83,7 +84,7 @@ class _Context:
                 f"indexed roots (numbered in sympy's order: real roots ascending, then "
                 f"complex pairs), with {values}."
             )
-        return " ".join(parts)
+        return " ".join(parts + [part_legend_latex(wanted, self.fmt)]).strip()
 
 
 def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any]]:

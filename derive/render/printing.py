@@ -38,6 +38,7 @@ from sympy.printing.str import StrPrinter
 
 from .decimals import format_decimal
 from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
+from ..realroots import pair_numbering
 from .measure import visible_width
 from .terms import Terms, signed, terms_text
 
@@ -99,11 +100,19 @@ class MathStyle:
 
 @dataclass(frozen=True)
 class RootName:
-    """An indexed root: the ``CRootOf`` object, its number and its decimal."""
+    """An indexed root: the ``CRootOf`` object, its number and its decimal.
+
+    An eigenvalue is ``lambda_<number>``.  The real and imaginary parts of a
+    complex pair of indexed eigenvalues (``derive.realroots``) are
+    ``sigma_<number>`` and ``omega_<number>`` (``letter``), numbered by pair,
+    with ``of`` the eigenvalue sigma + i omega.
+    """
 
     root: sp.Expr
     number: int  # lambda_<number>
     decimal: str
+    letter: str = "lambda"
+    of: sp.Expr | None = None
 
     def polynomial(self, lam: sp.Symbol) -> sp.Expr:
         """The root's defining polynomial written in ``lam``."""
@@ -137,21 +146,26 @@ def collect_roots(
     for k, ev in enumerate(eigenvalues, start=1):
         if isinstance(ev, sp.CRootOf) and ev not in names:
             names[ev] = k
+    # sigma_k, omega_k of the k-th complex pair (derive.realroots), the others after the eigenvalues
+    seen = [r for obj in (eigenvalues, *others) for node in _walk(obj) for r in node.atoms(sp.CRootOf)]
+    parts = pair_numbering(names, seen)
     found: list[sp.Expr] = []
-    for obj in (eigenvalues, *others):
-        for node in _walk(obj):
-            for r in node.atoms(sp.CRootOf):
-                if r not in names and r not in found:
-                    found.append(r)
+    for r in seen:
+        if r not in parts and r not in names and r not in found:
+            found.append(r)
     # Roots that are not eigenvalues are numbered after them in a stable order.
     found.sort(key=lambda r: (sp.default_sort_key(r.poly.as_expr()), r.index))
     nxt = max([len(eigenvalues), *names.values()], default=0)
     for r in found:
         nxt += 1
         names[r] = nxt
-    return tuple(
+    named = tuple(
         RootName(root=r, number=k, decimal=format_decimal(r, digits=digits))
         for r, k in sorted(names.items(), key=lambda item: item[1])
+    )
+    return named + tuple(
+        RootName(root=r, number=k, decimal=format_decimal(r, digits=digits), letter=letter, of=upper)
+        for r, (k, letter, upper) in parts.items()
     )
 
 
@@ -252,6 +266,7 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
     _default_settings: dict[str, Any] = {
         **LatexPrinter._default_settings,
         "root_names": {},
+        "root_letters": {},
         "exp_threshold": 10,
     }
 
@@ -324,7 +339,7 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
         if number is not None:
-            return r"\lambda_{%d}" % number
+            return r"\%s_{%d}" % (self._settings["root_letters"].get(root, "lambda"), number)
         # Not named by the sheet (a caller printing on its own): say it in full.
         return r"\left[\text{root } %d \text{ of } %s = 0\right]" % (
             root.index,
@@ -343,6 +358,7 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     _default_settings: dict[str, Any] = {
         **StrPrinter._default_settings,
         "root_names": {},
+        "root_letters": {},
         "imaginary_unit": "i",
         # Greek names as letters (λ); the ASCII names where a caller's text is ASCII
         "greek_letters": True,
@@ -378,7 +394,8 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_ComplexRootOf(self, root: sp.Expr) -> str:
         number = self._settings["root_names"].get(root)
         if number is not None:
-            return ("λ_%d" if self._settings["greek_letters"] else "lambda_%d") % number
+            letter = self._settings["root_letters"].get(root, "lambda")
+            return "%s_%d" % (GREEK_LETTERS[letter] if self._settings["greek_letters"] else letter, number)
         return "[root %d of %s = 0]" % (root.index, self._print(root.expr))
 
     def _print_Exp1(self, expr: sp.Expr) -> str:
@@ -470,6 +487,7 @@ class MathFormatter:
         """A formatter that names ``roots``; ``style`` defaults to ``MathStyle()``."""
         style = style or MathStyle()
         names = {r.root: r.number for r in roots}
+        letters = {r.root: r.letter for r in roots if r.letter != "lambda"}
         symbol_names = dict(style.symbol_names)
         latex_printer = SheetLatexPrinter(
             {
@@ -477,11 +495,12 @@ class MathFormatter:
                 "mat_str": "bmatrix",
                 "mat_delim": "",
                 "root_names": names,
+                "root_letters": letters,
                 "exp_threshold": style.exp_threshold,
                 "symbol_names": symbol_names,
             }
         )
-        plain_printer = PlainPrinter({"root_names": names, "imaginary_unit": style.imaginary_unit})
+        plain_printer = PlainPrinter({"root_names": names, "root_letters": letters, "imaginary_unit": style.imaginary_unit})
         return cls(style=style, roots=tuple(roots), latex_printer=latex_printer, plain_printer=plain_printer)
 
     # -- single objects ---------------------------------------------------
@@ -802,11 +821,15 @@ def domain_tex(domain: str) -> str:
 
 
 def root_legend_rows(roots: Sequence[RootName]) -> list[tuple[sp.Expr, tuple[RootName, ...]]]:
-    """Indexed roots grouped by their polynomial, in order of first appearance."""
+    """Indexed eigenvalues grouped by their polynomial, in order of first appearance
+    (the parts sigma_k, omega_k have a legend of their own, ``part_legend``)."""
     groups: dict[Any, list[RootName]] = {}
     polys: dict[Any, sp.Expr] = {}
     for r in roots:
+        if r.letter != "lambda":
+            continue
         key = r.root.poly
         groups.setdefault(key, []).append(r)
         polys[key] = r.root
     return [(polys[k], tuple(v)) for k, v in groups.items()]
+

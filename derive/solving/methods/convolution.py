@@ -23,8 +23,9 @@ import sympy as sp
 from sympy.core.function import AppliedUndef
 
 from ...exact import decide_zero
-from ...expoly import reads_negative
+from ...expoly import reads_negative, split_complex
 from ...limits import LimitExpired, inner_limit
+from ...realroots import as_real_parts
 from ...steps import ConvolutionStep, DecoupleStep, RealFormStep, RecombineStep, Step
 from ...verify.pieces import PieceRecord
 from .base import Budget, ForcingMethod, Pieces, Problem
@@ -65,7 +66,7 @@ def _evaluate(integral: sp.Integral, t: sp.Symbol, budget: Budget) -> sp.Expr:
 def _real_part(e: sp.Expr, t: sp.Symbol, held: Sequence[sp.Symbol]) -> sp.Expr:
     """Re(e) for real t, real parameters and real placeholders ``held``."""
     tr = sp.Dummy("t", real=True)
-    z = sp.expand(e.xreplace({t: tr}))
+    z = sp.expand(as_real_parts(e).xreplace({t: tr}))
     # one exponential per term first: as_real_imag leaves re(e^{-2 i} e^{2 i t}) unsplit
     re = sp.Add(*[sp.powsimp(term, combine="exp").as_real_imag()[0] for term in sp.Add.make_args(z)])
     return re.xreplace({tr: t})
@@ -93,7 +94,7 @@ def convolution_piece(
     sigma = s - start
     # indexed complex roots have no closed real and imaginary parts to write (as in
     # recombine): their integrals stay in exponential form, and so does x
-    real = problem.real and not any(b.kind == "complex" and b.value.has(sp.CRootOf) for b in dec.blocks)
+    real = problem.real
     # Base integrals: integrand (-sigma)^k e^{-lam sigma} times one forcing entry,
     # in real form (cos and sin of the imaginary part) when the data are real.
     base: dict[tuple, tuple[sp.Symbol, sp.Integral]] = {}
@@ -103,7 +104,7 @@ def convolution_piece(
         fl = sp.sympify(f[l], strict=True).subs(t, s)
         poly = (-sigma) ** k
         if real:
-            a, b = (sp.expand(v) for v in sp.expand(lam).as_real_imag())
+            a, b = split_complex(lam)
             # a conjugate pair shares its integrals: sin(-b sigma) = -sin(b sigma)
             flip = -1 if (b != 0 and reads_negative(b)) else 1
             b = flip * b
