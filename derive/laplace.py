@@ -275,7 +275,7 @@ def deferred_laplace_check(
     it (it cost about as much as the solve itself on small cases).
     """
     once = _Once(system, x, tuple(eigenvalues), closed_form=closed_form, settings=settings)
-    lazy = {f.name: Deferred(_field, once, f.name) for f in fields(LaplaceCheckStep) if f.name not in ("t", "s")}
+    lazy: dict[str, Any] = {f.name: Deferred(_field, once, f.name) for f in fields(LaplaceCheckStep) if f.name not in ("t", "s")}
     return LaplaceCheckStep(t=system.t, s=_laplace_variable(system), **lazy)
 
 
