@@ -466,6 +466,13 @@ class _Walker:
             hint = f"{ident} is read as one name: write {'*'.join(parts)} for a product" + (
                 f", or did you mean {guess!r}?" if guess else ""
             )
+        if ident in ("I", "i", "j", "J") and not guess:
+            # a case file has no imaginary unit (I is a current more often than not)
+            hint = (
+                f"if {ident} is a quantity of your model, declare it as a parameter; a case file describes a "
+                "real system and has no imaginary unit: complex-valued entries are accepted through the "
+                "Python interface (derive.solve with sympy's I)"
+            )
         raise self.fail(
             node,
             f"unknown name {ident!r}; the declared names are: {listing} (and the constants pi, e)",

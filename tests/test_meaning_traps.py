@@ -59,6 +59,9 @@ TRAPS: tuple[Trap, ...] = (
     Trap("forcing-call", forced("F0(t)", params=param("F0")), F0, "F0 is a parameter", "write F0 for a constant input"),
     Trap("constant-e-call", forced("e(t)"), F0, "the constant e", "exp(t) for the exponential"),
     # -- switching helpers with arguments that mean nothing or something else
+    # -- an imaginary unit in a case file: refused with where complex data are accepted
+    Trap("imaginary-unit", forced("0", matrix='[["I", 1], [0, -1]]').replace('forcing = ["0"]\n', ""), "system.matrix[0][0]",
+         "unknown name 'I'", "accepted through the Python interface"),
     Trap("reversed-pulse", forced("pulse(t, 3, 1)"), F0, "comes before its start", "pulse(t, 1, 3)"),
     Trap("empty-pulse", forced("pulse(t, 2, 2)"), F0, "ends where it starts", "start a before the end b"),
     Trap("unordered-pulse", forced("pulse(t, a, b)", params=param("a", "b")), F0, "cannot be decided", "positive"),
