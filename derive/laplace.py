@@ -26,6 +26,7 @@ from typing import Any, Sequence
 
 import sympy as sp
 
+from .errors import InputError
 from .expoly import NotExpPoly, to_expoly
 from .limits import LimitExpired, inner_limit
 from .settings import DEFAULT_SETTINGS, Settings
@@ -307,11 +308,11 @@ def frequency_response(
     """
     import numpy as np
 
-    expr = sp.sympify(G).xreplace(dict(values or {}))
+    expr = sp.sympify(G, strict=True).xreplace(dict(values or {}))  # sympy objects only, never text
     free = expr.free_symbols - {s}
     if free:
         names = ", ".join(sorted(x.name for x in free))
-        raise ValueError(f"G(s) holds {names} without values; give them in values=")
+        raise InputError(f"G(s) holds {names} without values; give them in values=", key="values")
     fn = sp.lambdify(s, expr, "numpy")
     w = np.logspace(np.log10(omega_min), np.log10(omega_max), points)
     g = np.asarray(fn(1j * w), dtype=complex) * np.ones_like(w)

@@ -6,6 +6,7 @@ import pytest
 import sympy as sp
 
 import derive
+from derive.errors import InputError
 from derive.casefile import loads_case
 from derive.laplace import frequency_response, input_matrix, laplace_response, transfer_function
 
@@ -109,5 +110,7 @@ def test_frequency_response_of_a_first_order_lag() -> None:
     for w, mag, ph in zip(r.omega, r.magnitude, r.phase_degrees):
         assert mag == pytest.approx(1 / math.sqrt(1 + (2 * w) ** 2), rel=1e-12)
         assert ph == pytest.approx(-math.degrees(math.atan(2 * w)), abs=1e-9)
-    with pytest.raises(ValueError):
+    with pytest.raises(InputError, match="T without values"):
         frequency_response(1 / (T * s + 1), s)
+    with pytest.raises(sp.SympifyError):  # text is never read as an expression here
+        frequency_response("1/(s + 1)", s)  # type: ignore[arg-type]
