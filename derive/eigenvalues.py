@@ -154,16 +154,22 @@ def roots_of(
             return roots, "indexed root", (
                 "three real roots (casus irreducibilis): radicals would need complex cube roots"
             )
-    rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
-    if len(rad) == d:
-        ops = max(sp.count_ops(r) for r in rad)
-        if ops <= ops_limit:
-            return [sp.expand(r) for r in rad], "radical", f"radical form within the size limit ({ops} <= {ops_limit} operations)"
-        rule = f"radical form needs {ops} operations, above the limit of {ops_limit}"
-    else:
-        rule = "no radical form found"
+    rad, rule = _radical_roots(q, ops_limit)
+    if rad is not None:
+        return rad, "radical", rule
     roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
     return roots, "indexed root", rule
+
+
+def _radical_roots(q: sp.Poly, ops_limit: int) -> tuple[list[sp.Expr] | None, str]:
+    """The roots of a cubic or quartic in radicals when they are within the size limit, else None; the rule applied."""
+    rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
+    if len(rad) != q.degree():
+        return None, "no radical form found"
+    ops = max(sp.count_ops(r) for r in rad)
+    if ops <= ops_limit:
+        return [sp.expand(r) for r in rad], f"radical form within the size limit ({ops} <= {ops_limit} operations)"
+    return None, f"radical form needs {ops} operations, above the limit of {ops_limit}"
 
 
 def _biquadratic_roots(
@@ -211,14 +217,9 @@ def _gaussian_roots(q: sp.Poly, lam: sp.Symbol, ops_limit: int) -> tuple[list[sp
     d = q.degree()
     rule = f"irreducible factor of degree {d} over Q(i): no general radical form" if d >= 5 else ""
     if d <= 4:
-        rad = sp.roots(q, cubics=True, quartics=True, multiple=True)
-        if len(rad) == d:
-            ops = max(sp.count_ops(r) for r in rad)
-            if ops <= ops_limit:
-                return [sp.expand(r) for r in rad], "radical", f"radical form within the size limit ({ops} <= {ops_limit} operations)"
-            rule = f"radical form needs {ops} operations, above the limit of {ops_limit}"
-        else:
-            rule = "no radical form found"
+        rad, rule = _radical_roots(q, ops_limit)
+        if rad is not None:
+            return rad, "radical", rule
     expr = q.as_expr()
     norm = sp.Poly(sp.expand(expr * expr.xreplace({sp.I: -sp.I})), lam)
     if any(cf.has(sp.I) for cf in norm.all_coeffs()) or not norm.is_irreducible:  # pragma: no cover - theory says no
