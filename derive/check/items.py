@@ -65,6 +65,17 @@ class CheckItem:
     claimed: Any = None
     expected: Any = None
 
+    @classmethod
+    def vanished(cls, name: str, step: str, detail: str, *, verdict: Any, shape: tuple[int, int], claimed: Any) -> CheckItem:
+        """A passed item whose residual (a ``shape`` matrix) the zero engine's ``verdict`` decided to be zero.
+
+        ``detail`` is completed with how it was decided.
+        """
+        return cls(
+            name=name, step=step, ok=True, detail=f"{detail} ({verdict.describe()})",
+            residual=sp.ImmutableMatrix(sp.zeros(*shape)), method=verdict.method, claimed=claimed,
+        )
+
 
 @dataclass(frozen=True)
 class CheckReport:

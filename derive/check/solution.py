@@ -78,15 +78,7 @@ def ode_item(
     verdict = decide_matrix(list(r), prob.t)
     if verdict.zero:
         tail = " for all values of the constants" if constants else ""
-        return CheckItem(
-            name=name,
-            step=step,
-            ok=True,
-            detail=f"x' - A x - f = 0{tail} ({verdict.describe()})",
-            residual=sp.ImmutableMatrix(sp.zeros(n, 1)),
-            method=verdict.method,
-            claimed=x,
-        )
+        return CheckItem.vanished(name, step, f"x' - A x - f = 0{tail}", verdict=verdict, shape=(n, 1), claimed=x)
     shown = clean_matrix(r)
     hom = sp.ImmutableMatrix([sp.expand(sp.diff(x[i], prob.t) - (prob.A * x)[i]) for i in range(n)])
     zero_c = {c: 0 for c in constants}
@@ -170,14 +162,8 @@ def initial_item(prob: Problem, x: sp.ImmutableMatrix, right: RightSolution) -> 
     verdict = decide_matrix(list(r))
     name = "IVP solution: x(t0) = x0"
     if verdict.zero:
-        return CheckItem(
-            name=name,
-            step="IVP solution",
-            ok=True,
-            detail=f"x({plain(prob.t0)}) = {short(prob.x0)} = x0 ({verdict.describe()})",
-            residual=sp.ImmutableMatrix(sp.zeros(n, 1)),
-            method=verdict.method,
-            claimed=x,
+        return CheckItem.vanished(
+            name, "IVP solution", f"x({plain(prob.t0)}) = {short(prob.x0)} = x0", verdict=verdict, shape=(n, 1), claimed=x
         )
     shown = clean_matrix(r)
     detail = (

@@ -146,14 +146,8 @@ def check_eigenvector(A: sp.ImmutableMatrix, mu: sp.Expr, v: sp.ImmutableMatrix,
     mu_text = factor_text(mu)
     verdict = decide_matrix(list(r))
     if verdict.zero:
-        return CheckItem(
-            name=name,
-            step="eigenvectors",
-            ok=True,
-            detail=f"A v - {mu_text} v = 0 for v = {short(v)} ({verdict.describe()})",
-            residual=sp.ImmutableMatrix(sp.zeros(n, 1)),
-            method=verdict.method,
-            claimed=v,
+        return CheckItem.vanished(
+            name, "eigenvectors", f"A v - {mu_text} v = 0 for v = {short(v)}", verdict=verdict, shape=(n, 1), claimed=v
         )
     shown = clean_matrix(r)
     detail = f"A v - {mu_text} v = {short(shown)} for the claimed eigenvector {short(v)} of {plain(mu)} ({verdict.describe()})"
@@ -311,14 +305,8 @@ def check_P(
         R = (A * P - P * D).applyfunc(sp.expand)
         verdict = decide_matrix(list(R))
         if verdict.zero:
-            return CheckItem(
-                name="P",
-                step="P",
-                ok=True,
-                detail=f"A P = P D and {det_text} != 0, so P D P^-1 = A ({verdict.describe()})",
-                residual=sp.ImmutableMatrix(sp.zeros(n, n)),
-                method=verdict.method,
-                claimed=P,
+            return CheckItem.vanished(
+                "P", "P", f"A P = P D and {det_text} != 0, so P D P^-1 = A", verdict=verdict, shape=(n, n), claimed=P
             )
         shown = clean_matrix(R)
         detail = f"A P - P D = {short(shown)} (should be the zero matrix), so P D P^-1 != A"
@@ -408,14 +396,8 @@ def check_P_inv(P: sp.ImmutableMatrix, P_inv: sp.ImmutableMatrix) -> CheckItem:
     L = (P_inv * P - sp.eye(n)).applyfunc(sp.expand)
     verdict = decide_matrix(list(R) + list(L))
     if verdict.zero:
-        return CheckItem(
-            name="P_inv",
-            step="P_inv",
-            ok=True,
-            detail=f"P P_inv = I and P_inv P = I ({verdict.describe()})",
-            residual=sp.ImmutableMatrix(sp.zeros(n, n)),
-            method=verdict.method,
-            claimed=P_inv,
+        return CheckItem.vanished(
+            "P_inv", "P_inv", "P P_inv = I and P_inv P = I", verdict=verdict, shape=(n, n), claimed=P_inv
         )
     shown = clean_matrix(R)
     detail = f"P P_inv - I = {short(shown)} (should be the zero matrix)"
