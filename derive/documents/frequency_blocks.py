@@ -42,7 +42,7 @@ def frequency_range(eigenvalues: Sequence[complex]) -> tuple[float, float]:
     """From a decade below the slowest mode's |lambda| to a decade above the fastest (0.01 to 100 without one).
 
     >>> frequency_range([-2, -0.5 + 3j])
-    (0.01, 100.0)
+    (0.1, 100.0)
     >>> frequency_range([0j])
     (0.01, 100.0)
     """
