@@ -155,6 +155,7 @@ def test_markdown_writes_both_figures_as_svg_and_text_names_them(tmp_path: Path)
     md = (tmp_path / "lag.md").read_text()
     for name in ("lag-frequency-magnitude.svg", "lag-frequency-phase.svg"):
         assert f"({name})" in md and (tmp_path / name).read_bytes().startswith(b"<?xml")
+        assert b"10^{-1}" in (tmp_path / name).read_bytes()  # matplotlib's tick label of a logarithmic axis
     assert "[Figure: frequency-phase, drawn in the PDF and Markdown outputs]" in render(sol, "text")
 
 
@@ -167,3 +168,16 @@ def test_the_sheet_with_the_figure_compiles_and_fits(tmp_path: Path) -> None:
     code, log = compile_tex(tmp_path, "lag.tex")
     assert code == 0, [line for line in log.splitlines() if line.startswith("!")][:5]
     assert not re.findall(r"Overfull \\hbox", log)
+
+
+def test_declared_outputs_are_drawn_instead_of_the_states() -> None:
+    """A spring force k x1 of x'' + x' + k x = 1: G_y = k/(s^2 + s + k), static gain 1 (0 dB) (common practice)."""
+    sol = solve_case(loads_case(
+        '[parameters.k]\nvalue = 4\n[system]\nequations = ["x1\' = x2", "x2\' = -k*x1 - x2 + 1"]\n'
+        '[initial]\nvalues = [0, 0]\n[outputs]\nspring = "k*x1"\n[plot]\nfrequency_response = true'
+    ))
+    mag = figures(sol)["frequency-magnitude"]
+    assert [s.label for s in mag.series] == ["spring"]
+    for w, db in mag.series[0].points[::20]:
+        assert db == pytest.approx(20 * math.log10(4 / abs(complex(4 - w * w, w))), abs=1e-9)
+    assert "for each output and input" in words(sol)

@@ -19,6 +19,7 @@ from derive.casefile import loads_case
 from derive.output import write_outputs
 from derive.pipeline import solve_case
 from derive.render import render
+from derive.units import UnitError
 from derive.render.siunits import SI_PREFIXES, SI_UNITS, UNIT_MACRO, axis_label, siunitx_unit, unit_latex
 
 needs_tex = pytest.mark.skipif(shutil.which("latexmk") is None, reason="latexmk is not on the PATH")
@@ -35,6 +36,7 @@ def compile_tex(folder: Path, name: str) -> tuple[int, str]:
     ("kW", r"\kilo\watt"),
     ("m/s^2", r"\metre\per\second\squared"),
     ("degC", r"\degreeCelsius"),
+    ("degC/kW", r"\degreeCelsius\per\kilo\watt"),
     ("K", r"\kelvin"),
     ("h", r"\hour"),
     ("ohm", r"\ohm"),
@@ -153,3 +155,14 @@ def test_a_sheet_with_units_compiles_with_siunitx_and_fits(tmp_path: Path) -> No
     assert "siunitx.sty" in log
     wide = [float(w) for w in re.findall(r"Overfull \\hbox \(([0-9.]+)pt too wide\)", log)]
     assert not wide, wide
+
+
+def test_a_state_in_degrees_celsius_per_minute_is_checked() -> None:
+    """degC is an offset unit: pint refuses degC/min unless offsets become base units in products."""
+    case = loads_case('[parameters.g]\nvalue = 2\nunit = "degC/kW"\n[parameters.Q]\nvalue = 1\nunit = "kW"\n'
+                      '[parameters.tau]\nvalue = 5\nunit = "min"\n[units]\nT = "degC"\n[system]\ntime_unit = "min"\n'
+                      'equations = ["T\' = (g*Q - T)/tau"]')
+    assert any(n.startswith("units: every term") and "time in min" in n for n in case.notices)
+    with pytest.raises(UnitError, match="the term"):
+        loads_case('[parameters.g]\nvalue = 2\nunit = "degC/kW"\n[units]\nT = "degC"\n[system]\ntime_unit = "min"\n'
+                   'equations = ["T\' = g - T"]')

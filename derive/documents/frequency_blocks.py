@@ -65,8 +65,21 @@ def _transfer(step: Any, solution: Solution, s: sp.Symbol) -> tuple[sp.MatrixBas
     return transfer_function(system.A, B, s=s), tuple(u)
 
 
-def _labels(solution: Solution, inputs: tuple[Any, ...], pairs: list[tuple[int, int]]) -> list[str]:
-    names = [s.name for s in solution.system.states]
+def _outputs(solution: Solution, G: sp.MatrixBase) -> tuple[sp.MatrixBase, list[str], str]:
+    """The declared outputs' C G with their names when y = C x (D = 0); else G and the state names.
+
+    The third item names the rows: "output", "state", or "state" with why the outputs are not drawn.
+    """
+    states = [s.name for s in solution.system.states]
+    out = solution.outputs
+    if out is None:
+        return G, states, "state"
+    if any(e != 0 for e in out.D):
+        return G, states, "state (the declared outputs take the inputs directly, so the states are drawn)"
+    return sp.ImmutableMatrix(out.C * G), list(out.names), "output"
+
+
+def _labels(names: list[str], inputs: tuple[Any, ...], pairs: list[tuple[int, int]]) -> list[str]:
     if len(inputs) <= 1:
         return [names[i] for i, _ in pairs]
     return [f"{names[i]} from u{j + 1}" for i, j in pairs]
@@ -97,6 +110,7 @@ def frequency_blocks(step: Any, ctx: Any) -> list[Block]:
     if found is None:
         return [P(f"The frequency response was asked for but is drawn for systems of at most {MAX_STATES} states.")]
     G, inputs = found
+    G, names, rows = _outputs(solution, G)
     values = dict(solution.system.parameter_values())
     missing = sorted({x.name for x in G.free_symbols} - {s.name} - {k.name for k in values})
     if missing:
@@ -111,12 +125,12 @@ def frequency_blocks(step: Any, ctx: Any) -> list[Block]:
     curves: list[FrequencyResponse] = [
         frequency_response(G[i, j], s, values=values, omega_min=lo, omega_max=hi, points=FREQUENCY_POINTS) for i, j in drawn
     ]
-    return _figures(solution, ctx, curves, _labels(solution, inputs, drawn), len(pairs) - len(drawn), values)
+    return _figures(solution, ctx, curves, _labels(names, inputs, drawn), len(pairs) - len(drawn), values, rows)
 
 
 def _figures(
     solution: Solution, ctx: Any, curves: list[FrequencyResponse], labels: list[str], left_out: int,
-    values: dict[sp.Symbol, sp.Expr],
+    values: dict[sp.Symbol, sp.Expr], rows: str,
 ) -> list[Block]:
     unit = ctx.fmt.style.imaginary_unit
     time_unit = solution.system.time_unit
@@ -127,13 +141,16 @@ def _figures(
         magnitude.append(Series(label, tuple(db), "line", label))
         phase.append(Series(label, tuple(zip(r.omega, r.phase_degrees)), "line", label))
     G = rf"G({unit}\omega)"
+    C, Cp = ("C\\,", "C ") if rows == "output" else ("", "")
     Gp = f"G({unit} omega)"
     out: list[Block] = [
-        P("On request, the frequency response: ", N(f"{G} = ({unit}\\omega I - A)^{{-1}} B", f"{Gp} = ({unit} omega I - A)^-1 B"),
-          " for each state and input, with every parameter at its value; the magnitude in decibels, ",
+        P("On request, the frequency response: ", N(f"{G} = {C}({unit}\\omega I - A)^{{-1}} B", f"{Gp} = {Cp}({unit} omega I - A)^-1 B"),
+          f" for each {rows.split(' (')[0]} and input, with every parameter at its value; the magnitude in decibels, ",
           N(rf"20 \log_{{10}} \lvert {G} \rvert", f"20 log10 |{Gp}|"), ", and the phase in degrees, unwrapped"
           + (f" ({left_out} more pair{'s' if left_out != 1 else ''} not drawn)." if left_out else ".")),
     ]
+    if " (" in rows:
+        out.append(P(rows.split(" (", 1)[1].rstrip(")").capitalize() + "."))
     warning = _not_steady(solution, values)
     if warning:
         out.append(P(warning))

@@ -30,7 +30,9 @@ UNIT_MACRO = r"\unit[per-mode=symbol]{"
 #: pint's unit names -> siunitx v3 unit macros (the units engineers write in this program's cases).
 SI_UNITS: dict[str, str] = {
     "meter": r"\metre", "gram": r"\gram", "second": r"\second", "ampere": r"\ampere", "kelvin": r"\kelvin",
-    "mole": r"\mole", "candela": r"\candela", "degree_Celsius": r"\degreeCelsius", "watt": r"\watt",
+    "mole": r"\mole", "candela": r"\candela", "degree_Celsius": r"\degreeCelsius",
+    # pint reads degC inside a compound unit (degC/kW) as a difference; on paper it is still degC
+    "delta_degree_Celsius": r"\degreeCelsius", "watt": r"\watt",
     "joule": r"\joule", "newton": r"\newton", "pascal": r"\pascal", "volt": r"\volt", "ohm": r"\ohm",
     "farad": r"\farad", "henry": r"\henry", "coulomb": r"\coulomb", "siemens": r"\siemens", "weber": r"\weber",
     "tesla": r"\tesla", "hertz": r"\hertz", "radian": r"\radian", "steradian": r"\steradian", "degree": r"\degree",
