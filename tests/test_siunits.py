@@ -112,6 +112,7 @@ def test_sheet_sets_parameter_time_and_state_units_with_siunitx() -> None:
     md = render(sol, "markdown")
     assert "kW/K" in md and "\\unit" not in md and "siunitx" not in md
     assert "\\unit" not in render(sol, "text")
+    assert "times in h from" in render(sol, "text")  # the reading's times, in the case's time unit
 
 
 def test_free_text_parameter_units_of_a_case_without_a_units_table_are_escaped() -> None:

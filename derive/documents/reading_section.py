@@ -253,7 +253,7 @@ def _states(solution: Solution, r: Response) -> list[Block]:
         )
         return [P(f"To what, with what peak? Final values, peaks, settling and rise times are read for an initial value problem with a value for every parameter; here {why}.")]
     out: list[Block] = [P(
-        "To what, with what peak? Per state, from the exact solution, times from ", Math(solution.system.t0),
+        f"To what, with what peak? Per state, from the exact solution, times{' in ' + solution.system.time_unit if solution.system.time_unit else ''} from ", Math(solution.system.t0),
         ": the final value, the largest excursion (peak), the overshoot past the final value relative to the change, "
         "the last entry into a band of 2 % of the change (settling) and the time from 10 % to 90 % of it (rise).",
     )]
