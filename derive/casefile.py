@@ -31,6 +31,7 @@ from .valuetext import show, type_name
 from .errors import CaseFileError, InputError, LimitError
 from .model import Case, Parameter, SheetMeta, System
 from .plotfile import read_plot_span
+from .frequency_plot import read_frequency_plot
 from .parsing import (
     CONSTANTS,
     DEFAULT_LIMITS,
@@ -678,9 +679,9 @@ def _build(data: Mapping[str, Any], *, ctx: _Ctx, name: str, source: str | None,
         x0=x0,
         t0=t0,
         params=tuple(params),
-        equations=equations, second_order=second,
+        equations=equations, second_order=second, time_unit=system.get("time_unit", ""), units=tuple(data.get("units", {}).items()),
     )
-    case = Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices), plot_span=read_plot_span(data.get("plot"), file=ctx.file))
+    case = Case(name=name, system=sys_, meta=meta, source=source, source_hash=digest, notices=tuple(notices), plot_span=read_plot_span(data.get("plot"), file=ctx.file), frequency_plot=read_frequency_plot(data.get("plot"), file=ctx.file))
     return read_sections(case, data, inputs=inputs, file=ctx.file, limits=ctx.limits)
 
 

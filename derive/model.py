@@ -69,6 +69,8 @@ class System:
     substituted: bool = False  # the parameter values were put into A, f, x0 before the decomposition
     #: (M, C, K, F) when the system was given as M q'' + C q' + K q = F (derive.modal shows the modes)
     second_order: tuple[sp.ImmutableMatrix, sp.ImmutableMatrix, sp.ImmutableMatrix, sp.ImmutableMatrix] | None = None
+    time_unit: str = ""  # [system] time_unit as written ("" when not given); checked by derive.units
+    units: tuple[tuple[str, str], ...] = ()  # [units]: (state or input name, unit as written)
 
     @property
     def n(self) -> int:
@@ -119,6 +121,8 @@ class Case:
     options: SolveOptions | None = None  # [solve] and [outputs] (derive.options)
     #: ``[plot] span``: the time the response figure shows from t0 (None: from the slowest time constant)
     plot_span: sp.Expr | None = None
+    #: ``[plot] frequency_response``: None not asked, () the range from the modes, (lo, hi) given (derive.frequency_plot)
+    frequency_plot: tuple[sp.Expr, ...] | None = None
 
 
 class Relation(str, Enum):

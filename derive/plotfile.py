@@ -19,7 +19,7 @@ from .valuetext import show, type_name
 
 __all__ = ["PLOT_KEYS", "read_plot_span"]
 
-PLOT_KEYS: tuple[str, ...] = ("span",)
+PLOT_KEYS: tuple[str, ...] = ("span", "frequency_response", "frequencies")  # the last two: derive.frequency_plot
 
 
 def read_plot_span(table: Any, *, file: str | None = None) -> sp.Rational | None:

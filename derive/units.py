@@ -26,7 +26,9 @@ from .valuetext import show, type_name
 __all__ = ["UnitError", "REGISTRY", "parse_unit", "check_units", "term_unit"]
 
 #: One registry for the program: quantities from different registries cannot be compared.
-REGISTRY: pint.UnitRegistry = pint.UnitRegistry()
+#: Offset units (degC, degF) become their base unit in products, so a state in degC per
+#: minute has a dimension instead of pint's "ambiguous operation" (only dimensions are compared).
+REGISTRY: pint.UnitRegistry = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
 
 
 class UnitError(CaseFileError):

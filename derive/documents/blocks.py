@@ -259,6 +259,7 @@ class Figure:
     lines: tuple[VLine, ...] = ()
     name: str = "figure"
     height: float = 0.36
+    xmode: str = "linear"  # "log": a logarithmic x axis (a frequency response)
 
 
 Block = Union[Title, Heading, Para, Eq, MathRows, TermSum, Items, Table, Alert, Caution, Figure]

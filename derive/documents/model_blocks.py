@@ -12,6 +12,7 @@ from typing import Any
 import sympy as sp
 
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Table
+from .frequency_blocks import frequency_blocks
 
 __all__ = ["reduction_blocks", "modal_blocks", "laplace_blocks"]
 
@@ -169,7 +170,7 @@ def laplace_blocks(s: Any, c: Any) -> list[Block]:
     T, Tp, S, Sp = f.m(s.t), f.plain(s.t), f.m(s.s), f.plain(s.s)
     out: list[Block] = [Heading(3, "Independent check through the Laplace transform")]
     if not s.ran:
-        return out + [P(f"This check was not run: {s.reason}.")]
+        return out + [P(f"This check was not run: {s.reason}.")] + frequency_blocks(s, c)
     if not s.inputs:
         out += [
             P("The system is unforced, so the transfer function from an input added to each state equation is the "
@@ -202,4 +203,4 @@ def laplace_blocks(s: Any, c: Any) -> list[Block]:
     else:
         out.append(P("This differs from the solution found above: the two routes disagree, and the result must not be "
                      "used until the difference is explained."))
-    return out
+    return out + frequency_blocks(s, c)

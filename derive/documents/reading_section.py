@@ -30,6 +30,7 @@ from ..reading.checkpoints import check_points
 from ..reading.evaluation import approx
 from ..render.decimals import format_decimal
 from ..render.escape import spoken
+from ..render.siunits import axis_label
 from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Table, VLine
 
 __all__ = [
@@ -128,7 +129,7 @@ def response_figure(solution: Solution, *, span: float, points: int = FIGURE_POI
     if impulses:
         caption += "; dotted lines: impulses"
     t = sy.t
-    return Figure(caption + ".", N(sp.latex(t), str(t)), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=height)
+    return Figure(caption + ".", axis_label(sp.latex(t), str(t), sy.time_unit), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=height)
 
 
 def _eigenvalue_figure(solution: Solution, response: Response) -> Figure | None:
@@ -252,7 +253,7 @@ def _states(solution: Solution, r: Response) -> list[Block]:
         )
         return [P(f"To what, with what peak? Final values, peaks, settling and rise times are read for an initial value problem with a value for every parameter; here {why}.")]
     out: list[Block] = [P(
-        "To what, with what peak? Per state, from the exact solution, times from ", Math(solution.system.t0),
+        f"To what, with what peak? Per state, from the exact solution, times{' in ' + solution.system.time_unit if solution.system.time_unit else ''} from ", Math(solution.system.t0),
         ": the final value, the largest excursion (peak), the overshoot past the final value relative to the change, "
         "the last entry into a band of 2 % of the change (settling) and the time from 10 % to 90 % of it (rise).",
     )]

@@ -147,13 +147,13 @@ def figure_latex(figure: Figure) -> str:
     if xs and ys:
         # a time axis starts where the curves start; points alone (an eigenvalue map) keep a margin
         only_marks = all(s.style == "marks" for s in figure.series)
-        (x0, x1), (y0, y1) = figure_range(xs, pad=0.08 if only_marks else 0.02), figure_range(ys, pad=0.08)
+        (x0, x1), (y0, y1) = (min(xs), max(xs)) if figure.xmode == "log" else figure_range(xs, pad=0.08 if only_marks else 0.02), figure_range(ys, pad=0.08)
         limits = f"xmin={_coordinate(x0)}, xmax={_coordinate(x1)}, ymin={_coordinate(y0)}, ymax={_coordinate(y1)}, "
     options = (
         rf"width=0.72\textwidth, height={figure.height:.2f}\textwidth, grid=major, "
         r"scaled ticks=false, tick label style={/pgf/number format/fixed}, "
         r"legend pos=outer north east, legend cell align=left, legend style={font=\footnotesize}, "
-        + limits
+        + limits + ("xmode=log, " if figure.xmode == "log" else "")
         + f"xlabel={{${figure.xlabel.latex}$}}, ylabel={{${figure.ylabel.latex}$}}"
     )
     axis = Axis(options=NoEscape(options))

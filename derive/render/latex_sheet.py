@@ -30,6 +30,7 @@ from .latex_blocks import blocks_latex
 from .latex_reading import reading_latex
 from .printing import MathFormatter, MathStyle, RootName, collect_roots, root_legend_rows, visible_width
 from .root_parts import part_legend_latex
+from .siunits import UNIT_MACRO, unit_latex
 from .templating import FRAGMENT_PACKAGES, get_template
 
 __all__ = ["sheet_context", "render_sheet"]
@@ -124,6 +125,7 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "is_zero": lambda obj: (all(e == 0 for e in obj) if isinstance(obj, sp.MatrixBase) else obj == 0),
         "vector": lambda items: sp.ImmutableMatrix([[e] for e in items]),
         "param_assumptions": parameter_assumptions,
+        "unit_tex": unit_latex,
     }
 
 
@@ -222,4 +224,8 @@ def render_sheet(solution: Solution, *, style: MathStyle, fragment: bool) -> str
     body_template = get_template("body.tex.j2")
     context = sheet_context(solution, style=style, fragment=fragment)
     context["body"] = _shared_body(solution, style, lambda: body_template.render(**context))
+    # siunitx only when a unit is set with it, so a sheet without units needs no more than before
+    needs = ("siunitx",) if UNIT_MACRO in context["body"] else ()
+    context["extra_packages"] = needs
+    context["packages"] = FRAGMENT_PACKAGES + needs
     return template.render(**context)

@@ -62,6 +62,8 @@ def figure_svg(figure: Figure) -> bytes | None:
         for line in figure.lines:
             colour, style, width = _LINES.get(line.style, ("gray", "-", 0.8))
             ax.axvline(line.at, color=colour, linestyle=style, linewidth=width)
+        if figure.xmode == "log":
+            ax.set_xscale("log")
         ax.set_xlabel(figure.xlabel.plain)
         ax.set_ylabel(figure.ylabel.plain)
         ax.grid(True, linewidth=0.4, alpha=0.6)
