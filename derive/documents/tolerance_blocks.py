@@ -101,21 +101,36 @@ def _corners(band: Envelope) -> list[Inline]:
 
 
 def band_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]:
-    """The sentence saying how the band was made, and the widest band of each state."""
+    """The sentences saying which parameter sets made the band and what they show, and the widest band per state."""
     band = extras.band
     if band is None:
         return []
     n = len(band.varied)
     words = "both ends" if n == 1 else f"all {band.corners} = 2^{n} combinations of the lower and upper ends"
+    inside = (
+        "and at the declared values" if band.inside == 1
+        else f"and at {band.inside} sets inside it (the grid of lower, declared and upper values, the declared ones among them)"
+    )
+    scale = max([1.0] + [float(abs(v).max()) for v in band.nominal.values()])
+    if band.beyond <= 1e-9 * scale:
+        verdict: list[Inline] = [
+            "Every set inside the box lay within the range of the corners, as it does where each state is monotone in each "
+            "parameter; the band's edges are then exact."
+        ]
+    else:
+        verdict = [
+            "Some sets inside the box lay outside the range of the corners, by up to ", decimal_name(band.beyond),
+            ": a state is not monotone in every parameter over the box (a time constant or a frequency moves the "
+            "response along the time axis), so the band can still miss a little of the true spread between the sets.",
+        ]
     rows = []
     for s in solution.system.states:
         at, width = band.widest(s.name)
         rows.append(((Math(s),), (decimal_name(width),), (decimal_name(at),)))
     return [
         P("Tolerance band: the shaded band of the response figure is the least and greatest value of each state over ",
-          words, " of ", *_corners(band), f" (the corners of the tolerance box), the other parameters at their values, "
-          f"evaluated on the closed form at {extras.points} times. Its edges are exact where each state is monotone in "
-          "each parameter over the box; otherwise the true spread can be somewhat wider. Widest band per state:"),
+          words, " of ", *_corners(band), f" (the corners of the tolerance box) {inside}, the other parameters at "
+          f"their values, evaluated on the closed form at {extras.points} times. ", *verdict, " Widest band per state:"),
         Table(("State", "Widest band", "At time"), tuple(rows), align="lrr"),
     ]
 
@@ -157,13 +172,14 @@ def sensitivity_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]
         *((N(f"{sp.latex(t)} = {decimal_name(v).latex}", f"{t} = {decimal_name(v).plain}"),) for v in times),
         "Largest", "At time",
     )
-    rows = []
+    rows: list[tuple[tuple[Inline, ...], ...]] = []
     for s in numbered:
         for x in states:
             at, peak = s.peak[x.name]
-            rows.append(((Math(s.parameter),), (Math(x),), *((decimal_name(v),) for v in s.values[x.name]),
-                         (decimal_name(peak),), (decimal_name(at),)))
-    out.append(P("In numbers at the declared values; \"largest\" is the value of greatest magnitude over the figure's span:"))
+            cells: list[tuple[Inline, ...]] = [(Math(s.parameter),), (Math(x),)]
+            cells += [(decimal_name(v),) for v in s.values[x.name]] + [(decimal_name(peak),), (decimal_name(at),)]
+            rows.append(tuple(cells))
+    out.append(P("In numbers at the declared values; the column Largest is the value of greatest magnitude over the figure's span:"))
     out.append(Table(header, tuple(rows), align="ll" + "r" * (len(times) + 2)))
     return out
 
@@ -187,6 +203,8 @@ def extras_record(solution: Solution, extras: ReadingExtras) -> dict[str, Any]:
         band = extras.band
         out["tolerance_band"] = {
             "corners": band.corners,
+            "inside": band.inside,
+            "beyond_corners": band.beyond,
             "varied": [{"parameter": p.name, "low": lo, "high": hi} for p, lo, hi in band.varied],
             "widest": {n: dict(zip(("time", "width"), band.widest(n))) for n in names},
         }

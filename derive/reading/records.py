@@ -173,6 +173,10 @@ class Envelope:
     nominal: Mapping[str, np.ndarray]
     corners: int
     varied: tuple[tuple[sp.Symbol, sp.Expr, sp.Expr], ...] = ()
+    #: parameter sets inside the box that were evaluated too (the declared values, and the grid with ``levels = 3``)
+    inside: int = 1
+    #: how far the furthest inside set lay outside the corners' range (0: none did)
+    beyond: float = 0.0
 
     def widest(self, state: str) -> tuple[float, float]:
         """(time, width) where the band of ``state`` is widest."""

@@ -51,6 +51,7 @@ def envelope(
     span: float | None = None,
     points: int = 200,
     values: Mapping[sp.Basic, object] | None = None,
+    levels: int = 2,
 ) -> Envelope:
     """Least and greatest value of each state over the corners p*(1 +- tolerance) of the box.
 
@@ -58,7 +59,12 @@ def envelope(
     tolerance, e.g. ``{k: Rational(5, 100)}``, or to a ``Tolerance``
     (relative or absolute); the other parameters keep their values.  The
     closed form is compiled once and evaluated at every corner.  ``span``
-    defaults to the reading's plot span.
+    defaults to the reading's plot span.  With ``levels = 3`` the box is also
+    sampled inside, at the 3^n grid of lower, declared and upper values: the
+    band then holds those sets too, and ``Envelope.beyond`` says how far the
+    furthest of them lay outside the corners' range (0 when the response is
+    monotone in each parameter there).  The declared values are always one
+    of the inside sets.
 
     >>> import derive
     >>> tau, t = sp.Symbol("tau", positive=True), sp.Symbol("t")
@@ -66,6 +72,8 @@ def envelope(
     >>> band.corners, [round(float(v), 4) for v in band.lower["x_1"]]
     (2, [0.0, 0.897, 0.9894])
     """
+    if levels not in (2, 3):
+        raise InputError(f"levels is {levels!r}; expected 2 (the corners) or 3 (the corners and a grid inside)", key="levels")
     base = reading_values(solution, values)
     sy = solution.system
     toleranced = [(parameter_symbol(solution, p), r) for p, r in tolerances.items()]
@@ -90,13 +98,28 @@ def envelope(
     nominal = _rows(fn, grid, [complex(sp.N(base[p])) for p in varied])
     if not np.all(np.isfinite(nominal)):
         nominal = _resolved(solution, base, times)
-    lower, upper = nominal.copy(), nominal.copy()
     ranges = tuple((p, base[p] - h, base[p] + h) for p, h in half)
+
+    def at(point: Sequence[sp.Expr]) -> np.ndarray:
+        rows = _rows(fn, grid, [complex(sp.N(v)) for v in point])
+        if not np.all(np.isfinite(rows)):  # the closed form is singular at this point
+            rows = _resolved(solution, {**base, **dict(zip(varied, point))}, times)
+        return rows
+
     corners = list(itertools.product(*[(lo, hi) for _, lo, hi in ranges]))
-    for corner in corners:
-        rows = _rows(fn, grid, [complex(sp.N(v)) for v in corner])
-        if not np.all(np.isfinite(rows)):  # the closed form is singular at this corner
-            rows = _resolved(solution, {**base, **dict(zip(varied, corner))}, times)
+    lower = upper = nominal
+    for k, corner in enumerate(corners):
+        rows = at(corner)
+        lower, upper = (rows, rows) if k == 0 else (np.minimum(lower, rows), np.maximum(upper, rows))
+    inside = [nominal]
+    if levels == 3:
+        declared = tuple(base[p] for p in varied)
+        for point in itertools.product(*[(lo, base[p], hi) for p, lo, hi in ranges]):
+            # the corners are done; the declared values are the nominal curve
+            if point != declared and any(v == d for v, d in zip(point, declared)):
+                inside.append(at(point))
+    beyond = max(float(np.max(np.maximum(lower - rows, rows - upper))) for rows in inside)
+    for rows in inside:
         lower, upper = np.minimum(lower, rows), np.maximum(upper, rows)
     return Envelope(
         times,
@@ -105,6 +128,8 @@ def envelope(
         {n: nominal[i] for i, n in enumerate(names)},
         len(corners),
         ranges,
+        len(inside),
+        max(beyond, 0.0),
     )
 
 
@@ -120,7 +145,7 @@ def tolerance_envelope(
     declared = {p.symbol: p.tolerance for p in solution.system.params if p.tolerance is not None and p.symbol in free}
     if not declared:
         return None
-    return envelope(solution, declared, span=span, points=points, values=values)
+    return envelope(solution, declared, span=span, points=points, values=values, levels=3)
 
 
 def sensitivities(
