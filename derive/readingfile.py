@@ -22,8 +22,8 @@ import sympy as sp
 
 from .errors import CaseFileError
 from .model import Case, Parameter, Tolerance
-from .names import nearest
 from .options import SolveOptions
+from .tablecheck import checked_table
 from .valuetext import show, type_name
 
 __all__ = ["READING_KEYS", "read_reading", "parse_tolerance"]
@@ -70,14 +70,7 @@ def parse_tolerance(raw: object, *, value: sp.Expr | None, positive: bool = Fals
 
 
 def _reading_table(raw: object, file: str | None) -> bool:
-    if not isinstance(raw, dict):
-        raise CaseFileError(f"reading is {type_name(raw)} ({show(raw)}); expected a table such as [reading] sensitivities = true",
-                            file=file, key="reading")
-    for k in raw:
-        if k not in READING_KEYS:
-            guess = nearest(k, READING_KEYS)
-            raise CaseFileError(f"unknown key {k!r} in [reading]; expected one of: {', '.join(READING_KEYS)}",
-                                file=file, key=f"reading.{k}", hint=f"did you mean {guess!r}?" if guess else None)
+    raw = checked_table(raw, READING_KEYS, name="reading", example="[reading] sensitivities = true", file=file)
     value = raw.get("sensitivities", False)
     if not isinstance(value, bool):
         raise CaseFileError(f"reading.sensitivities is {type_name(value)} ({show(value)}); expected true or false",

@@ -229,13 +229,26 @@ def test_the_response_figure_draws_the_band_under_the_curves() -> None:
     assert "tolerance band" in fig.caption
 
 
+def test_the_svg_figure_shades_the_band() -> None:
+    pytest.importorskip("matplotlib")
+    import importlib
+
+    svg = importlib.import_module("derive.render.svg")
+    fig = next(b for b in reading_blocks(lag()) if isinstance(b, Figure) and b.name == "response")
+    plain = Figure(fig.caption, fig.xlabel, fig.ylabel, tuple(s for s in fig.series if s.style != "band"), fig.lines, fig.name)
+    with_band, without = svg.figure_svg(fig), svg.figure_svg(plain)
+    assert with_band is not None and without is not None
+    # the band is one filled, translucent path more (its legend swatch another)
+    assert with_band.count(b"opacity: 0.18") >= 1 and without.count(b"opacity: 0.18") == 0
+
+
 @pytest.mark.parametrize("fmt", ["latex", "markdown", "text"])
 def test_sensitivities_and_the_band_in_every_format(fmt: str) -> None:
     out = render(lag(), fmt)
     assert "Sensitivities" in out and "Tolerance band" in out
     assert "combinations" not in out and "both ends" in out  # one toleranced parameter: two corners
     assert out.index("Tolerance band") < out.index("Sensitivities")
-    assert not re.search(r"\w\s*\*\*", out)
+    assert not re.search(r"\w\s*\*\*", out) and "textasciicircum" not in out
 
 
 def test_the_json_record_carries_sensitivities_and_the_band() -> None:

@@ -106,7 +106,7 @@ def band_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]:
     if band is None:
         return []
     n = len(band.varied)
-    words = "both ends" if n == 1 else f"all {band.corners} = 2^{n} combinations of the lower and upper ends"
+    words = "both ends" if n == 1 else f"all {band.corners} combinations of the lower and upper ends"
     inside = (
         "and at the declared values" if band.inside == 1
         else f"and at {band.inside} sets inside it (the grid of lower, declared and upper values, the declared ones among them)"
@@ -127,10 +127,12 @@ def band_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]:
     for s in solution.system.states:
         at, width = band.widest(s.name)
         rows.append(((Math(s),), (decimal_name(width),), (decimal_name(at),)))
+    varied = {p for p, _, _ in band.varied}
+    others = ", the other parameters at their values," if any(p.symbol not in varied for p in solution.system.params) else ""
     return [
         P("Tolerance band: the shaded band of the response figure is the least and greatest value of each state over ",
-          words, " of ", *_corners(band), f" (the corners of the tolerance box) {inside}, the other parameters at "
-          f"their values, evaluated on the closed form at {extras.points} times. ", *verdict, " Widest band per state:"),
+          words, " of ", *_corners(band), f" (the corners of the tolerance box) {inside}{others} evaluated on the "
+          f"closed form at {extras.points} times. ", *verdict, " Widest band per state:"),
         Table(("State", "Widest band", "At time"), tuple(rows), align="lrr"),
     ]
 
