@@ -206,6 +206,8 @@ def test_tolerances_through_the_api_are_parameter_records() -> None:
     sol = derive.solve([[-1 / tau_s]], [1 / tau_s], x0=[0], t=t_s, params=[tau])
     band = tolerance_envelope(sol, span=20.0, points=41)
     assert band is not None and band.varied == ((tau_s, sp.Rational(19, 5), sp.Rational(21, 5)),)
+    fig = next(b for b in reading_blocks(sol) if isinstance(b, Figure) and b.name == "response")
+    assert [s.key for s in fig.series if s.style == "band"] == ["x_1"]
     assert tolerance_envelope(derive.solve([[-1 / tau_s]], x0=[1], t=t_s, params={tau_s: 4})) is None
 
 
@@ -289,6 +291,18 @@ def test_a_long_exact_sensitivity_is_left_to_the_json_record() -> None:
     assert "are long: they are in the JSON record" in out
     reading = json.loads(render(sol, "json"))["reading"]
     assert sp.sympify(reading["sensitivities"][0]["exact"]["a"]).has(sp.Symbol("g"))
+
+
+def test_a_state_free_of_a_parameter_is_named_once_and_left_out_of_the_table() -> None:
+    case = loads_case(
+        '[system]\nequations = ["a\' = -a + 1", "b\' = a - k*b"]\n[initial]\nvalues = [0, 0]\n'
+        '[parameters.k]\nassume = ["positive"]\nvalue = 2\n[reading]\nsensitivities = true\n',
+        name="free", source="free.toml",
+    )
+    out = " ".join(render(solve_case(case), "text").split())
+    assert "Zero, as the state does not depend on the parameter: ∂a/∂k." in out
+    table = out[out.index("Largest At time"):]
+    assert " k b " in table and " k a " not in table
 
 
 needs_tex = pytest.mark.skipif(shutil.which("latexmk") is None, reason="latexmk is not on the PATH")

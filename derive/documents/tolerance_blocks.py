@@ -72,7 +72,7 @@ def read_extras(solution: Solution, *, span: float | None, points: int) -> Readi
     found: tuple[Sensitivity, ...] = ()
     band = None
     if asked:
-        got, note = _guarded("sensitivities part", lambda: sensitivities(solution, span=span))
+        got, note = _guarded("sensitivities part", lambda: sensitivities(solution, span=span, tidy_up_to=2 * EXACT_OPS))
         found, notes = (got or ()), notes + ([note] if note else [])
     if toleranced and span is not None and solution.system.is_ivp:
         band, note = _guarded("tolerance band", lambda: tolerance_envelope(solution, span=span, points=points))
@@ -141,6 +141,13 @@ def _partial(x: sp.Symbol, p: sp.Symbol) -> Name:
     return N(rf"\frac{{\partial {sp.latex(x)}}}{{\partial {sp.latex(p)}}}", f"∂{greek_text(x.name)}/∂{greek_text(p.name)}")
 
 
+def _listed(names: list[Name]) -> list[Inline]:
+    out: list[Inline] = []
+    for k, name in enumerate(names):
+        out += ([", "] if k else []) + [name]
+    return out
+
+
 def sensitivity_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]:
     """The part "Sensitivities": exact short forms, then one table of numbers over the span."""
     if not extras.asked:
@@ -154,15 +161,16 @@ def sensitivity_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]
     states = solution.system.states
     out.append(P("How much each state moves per unit change of each parameter: the derivative of the exact "
                  "solution with respect to the parameter, in the state's unit per the parameter's unit."))
-    short = [(_partial(x, s.parameter), e) for s in found for x, e in zip(states, s.exact) if sp.count_ops(e) <= EXACT_OPS]
-    long_ = [_partial(x, s.parameter) for s in found for x, e in zip(states, s.exact) if sp.count_ops(e) > EXACT_OPS]
+    pairs = [(x, s.parameter, e) for s in found for x, e in zip(states, s.exact)]
+    short = [(_partial(x, p), e) for x, p, e in pairs if e != 0 and sp.count_ops(e) <= EXACT_OPS]
+    long_ = [_partial(x, p) for x, p, e in pairs if sp.count_ops(e) > EXACT_OPS]
+    zero = [_partial(x, p) for x, p, e in pairs if e == 0]
     if short:
         out.append(Eq(tuple(short)))
     if long_:
-        names: list[Inline] = []
-        for k, name in enumerate(long_):
-            names += ([", "] if k else []) + [name]
-        out.append(P("The exact forms of ", *names, " are long: they are in the JSON record; their numbers follow."))
+        out.append(P("The exact forms of ", *_listed(long_), " are long: they are in the JSON record; their numbers follow."))
+    if zero:
+        out.append(P("Zero, as the state does not depend on the parameter: ", *_listed(zero), "."))
     numbered = [s for s in found if s.times]
     if not numbered:
         out.append(P("Give every parameter a value to read the sensitivities in numbers."))
@@ -176,7 +184,9 @@ def sensitivity_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]
     )
     rows: list[tuple[tuple[Inline, ...], ...]] = []
     for s in numbered:
-        for x in states:
+        for x, e in zip(states, s.exact):
+            if e == 0:
+                continue
             at, peak = s.peak[x.name]
             cells: list[tuple[Inline, ...]] = [(Math(s.parameter),), (Math(x),)]
             cells += [(decimal_name(v),) for v in s.values[x.name]] + [(decimal_name(peak),), (decimal_name(at),)]

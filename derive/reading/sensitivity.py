@@ -37,11 +37,15 @@ def sensitivity(solution: Solution, parameter: sp.Symbol | str) -> sp.ImmutableM
     Matrix([[-t*exp(-k*t)]])
     """
     p = parameter_symbol(solution, parameter)
-    rows = []
-    for e in solution.x:
-        d = sp.diff(e, p)
-        rows.append(sp.Add(*[sp.simplify(term) for term in sp.Add.make_args(d)]))  # the product rule's terms, one by one
-    return sp.ImmutableMatrix(rows)
+    return sp.ImmutableMatrix([_derivative(e, p, None) for e in solution.x])
+
+
+def _derivative(e: sp.Expr, p: sp.Symbol, tidy_up_to: int | None) -> sp.Expr:
+    """de/dp; the product rule's terms simplified one by one, when it has at most ``tidy_up_to`` operations (None: always)."""
+    d = sp.diff(e, p)
+    if tidy_up_to is not None and sp.count_ops(d) > tidy_up_to:
+        return d  # a long form is read in numbers; simplifying it costs seconds and rarely shortens it
+    return sp.Add(*[sp.simplify(term) for term in sp.Add.make_args(d)])
 
 
 def envelope(
@@ -154,11 +158,13 @@ def sensitivities(
     span: float | None,
     fractions: Sequence[float] = (0.25, 0.5, 1.0),
     values: Mapping[sp.Basic, object] | None = None,
+    tidy_up_to: int | None = None,
 ) -> tuple[Sensitivity, ...]:
     """dx/dp for every parameter of the closed form, exact and read at the values at ``t0 + fraction*span``.
 
     Without a span or without a value for every parameter, only the exact
-    forms are given (no times, values or peaks).
+    forms are given (no times, values or peaks).  ``tidy_up_to`` leaves a
+    derivative of more operations as differentiated (see :func:`sensitivity`).
 
     >>> import derive
     >>> k, t = sp.Symbol("k", positive=True), sp.Symbol("t")
@@ -169,22 +175,23 @@ def sensitivities(
     sub = reading_values(solution, values)
     sy = solution.system
     free = solution.x.free_symbols
+    chosen = [q.symbol for q in sy.params if q.symbol in free]
+    exact = {p: sp.ImmutableMatrix([_derivative(e, p, tidy_up_to) for e in solution.x]) for p in chosen}
     if span is None or not has_all_values(solution, sub):
-        return tuple(Sensitivity(q.symbol, sensitivity(solution, q.symbol), (), {}, {}) for q in sy.params if q.symbol in free)
+        return tuple(Sensitivity(p, exact[p], (), {}, {}) for p in chosen)
     t0 = float(sp.N(sp.sympify(sy.t0).xreplace(sub)))
     names = [s.name for s in sy.states]
     grid = np.linspace(t0, t0 + span, SENSITIVITY_POINTS)
     at = np.array([t0 + f * span for f in fractions])
     out = []
-    for p in (q.symbol for q in sy.params if q.symbol in free):
-        exact = sensitivity(solution, p)
-        series = numeric_series([e.xreplace(sub) for e in exact], sy.t)
+    for p in chosen:
+        series = numeric_series([e.xreplace(sub) for e in exact[p]], sy.t)
         dense, sampled = series(grid), series(at)
         peaks = {}
         for i, n in enumerate(names):
             k = int(np.argmax(np.abs(dense[i])))
             peaks[n] = (float(grid[k]), float(dense[i][k]))
-        out.append(Sensitivity(p, exact, tuple(map(float, at)), {n: tuple(map(float, sampled[i])) for i, n in enumerate(names)}, peaks))
+        out.append(Sensitivity(p, exact[p], tuple(map(float, at)), {n: tuple(map(float, sampled[i])) for i, n in enumerate(names)}, peaks))
     return tuple(out)
 
 
