@@ -128,7 +128,7 @@ def band_blocks(solution: Solution, extras: ReadingExtras) -> list[Block]:
         at, width = band.widest(s.name)
         rows.append(((Math(s),), (decimal_name(width),), (decimal_name(at),)))
     varied = {p for p, _, _ in band.varied}
-    others = ", the other parameters at their values," if any(p.symbol not in varied for p in solution.system.params) else ""
+    others = ", the other parameters at their values," if any(p.symbol not in varied for p in solution.system.params) else ","
     return [
         P("Tolerance band: the shaded band of the response figure is the least and greatest value of each state over ",
           words, " of ", *_corners(band), f" (the corners of the tolerance box) {inside}{others} evaluated on the "
