@@ -25,7 +25,8 @@ from derive.cli import cli
 from derive.documents.blocks import Figure, Heading
 from derive.documents.reading_section import reading_blocks
 from derive.errors import CaseFileError
-from derive.model import Parameter, Solution, Tolerance
+from derive import Parameter, Tolerance
+from derive.model import Solution
 from derive.output import write_outputs
 from derive.pipeline import solve_case
 from derive.reading import envelope, samples, sensitivities, sensitivity, tolerance_envelope
