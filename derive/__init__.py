@@ -44,7 +44,7 @@ from .errors import (  # noqa: E402
     UnsupportedError,
     VerificationError,
 )
-from .model import Case, Parameter, SheetMeta, Solution, System, Verification  # noqa: E402
+from .model import Case, Parameter, SheetMeta, Solution, System, Tolerance, Verification  # noqa: E402
 from .pipeline import solve, solve_case, solve_system  # noqa: E402
 from .casefile import load_case, loads_case  # noqa: E402
 from .render import render  # noqa: E402
@@ -118,4 +118,5 @@ __all__ = [
     "VerificationError",
     "TimeLimitError",
     "OutputError",
+    "Tolerance",
 ]

@@ -57,7 +57,7 @@ __all__ = [
     "PARAMETER_KEYS",
 ]
 
-TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep", "solve", "outputs", "plot")
+TOP_KEYS: tuple[str, ...] = ("sheet", "system", "initial", "parameters", "inputs", "units", "sweep", "solve", "outputs", "plot", "reading")
 _SHEET_TEXT_KEYS: tuple[str, ...] = (
     "title",
     "project",
@@ -75,7 +75,7 @@ SHEET_KEYS: tuple[str, ...] = _SHEET_TEXT_KEYS + _SHEET_LIST_KEYS + ("states",)
 _SECOND_ORDER_KEYS: tuple[str, ...] = ("damping", "stiffness", "force")
 SYSTEM_KEYS: tuple[str, ...] = ("t", "states", "matrix", "forcing", "equations", "mass", *_SECOND_ORDER_KEYS, "time_unit")
 INITIAL_KEYS: tuple[str, ...] = ("t0", "values")
-PARAMETER_KEYS: tuple[str, ...] = ("assume", "value", "unit", "description")
+PARAMETER_KEYS: tuple[str, ...] = ("assume", "value", "unit", "description", "tolerance")
 
 #: Assumption names a parameter may carry; each becomes a sympy assumption.
 ASSUMPTIONS: tuple[str, ...] = ("positive", "negative", "nonnegative", "nonpositive", "nonzero", "real")

@@ -18,6 +18,7 @@ from .names import nearest
 from .options import SolveOptions
 from .outputs import read_outputs
 from .parsing import DEFAULT_LIMITS, Limits
+from .readingfile import read_reading
 from .valuetext import show, type_name
 
 __all__ = ["SolveOptions", "SOLVE_KEYS", "VALUES_CHOICES", "read_sections"]
@@ -60,7 +61,7 @@ def read_sections(
     """
     pairs = tuple((i.symbol, i.formula) for i in inputs)
     if "solve" not in data and "outputs" not in data and not pairs:
-        return case
+        return read_reading(case, data, file=file)
     substitute = _solve_table(data["solve"], file) if "solve" in data else False
     spec = None
     if "outputs" in data:
@@ -69,4 +70,4 @@ def read_sections(
             data["outputs"], states=s.states, params={p.name: p.symbol for p in s.params}, inputs=pairs, t=s.t,
             file=file, limits=limits,
         )
-    return replace(case, options=SolveOptions(substitute=substitute, outputs=spec, inputs=pairs))
+    return read_reading(replace(case, options=SolveOptions(substitute=substitute, outputs=spec, inputs=pairs)), data, file=file)

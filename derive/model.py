@@ -19,6 +19,7 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = [
     "Parameter",
+    "Tolerance",
     "System",
     "SheetMeta",
     "Case",
@@ -43,6 +44,8 @@ class Parameter:
     value: sp.Expr | None = None
     unit: str = ""
     description: str = ""
+    #: the spread of ``value`` for the tolerance band of the reading (None: no band for it)
+    tolerance: Tolerance | None = None
 
     @property
     def name(self) -> str:
@@ -249,3 +252,36 @@ class Solution:
     @property
     def t(self) -> sp.Symbol:
         return self.system.t
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """How far a parameter may stray from its value: ``amount`` relative (0.05 for 5 %) or absolute.
+
+    An absolute amount is in the parameter's own unit.  The tolerance box has
+    the corners ``value - half_width`` and ``value + half_width``.
+
+    >>> Tolerance(sp.Rational(5, 100), relative=True).half_width(sp.Integer(4)), str(Tolerance(sp.Rational(1, 10)))
+    (1/5, '± 0.1')
+    """
+
+    amount: sp.Expr
+    relative: bool = False
+
+    def half_width(self, value: sp.Expr) -> sp.Expr:
+        """The absolute spread about ``value`` (exact)."""
+        return sp.Abs(value) * self.amount if self.relative else self.amount
+
+    def __str__(self) -> str:
+        if self.relative:
+            return f"± {_short(self.amount * 100)} %"
+        return f"± {_short(self.amount)}"
+
+
+def _short(x: sp.Expr) -> str:
+    """An exact number as a short decimal where it is one (0.1, 5), else as sympy prints it."""
+    if x.is_Integer:
+        return str(x)
+    value = float(x)
+    text = f"{value:.6g}"
+    return text if sp.nsimplify(text, rational=True) == x else str(x)

@@ -89,6 +89,8 @@ class SolveOptions:
     substitute: bool = False
     outputs: OutputSpec | None = None
     inputs: tuple[tuple[sp.Symbol, sp.Expr], ...] = ()
+    #: ``[reading] sensitivities = true``: the sheet shows dx/dp for each parameter (derive.readingfile)
+    sensitivities: bool = False
 
     def xreplace(self, rep: Mapping[sp.Basic, sp.Expr]) -> SolveOptions:
         """The options with ``rep`` put into the outputs and the input formulas (a sweep's values)."""

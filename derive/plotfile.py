@@ -14,7 +14,7 @@ from typing import Any
 import sympy as sp
 
 from .errors import CaseFileError
-from .names import nearest
+from .tablecheck import checked_table
 from .valuetext import show, type_name
 
 __all__ = ["PLOT_KEYS", "read_plot_span"]
@@ -30,15 +30,7 @@ def read_plot_span(table: Any, *, file: str | None = None) -> sp.Rational | None
     """
     if table is None:
         return None
-    if not isinstance(table, dict):
-        raise CaseFileError(f"plot is {type_name(table)} ({show(table)}); expected a table such as [plot] span = 30", file=file, key="plot")
-    for k in table:
-        if k not in PLOT_KEYS:
-            guess = nearest(k, PLOT_KEYS)
-            raise CaseFileError(
-                f"unknown key {k!r} in [plot]; expected one of: {', '.join(PLOT_KEYS)}",
-                file=file, key=f"plot.{k}", hint=f"did you mean {guess!r}?" if guess else None,
-            )
+    table = checked_table(table, PLOT_KEYS, name="plot", example="[plot] span = 30", file=file)
     if "span" not in table:
         return None
     value = table["span"]

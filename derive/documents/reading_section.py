@@ -16,7 +16,6 @@ sets the section from these blocks; the JSON record gets ``reading_record``.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Any
 
@@ -25,13 +24,14 @@ import sympy as sp
 from ..errors import DeriveError
 from ..limits import LimitExpired, inner_limit
 from ..model import Solution
-from ..reading import Response, Stability, plot_span, samples
+from ..reading import Envelope, Response, Stability, plot_span, samples
 from ..reading.checkpoints import check_points
 from ..reading.evaluation import approx
-from ..render.decimals import format_decimal
 from ..render.escape import spoken
 from ..render.siunits import axis_label
 from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Table, VLine
+from .reading_numbers import decimal_name, quantity
+from .tolerance_blocks import ReadingExtras, band_blocks, band_series, extras_record, read_extras, sensitivity_blocks
 
 __all__ = [
     "SheetReading", "sheet_reading", "reading_blocks", "reading_record", "response_figure", "figure_span", "READING_SECONDS", "FIGURE_POINTS",
@@ -53,6 +53,7 @@ class SheetReading:
     figures: tuple[Figure, ...] = ()
     span: float | None = None
     missing: str = ""
+    extras: ReadingExtras = ReadingExtras()
 
 
 #: (solution, reading) of the last sheet read: every format of one sheet shows
@@ -82,13 +83,14 @@ def _read(solution: Solution) -> SheetReading:
     if not solution.verification.ok:
         return SheetReading(response)
     span = figure_span(solution)
+    extras = read_extras(solution, span=span, points=FIGURE_POINTS)
     figures: list[Figure] = []
     if span is not None and solution.system.is_ivp:
-        figures.append(response_figure(solution, span=span))
+        figures.append(response_figure(solution, span=span, band=extras.band))
     eigen = _eigenvalue_figure(solution, response)
     if eigen is not None:
         figures.append(eigen)
-    return SheetReading(response, tuple(figures), span)
+    return SheetReading(response, tuple(figures), span, extras=extras)
 
 
 # ---------------------------------------------------------------------------
@@ -101,12 +103,18 @@ def figure_span(solution: Solution) -> float | None:
     return float(given) if given is not None else plot_span(solution)
 
 
-def response_figure(solution: Solution, *, span: float, points: int = FIGURE_POINTS, checks: bool = True, height: float = 0.3) -> Figure:
-    """Each state over [t0, t0 + span] from the exact solution, with numeric check points unless ``checks`` is False."""
+def response_figure(
+    solution: Solution, *, span: float, points: int = FIGURE_POINTS, checks: bool = True, height: float = 0.3,
+    band: Envelope | None = None,
+) -> Figure:
+    """Each state over [t0, t0 + span] from the exact solution, with numeric check points unless ``checks`` is False.
+
+    ``band`` (a tolerance envelope) is drawn shaded under the curves.
+    """
     sy = solution.system
     exact = samples(solution, span=span, points=points)
     checked = check_points(solution, span=span) if checks else None
-    series: list[Series] = []
+    series: list[Series] = list(band_series(band)) if band is not None else []
     for s in sy.states:
         series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name))
     if checked is not None:
@@ -128,6 +136,8 @@ def response_figure(solution: Solution, *, span: float, points: int = FIGURE_POI
         caption += "; dashed lines: input switches"
     if impulses:
         caption += "; dotted lines: impulses"
+    if band is not None:
+        caption += "; shaded: the tolerance band of each state"
     t = sy.t
     return Figure(caption + ".", axis_label(sp.latex(t), str(t), sy.time_unit), N(f"x_i({sp.latex(t)})", f"x_i({t})"), tuple(series), tuple(lines), "response", height=height)
 
@@ -154,31 +164,13 @@ def _eigenvalue_figure(solution: Solution, response: Response) -> Figure | None:
 # Blocks
 
 
-def _number(value: Any) -> Name:
-    """A number as a short decimal (4 significant digits), in both spellings."""
-    expr = sp.Float(value) if isinstance(value, float) else sp.sympify(value, strict=True)
-    return Name(format_decimal(expr, digits=4, latex=True), format_decimal(expr, digits=4))
-
-
-def _quantity(value: Any) -> tuple[Inline, ...]:
-    """A reading figure: a decimal when it is a number, the exact expression otherwise, -- when undefined."""
-    if value is None:
-        return ("--",)
-    if isinstance(value, float):
-        return (_number(value),) if math.isfinite(value) else ("--",)
-    expr = sp.sympify(value, strict=True)
-    if expr.free_symbols:
-        return (Math(expr),)
-    return (_number(expr),)
-
-
 def _eigenvalue(mode: Any) -> tuple[Inline, ...]:
     lam = sp.sympify(mode.eigenvalue, strict=True)
     if not mode.is_pair or lam.free_symbols:
-        return _quantity(lam)
+        return quantity(lam)
     re_, im_ = sp.re(lam), sp.Abs(sp.im(lam))
     # one formula: two inline formulas side by side would read as $$ (display math) in LaTeX and Markdown
-    a, b = _number(re_), _number(im_)
+    a, b = decimal_name(re_), decimal_name(im_)
     return (Name(f"{a.latex} \\pm {b.latex}", f"{a.plain} ± {b.plain}"), " ", Math(sp.I))
 
 
@@ -224,10 +216,10 @@ def _modes(r: Response) -> list[Block]:
             (
                 (f"{k}{' (dominant)' if m.dominant else ''}",),
                 _eigenvalue(m),
-                _quantity(m.time_constant),
-                _quantity(m.natural_frequency),
-                _quantity(m.damping_ratio),
-                _quantity(m.damped_frequency),
+                quantity(m.time_constant),
+                quantity(m.natural_frequency),
+                quantity(m.damping_ratio),
+                quantity(m.damped_frequency),
             )
             for k, m in enumerate(r.modes, start=1)
         )
@@ -239,7 +231,7 @@ def _modes(r: Response) -> list[Block]:
         row: list[Inline] = [f"Mode {k}{' (dominant)' if m.dominant else ''}: ", N(r"\lambda", "λ"), " = ", *_eigenvalue(m)]
         for name, value in ((N(r"\tau", "τ"), m.time_constant), (N(r"\omega_n", "ω_n"), m.natural_frequency),
                             (N(r"\zeta", "ζ"), m.damping_ratio), (N(r"\omega_d", "ω_d"), m.damped_frequency)):
-            row += ["; ", name, " = ", *_quantity(value)]
+            row += ["; ", name, " = ", *quantity(value)]
         items.append(tuple(row + ["."]))
     out.append(Items(tuple(items)))
     return out
@@ -263,13 +255,13 @@ def _states(solution: Solution, r: Response) -> list[Block]:
         peak = st.peak
         rows.append((
             (Math(s),),
-            _quantity(st.initial_value),
-            _quantity(st.final_value),
-            _quantity(peak[0] - float(approx(solution.system.t0.xreplace(r.values)).real) if peak else None),
-            _quantity(peak[1] if peak else None),
-            ("--",) if st.overshoot is None else (_number(100 * st.overshoot), " %"),
-            _quantity(st.settling_time),
-            _quantity(st.rise_time),
+            quantity(st.initial_value),
+            quantity(st.final_value),
+            quantity(peak[0] - float(approx(solution.system.t0.xreplace(r.values)).real) if peak else None),
+            quantity(peak[1] if peak else None),
+            ("--",) if st.overshoot is None else (decimal_name(100 * st.overshoot), " %"),
+            quantity(st.settling_time),
+            quantity(st.rise_time),
         ))
     header = ("State", "Initial", "Final", "Peak time", "Peak", "Overshoot", "Settling 2 %", "Rise 10-90 %")
     out.append(Table(header, tuple(rows), align="lrrrrrrr"))
@@ -282,14 +274,14 @@ def _sinusoid(solution: Solution, r: Response) -> list[Block]:
     first = next(iter(r.sinusoidal.values()))
     steady = "the steady response" if r.stability is Stability.ASYMPTOTIC else "the periodic part of the response (steady only if the free response decays)"
     rows = tuple(
-        ((Math(s),), _quantity(part.amplitude), _quantity(part.phase), _quantity(part.offset))
+        ((Math(s),), quantity(part.amplitude), quantity(part.phase), quantity(part.offset))
         for s in solution.system.states
         if (part := r.sinusoidal.get(s.name)) is not None
     )
     return [
         P(f"Sinusoidal input: {steady} of each state is ",
           N(r"\text{offset} + \text{amplitude}\,\sin(\omega t + \text{phase})", "offset + amplitude sin(ω t + phase)"),
-          ", with ", N(r"\omega", "ω"), " = ", *_quantity(first.frequency), ":"),
+          ", with ", N(r"\omega", "ω"), " = ", *quantity(first.frequency), ":"),
         Table(("State", "Amplitude", "Phase (rad)", "Offset"), rows, align="lrrr"),
     ]
 
@@ -314,7 +306,10 @@ def reading_blocks(solution: Solution) -> tuple[Block, ...]:
     out += _sinusoid(solution, r)
     if not solution.verification.ok:
         out.append(P("No figures: the verification failed."))
+    out += band_blocks(solution, found.extras)
     out += found.figures
+    out += sensitivity_blocks(solution, found.extras)
+    out += [P(note) for note in found.extras.notes]
     return tuple(out)
 
 
@@ -334,4 +329,5 @@ def reading_record(solution: Solution) -> dict[str, Any]:
         "sinusoidal": None if r.sinusoidal is None else dict(r.sinusoidal),
         "span": found.span,
         "values": {str(k): str(v) for k, v in r.values.items()},
+        **extras_record(solution, found.extras),
     }

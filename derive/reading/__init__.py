@@ -12,8 +12,8 @@ Pure functions over a :class:`derive.model.Solution`; nothing here changes it.
 from __future__ import annotations
 
 from .reading import plot_span, response, samples
-from .records import Envelope, Mode, Response, Samples, SinusoidalReading, Stability, StabilityReading, StateReading
-from .sensitivity import envelope, sensitivity
+from .records import Envelope, Mode, Response, Samples, Sensitivity, SinusoidalReading, Stability, StabilityReading, StateReading
+from .sensitivity import envelope, sensitivities, sensitivity, tolerance_envelope
 from .stability import classify, hurwitz_determinants, jordan_blocks
 
 __all__ = [
@@ -22,6 +22,9 @@ __all__ = [
     "plot_span",
     "sensitivity",
     "envelope",
+    "tolerance_envelope",
+    "sensitivities",
+    "Sensitivity",
     "classify",
     "hurwitz_determinants",
     "jordan_blocks",

@@ -22,6 +22,7 @@ __all__ = [
     "Response",
     "Samples",
     "Envelope",
+    "Sensitivity",
 ]
 
 
@@ -159,7 +160,11 @@ class Envelope:
     """The least and greatest value of each state over the corners of a tolerance box.
 
     ``corners`` is how many parameter sets were evaluated (2 per toleranced
-    parameter, multiplied); ``nominal`` is the response at the declared values.
+    parameter, multiplied); ``nominal`` is the response at the declared values;
+    ``varied`` gives each toleranced parameter with its lower and upper value.
+    The corners bound the response exactly where it is monotone in each
+    parameter over the box; elsewhere the band may be narrower than the true
+    range.
     """
 
     times: np.ndarray
@@ -167,3 +172,31 @@ class Envelope:
     upper: Mapping[str, np.ndarray]
     nominal: Mapping[str, np.ndarray]
     corners: int
+    varied: tuple[tuple[sp.Symbol, sp.Expr, sp.Expr], ...] = ()
+    #: parameter sets inside the box that were evaluated too (the declared values, and the grid with ``levels = 3``)
+    inside: int = 1
+    #: how far the furthest inside set lay outside the corners' range (0: none did)
+    beyond: float = 0.0
+
+    def widest(self, state: str) -> tuple[float, float]:
+        """(time, width) where the band of ``state`` is widest."""
+        width = self.upper[state] - self.lower[state]
+        k = int(np.argmax(width))
+        return float(self.times[k]), float(width[k])
+
+
+@dataclass(frozen=True)
+class Sensitivity:
+    """The sensitivity dx/dp of every state to one parameter: exact, and read at the parameter values.
+
+    ``exact`` is the column dx_i/dp of the closed form (parameters as
+    symbols); ``times`` are the sample times and ``values`` each state's
+    sensitivity there (floats, at the declared values); ``peak`` is each
+    state's (time, value) of the largest magnitude over the span.
+    """
+
+    parameter: sp.Symbol
+    exact: sp.ImmutableMatrix
+    times: tuple[float, ...]
+    values: Mapping[str, tuple[float, ...]]
+    peak: Mapping[str, tuple[float, float]]

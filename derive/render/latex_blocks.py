@@ -160,6 +160,9 @@ def figure_latex(figure: Figure) -> str:
     keys: dict[str, int] = {}
     for series in figure.series:
         colour = FIGURE_COLOURS[keys.setdefault(series.key or series.label, len(keys)) % len(FIGURE_COLOURS)]
+        if series.style == "band":
+            axis.append(NoEscape(_band(series, colour)))
+            continue
         style = f"color={colour}, " + ("only marks, mark=o, mark size=1.8pt" if series.style == "marks" else "thick, no markers")
         if not series.label:
             style += ", forget plot"
@@ -176,6 +179,14 @@ def figure_latex(figure: Figure) -> str:
     picture = TikZ()
     picture.append(axis)
     return picture.dumps()
+
+
+def _band(series: Any, colour: str) -> str:
+    """A shaded region: the closed path of its points, filled lightly under the curves, no outline."""
+    path = " ".join(f"({_coordinate(float(x))},{_coordinate(float(y))})" for x, y in series.points)
+    legend = rf"\addlegendentry{{{tex_escape(series.label)}}}" if series.label else ""
+    options = f"fill={colour}, fill opacity=0.18, draw=none" + (", area legend" if series.label else ", forget plot")
+    return rf"\addplot[{options}] coordinates {{{path}}} -- cycle;" + legend
 
 
 def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:

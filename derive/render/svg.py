@@ -3,7 +3,7 @@
 Markdown has no drawing of its own, so each ``Figure`` block becomes an SVG
 file written beside the ``.md`` file and referenced from it.  The drawing
 follows the LaTeX one (``latex_blocks.figure_latex``): curves as lines,
-check points and eigenvalues as circles, a curve and its points in one
+tolerance bands as light shaded regions, check points and eigenvalues as circles, a curve and its points in one
 colour, switch lines dashed, impulse lines dotted, the imaginary axis solid.
 The SVG carries no date and fixed element ids, so the same figure gives the
 same bytes.
@@ -55,7 +55,9 @@ def figure_svg(figure: Figure) -> bytes | None:
             xs = [x for x, _ in series.points]
             ys = [y for _, y in series.points]
             label = series.label or None
-            if series.style == "marks":
+            if series.style == "band":
+                ax.fill(xs, ys, color=colour, alpha=0.18, linewidth=0, label=label)
+            elif series.style == "marks":
                 ax.plot(xs, ys, linestyle="none", marker="o", markersize=4, markerfacecolor="none", color=colour, label=label)
             else:
                 ax.plot(xs, ys, color=colour, linewidth=1.4, label=label)
