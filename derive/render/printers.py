@@ -119,8 +119,41 @@ def greek_text(name: str) -> str:
     >>> greek_text("lambda_1"), greek_text("omega"), greek_text("Kq")
     ('λ_1', 'ω', 'Kq')
     """
-    base, sep, rest = name.partition("_")
-    return GREEK_LETTERS.get(base, base) + sep + rest
+    primes = prime_count(name)
+    base, sep, rest = name[: len(name) - primes].partition("_")
+    return GREEK_LETTERS.get(base, base) + sep + rest + "'" * primes
+
+
+def prime_count(name: str) -> int:
+    """How many primes end a state's name (``q1''`` made by a reduction of order has 2).
+
+    >>> prime_count("q1''"), prime_count("q1")
+    (2, 0)
+    """
+    return len(name) - len(name.rstrip("'")) if name.rstrip("'") else 0
+
+
+def _unprimed(expr: sp.Symbol) -> tuple[sp.Symbol, int]:
+    """The base state of a primed name and the number of primes (the name as it is when none)."""
+    primes = prime_count(expr.name)
+    if not primes:
+        return expr, 0
+    return sp.Symbol(expr.name[:-primes], **expr.assumptions0), primes
+
+
+def _arg_text(print_: Any, y: sp.Expr, x: sp.Expr, brackets: str) -> str:
+    """x + i y as printed by ``print_``, real part first, a negative y as x - i |y|, for arg(...) of atan2(y, x)."""
+    negative = y.could_extract_minus_sign()
+    size = -y if negative else y
+    unit = print_(sp.I)
+    if size == 1:
+        imag = unit
+    else:
+        text = brackets % print_(size) if isinstance(size, sp.Add) else print_(size)
+        imag = f"{text} {unit}" if size.is_number else f"{unit} {text}"
+    if x == 0:
+        return ("-" if negative else "") + imag
+    return f"{print_(x)} {'-' if negative else '+'} {imag}"
 
 
 class SheetLatexPrinter(_RootStandIns, LatexPrinter):
@@ -128,7 +161,7 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
 
     >>> t = sp.Symbol("t")
     >>> SheetLatexPrinter().doprint(sp.Heaviside(t - 2))
-    'u\\\\left(t - 2\\\\right)'
+    '\\\\mathrm{H}\\\\left(t - 2\\\\right)'
     """
 
     _default_settings: dict[str, Any] = {
@@ -146,6 +179,11 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         # Function names (atan) do not pass here.
         if expr in self._standing or expr in self._settings["symbol_names"] or "{" in expr.name:
             return super()._print_Symbol(expr, style=style)
+        # q1' (a reduction of order) is q_1 with a prime; text that writes a derivative
+        # of it appends one more (q_1''), and a power of it is bracketed (_print_Pow)
+        unprimed, primes = _unprimed(expr)
+        if primes:
+            return self._print_Symbol(unprimed, style=style) + "'" * primes
         base, supers, subs = self._split_super_sub(expr.name)
         if _MULTI_LETTER.fullmatch(base):
             base = r"\mathit{%s}" % base
@@ -160,10 +198,25 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         return base
 
     def _print_Heaviside(self, expr: sp.Expr, exp: str | None = None) -> str:
-        tex = r"u\left(%s\right)" % self._print(expr.args[0])
+        # H, upright: u(t) would read as a named input (issue 19); defined in the sheet's notation
+        tex = r"\mathrm{H}\left(%s\right)" % self._print(expr.args[0])
         if exp:
             tex = r"\left(%s\right)^{%s}" % (tex, exp)
         return tex
+
+    def _print_Pow(self, expr: sp.Expr) -> str:
+        # (q_1')^2: a prime is a superscript, so a power of a primed name needs brackets
+        base = expr.base
+        if isinstance(base, sp.Symbol) and prime_count(base.name) and base not in self._standing and expr.exp.is_Integer:
+            if expr.exp.is_negative:
+                return r"\frac{1}{%s}" % self._print(sp.Pow(base, -expr.exp, evaluate=False)) if expr.exp != -1 else r"\frac{1}{%s}" % self._print(base)
+            return r"\left(%s\right)^{%s}" % (self._print(base), self._print(expr.exp))
+        return str(super()._print_Pow(expr))
+
+    def _print_atan2(self, expr: sp.Expr, exp: str | None = None) -> str:
+        # the angle of the point (x, y) is the argument of x + i y, as a checker writes it
+        tex = r"\arg\left(%s\right)" % _arg_text(self._print, *expr.args, r"\left(%s\right)")
+        return r"\left(%s\right)^{%s}" % (tex, exp) if exp else tex
 
     def _print_Piecewise(self, expr: sp.Expr) -> str:
         # "otherwise" after a chain of t < b_k reads as the interval t >= b_last
@@ -220,7 +273,7 @@ class PlainPrinter(_RootStandIns, StrPrinter):
 
     >>> t = sp.Symbol("t")
     >>> PlainPrinter().doprint(sp.Heaviside(t - 2) + sp.I)
-    'u(t - 2) + i'
+    'H(t - 2) + i'
     """
 
     _default_settings: dict[str, Any] = {
@@ -242,14 +295,42 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_Symbol(self, expr: sp.Symbol) -> str:
         if expr in self._standing:
             return super()._print_Symbol(expr)
-        return greek_text(expr.name) if self._settings["greek_letters"] else expr.name
+        if self._settings["greek_letters"]:
+            return greek_text(expr.name)
+        unprimed, primes = _unprimed(expr)
+        return unprimed.name + "'" * primes
 
     def _print_Dummy(self, expr: sp.Dummy) -> str:
         # the str printer marks a dummy with a leading underscore, which is program notation
         return self._print_Symbol(expr)
 
     def _print_Heaviside(self, expr: sp.Expr) -> str:
-        return "u(%s)" % self._print(expr.args[0])
+        return "H(%s)" % self._print(expr.args[0])
+
+    def _print_atan2(self, expr: sp.Expr) -> str:
+        return "arg(%s)" % _arg_text(self._print, *expr.args, "(%s)")
+
+    def _print_Piecewise(self, expr: sp.Expr) -> str:
+        # one value per interval, as on a hand-written sheet, not sympy's constructor
+        rows = []
+        last: Any = None
+        for value, cond in expr.args:
+            if cond is sp.true:
+                when = "%s >= %s" % (self._print(last.lhs), self._print(last.rhs)) if isinstance(last, sp.StrictLessThan) else "otherwise"
+            elif isinstance(cond, sp.StrictLessThan) and isinstance(last, sp.StrictLessThan) and last.lhs == cond.lhs:
+                when = "%s <= %s < %s" % (self._print(last.rhs), self._print(cond.lhs), self._print(cond.rhs))
+            else:
+                when = self._print(cond)
+            last = cond
+            rows.append("%s for %s" % (self._print(value), when))
+        return "{ %s }" % "; ".join(rows)
+
+    def _print_Pow(self, expr: sp.Expr, rational: bool = False) -> str:
+        # (q1')^2, not q1'^2: the prime belongs to the name
+        base = expr.base
+        if isinstance(base, sp.Symbol) and prime_count(base.name) and base not in self._standing:
+            return self._print(sp.Pow(sp.Symbol("(%s)" % self._print(base)), expr.exp, evaluate=False))
+        return str(super()._print_Pow(expr, rational=rational))
 
     def _print_DiracDelta(self, expr: sp.Expr) -> str:
         if len(expr.args) == 1 or expr.args[1] == 0:
