@@ -84,6 +84,8 @@ def test_atan2_prints_as_the_argument_of_a_complex_number() -> None:
     j = MathFormatter.for_roots((), style=MathStyle(imaginary_unit="j"))
     assert j.m(sp.atan2(b, a)) == r"\arg\left(a + j b\right)"
     assert "atan" not in f.m(sp.atan2(b, a) ** 2) + f.plain(sp.atan2(b, a) ** 2)
+    # and the arctangent by its mathematical name
+    assert f.m(sp.atan(a)) == r"\arctan{\left(a \right)}" and f.plain(sp.atan(a) / 2) == "arctan(a)/2"
 
 
 def test_unit_step_is_H_and_defined_once_in_every_format() -> None:

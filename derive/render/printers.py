@@ -7,8 +7,8 @@ decided here, once:
 * ``Heaviside(t - a)`` is the unit step ``H(t - a)``, upright in LaTeX, never
   ``u``, which reads as a named input (sympy's ``theta`` reads as an angle);
 * ``DiracDelta(t - a)`` is ``delta(t - a)``;
-* ``atan2(b, a)`` is ``arg(a + i b)``, the argument of a complex number, not a
-  program's function name;
+* ``atan2(b, a)`` is ``arg(a + i b)``, the argument of a complex number, and
+  ``atan`` is ``arctan``: a checker's notation, not a program's function names;
 * a state made by a reduction of order, ``q1'`` or ``y''``, is its base state
   printed as usual with the primes after it (``q_1'``), so it never appears
   beside ``q_1`` as ``q1'``;
@@ -169,6 +169,8 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
         "root_names": {},
         "root_letters": {},
         "exp_threshold": 10,
+        # arctan, as a checker writes it, not a program's atan
+        "inv_trig_style": "full",
     }
 
     def _print_Symbol(self, expr: sp.Symbol, style: str = "plain") -> str:
@@ -309,6 +311,15 @@ class PlainPrinter(_RootStandIns, StrPrinter):
 
     def _print_atan2(self, expr: sp.Expr) -> str:
         return "arg(%s)" % _arg_text(self._print, *expr.args, "(%s)")
+
+    def _print_atan(self, expr: sp.Expr) -> str:
+        return "arctan(%s)" % self._print(expr.args[0])
+
+    def _print_asin(self, expr: sp.Expr) -> str:
+        return "arcsin(%s)" % self._print(expr.args[0])
+
+    def _print_acos(self, expr: sp.Expr) -> str:
+        return "arccos(%s)" % self._print(expr.args[0])
 
     def _print_Piecewise(self, expr: sp.Expr) -> str:
         # one value per interval, as on a hand-written sheet, not sympy's constructor
