@@ -217,7 +217,7 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
 
     def _print_atan2(self, expr: sp.Expr, exp: str | None = None) -> str:
         # the angle of the point (x, y) is the argument of x + i y, as a checker writes it
-        tex = r"\arg\left(%s\right)" % _arg_text(self._print, *expr.args, r"\left(%s\right)")
+        tex = r"\arg\left(%s\right)" % _arg_text(self._print, expr.args[0], expr.args[1], r"\left(%s\right)")
         return r"\left(%s\right)^{%s}" % (tex, exp) if exp else tex
 
     def _print_Piecewise(self, expr: sp.Expr) -> str:
@@ -310,7 +310,7 @@ class PlainPrinter(_RootStandIns, StrPrinter):
         return "H(%s)" % self._print(expr.args[0])
 
     def _print_atan2(self, expr: sp.Expr) -> str:
-        return "arg(%s)" % _arg_text(self._print, *expr.args, "(%s)")
+        return "arg(%s)" % _arg_text(self._print, expr.args[0], expr.args[1], "(%s)")
 
     def _print_atan(self, expr: sp.Expr) -> str:
         return "arctan(%s)" % self._print(expr.args[0])
