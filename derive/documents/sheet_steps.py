@@ -24,6 +24,7 @@ from . import model_blocks
 from ..render.root_parts import part_legend
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
+from .notation import coordinate_letter, notation_blocks
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks", "coordinate_letter", "notation_blocks"]
 
@@ -172,20 +173,6 @@ class StepContext:
             if getattr(other, "kind", "") == "scalar" and other.index == step.conjugate_of and other is not step:
                 return Name(self.fmt.m(other.y), self.fmt.plain(other.y))
         return Name(*self.coord(str(step.conjugate_of)))
-
-
-def coordinate_letter(solution: Solution) -> sp.Symbol:
-    """The letter of the decoupled coordinates x = P y of ``solution`` (y unless a state, parameter,
-    input or output takes it: ``derive.solving.methods.base.coordinate_base`` chose it).
-
-    >>> from derive import loads_case, solve_case
-    >>> coordinate_letter(solve_case(loads_case('[system]\\nstates = ["y", "v"]\\nmatrix = [[-1, 0], [0, -2]]')))
-    z
-    """
-    for step in solution.steps:
-        if getattr(step, "kind", "") == "decouple" and step.y:
-            return sp.Symbol(step.y[0].name.rpartition("_")[0])
-    return sp.Symbol("y")
 
 
 def integration_variable(t: sp.Symbol, *exprs: Any) -> sp.Symbol:
@@ -783,25 +770,3 @@ def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
     shown = [rhs for b in blocks if isinstance(b, Eq) for _, rhs in b.rows]
     blocks = blocks + notation_blocks(shown, ctx)
     return blocks + ctx.where(*shown) if ctx.naming.rows else blocks
-
-
-def notation_blocks(objs: Sequence[Any], ctx: StepContext) -> list[Block]:
-    """A sentence defining the unit step H, the impulse delta and arg where ``objs`` first use them (once a sheet)."""
-    defined: set[str] = ctx.cache.setdefault("notation", set())
-    f = ctx.fmt
-    T, Tp = f.m(ctx.t), f.plain(ctx.t)
-    j = f.style.imaginary_unit
-    meanings: dict[Any, tuple[str, tuple[Inline, ...]]] = {
-        sp.Heaviside: ("step", (N(rf"\mathrm{{H}}({T} - a)", f"H({Tp} - a)"), " is the unit step, 0 for ",
-                                N(f"{T} < a", f"{Tp} < a"), " and 1 for ", N(f"{T} > a", f"{Tp} > a"))),
-        sp.DiracDelta: ("impulse", (N(rf"\delta({T} - a)", f"delta({Tp} - a)"), " is the unit impulse at ", N(f"{T} = a", f"{Tp} = a"))),
-        sp.atan2: ("arg", (N(rf"\arg(a + {j}\,b)", f"arg(a + {j} b)"), " is the angle of the point ", N("(a, b)"),
-                           " from the positive real axis, between ", N(r"-\pi", "-π"), " and ", N(r"\pi", "π"))),
-    }
-    parts: list[Inline] = []
-    for kind, (name, words) in meanings.items():
-        if name in defined or not any(isinstance(o, (sp.Basic, sp.MatrixBase)) and o.has(kind) for o in objs):
-            continue
-        defined.add(name)
-        parts += ["; " if parts else "Here ", *words]
-    return [P(*parts, ".")] if parts else []
