@@ -24,7 +24,7 @@ from .base import Document, Frame, Layout, label_key, parameter_assumptions, pro
 from .blocks import Alert, Block, Eq, Heading, Inline, Items, Math, N, P
 from .reading_section import reading_blocks, reading_record
 from .result import result_blocks, result_record
-from .sheet_steps import StepContext, step_blocks
+from .sheet_steps import StepContext, coordinate_letter, step_blocks
 from .output_blocks import result_rows
 
 __all__ = ["SheetDocument", "sheet_blocks", "solution_record", "to_json_value", "sheet_lambda", "structure_text", "FAILED", "SCHEMA_VERSION"]
@@ -142,12 +142,13 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
         b.append(Items(tuple((spoken(n),) for n in notices)))
 
     b.append(Heading(2, "Method"))
+    y = fmt.plain(coordinate_letter(solution))  # the decoupled coordinates' letter, y unless a name takes it
     method: list[tuple[Inline, ...]] = [
         ("Eigenvalues from det(A - λ I) = 0; eigenvectors span the null space of A - λ I.",),
         ("A = P D P^-1 with the eigenvectors" + ("" if solution.is_diagonalizable else " and Jordan chains") + " as columns of P; the product is checked.",),
-        ("x = P y gives y' = D y + g with g = P^-1 f" + ("." if solution.is_diagonalizable else "; Jordan blocks are solved from the bottom row up."),),
-        ("Each y_k' = λ_k y_k + g_k is multiplied by the integrating factor μ_k = exp(-λ_k (t - t0)), so (μ_k y_k)' = μ_k g_k is integrated from t0 to t (the variable of integration s).",),
-        ("x = P y is recombined into homogeneous and particular parts.",),
+        (f"x = P {y} gives {y}' = D {y} + g with g = P^-1 f" + ("." if solution.is_diagonalizable else "; Jordan blocks are solved from the bottom row up."),),
+        (f"Each {y}_k' = λ_k {y}_k + g_k is multiplied by the integrating factor μ_k = exp(-λ_k (t - t0)), so (μ_k {y}_k)' = μ_k g_k is integrated from t0 to t (the variable of integration s).",),
+        (f"x = P {y} is recombined into homogeneous and particular parts.",),
     ]
     if any(s.kind == "real_form" for s in solution.steps):
         method.append(("Complex pairs a +- i b are written in real form from Re and Im of v exp(λ t), each with a real constant.",))

@@ -24,8 +24,9 @@ from . import model_blocks
 from ..render.root_parts import part_legend
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
 from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
+from .notation import coordinate_letter, notation_blocks
 
-__all__ = ["StepContext", "STEP_BLOCKS", "step_blocks"]
+__all__ = ["StepContext", "STEP_BLOCKS", "step_blocks", "coordinate_letter", "notation_blocks"]
 
 
 @dataclass(frozen=True)
@@ -160,12 +161,18 @@ class StepContext:
         # the LaTeX sheet keeps the line of an empty legend
         return [Para(tuple(p for p in parts if p != ""), runs_on=True)]
 
+    def coord(self, sub: str = "") -> tuple[str, str]:
+        """The decoupled coordinate vector ``y`` (or its entry ``y_k`` with ``sub``) as LaTeX and plain text."""
+        letter = coordinate_letter(self.solution).name
+        sym = sp.Symbol(f"{letter}_{sub}" if sub else letter)
+        return self.fmt.m(sym), self.fmt.plain(sym)
+
     def conjugate_name(self, step: Any) -> Name:
-        """The y of the scalar step whose eigenvalue ``step``'s mirrors."""
+        """The y_k of the scalar step whose eigenvalue ``step``'s mirrors."""
         for other in self.solution.steps:
             if getattr(other, "kind", "") == "scalar" and other.index == step.conjugate_of and other is not step:
                 return Name(self.fmt.m(other.y), self.fmt.plain(other.y))
-        return Name(f"y_{{{step.conjugate_of}}}", f"y_{step.conjugate_of}")
+        return Name(*self.coord(str(step.conjugate_of)))
 
 
 def integration_variable(t: sp.Symbol, *exprs: Any) -> sp.Symbol:
@@ -389,11 +396,12 @@ def _decouple(s: Any, c: StepContext) -> list[Block]:
     T, Tp = f.m(s.t), f.plain(s.t)
     y = sp.ImmutableMatrix([[v] for v in s.y])
     rhs = s.D * y + s.g
+    Y, Yp = c.coord()
     return [
         Heading(3, "Decoupling"),
-        P("Substituting ", N(r"x = P\,y", "x = P y"), " into ", N(r"x' = A\,x + f", "x' = A x + f"), " and multiplying by ",
-          N("P^{-1}", "P^-1"), " gives ", N(r"y' = P^{-1} A P\,y + P^{-1} f = D\,y + g", "y' = P^-1 A P y + P^-1 f = D y + g"),
-          ", with ", N(f"y = ({c.m_list(s.y)})^{{T}}", f"y = ({c.plain_list(s.y)})^T"), " and the transformed forcing"),
+        P("Substituting ", N(rf"x = P\,{Y}", f"x = P {Yp}"), " into ", N(r"x' = A\,x + f", "x' = A x + f"), " and multiplying by ",
+          N("P^{-1}", "P^-1"), " gives ", N(rf"{Y}' = P^{{-1}} A P\,{Y} + P^{{-1}} f = D\,{Y} + g", f"{Yp}' = P^-1 A P {Yp} + P^-1 f = D {Yp} + g"),
+          ", with ", N(f"{Y} = ({c.m_list(s.y)})^{{T}}", f"{Yp} = ({c.plain_list(s.y)})^T"), " and the transformed forcing"),
         _mat(f"g({T}) = P^{{-1}} f({T})", f"g({Tp}) = P^-1 f({Tp})", c.compact(s.g)),
         P("Row by row, the equations to solve are:"),
         Eq(tuple((N(f"{f.m(s.y[k])}'({T})", f"{f.plain(s.y[k])}'({Tp})"), c.compact(rhs[k])) for k in range(len(s.y)))),
@@ -404,7 +412,7 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
     f = c.fmt
     Y, Yp = f.m(s.y), f.plain(s.y)
     T, Tp = f.m(s.t), f.plain(s.t)
-    out: list[Block] = [Heading(3, "Solution for ", N(Y, Yp), "y")]
+    out: list[Block] = [Heading(3, "Solution for ", N(Y, Yp), coordinate_letter(c.solution).name)]
     if s.conjugate_of is not None:
         other = c.conjugate_name(s)
         return out + [
@@ -420,7 +428,7 @@ def _scalar(s: Any, c: StepContext) -> list[Block]:
     k = s.index
     g, gp = f"g_{{{k}}}", f"g_{k}"
     if s.coupling is not None:
-        # the right side is still named after the decoupled forcing g_k, plus the solved y_{k+1}
+        # the right side is still named after the decoupled forcing g_k, plus the solved coordinate after it
         G, Gp = rf"\bigl(g_{{{k}}} + {f.m(s.coupling)}\bigr)", f"(g_{k} + {f.plain(s.coupling)})"
         out += [
             P("Its forcing is the decoupled forcing ", N(rf"{g}({T}) = {f.m(s.g)}", f"{gp}({Tp}) = {f.plain(s.g)}"),
@@ -471,7 +479,7 @@ def _recombine(s: Any, c: StepContext) -> list[Block]:
         _mat(r"x^{\mathrm{p}}", "x_p", show(s.particular)),
     ]
     moved: list[Block] = [
-        P("Each solved ", N("y_k"), " times the ", N("k"), "-th column of ", N("P"), ", the terms carrying the constants:"),
+        P("Each solved ", N(*c.coord("k")), " times the ", N("k"), "-th column of ", N("P"), ", the terms carrying the constants:"),
         TermSum(N(r"x^{\mathrm{h}}", "x_h"), tuple(s.homogeneous_terms)),
     ]
     if complex_form:
@@ -480,7 +488,7 @@ def _recombine(s: Any, c: StepContext) -> list[Block]:
     label = c.to_appendix("Recombination term by term", None, "", moved)
     out: list[Block] = [
         Heading(3, "Recombination"),
-        P("The state follows from ", N(r"x = P\,y", "x = P y"), ": each solved ", N("y_k"), " multiplies the ", N("k"),
+        P("The state follows from ", N(rf"x = P\,{c.coord()[0]}", f"x = P {c.coord()[1]}"), ": each solved ", N(*c.coord("k")), " multiplies the ", N("k"),
           f"-th column of ", N("P"), f" (term by term in Appendix {label}). The terms carrying the constants form the homogeneous part"
           + (", and the remaining terms the particular part; in complex form both are in the appendix, and the real form follows."
              if complex_form else ","))
@@ -561,6 +569,7 @@ def _interval(s: Any, c: StepContext) -> list[Block]:
     a, ap = f.m(s.start), f.plain(s.start)
     end, endp = (r"\infty", "infinity") if s.end is None else (f.m(s.end), f.plain(s.end))
     origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
+    Y, Yp = c.coord()
     how = (
         P("The forcing is an exponential polynomial here, so each decoupled equation is solved by its integrating factor "
           "with the integral taken from ", Math(s.start), " to ", N(T, Tp), ", which gives")
@@ -575,11 +584,11 @@ def _interval(s: Any, c: StepContext) -> list[Block]:
         _mat(f"g({T})", f"g({Tp})", c.compact(s.g)),
         P(f"The interval starts from {origin} (with any jump at ", N(f"{T} = {a}", f"{Tp} = {ap}"), " applied):"),
         _mat(f"x({a})", f"x({ap})", s.x_start),
-        P("so the decoupled equations start from ", N(rf"y({a}) = P^{{-1}}\,x({a})", f"y({ap}) = P^-1 x({ap})"), ":"),
-        _mat(f"y({a})", f"y({ap})", s.y_start),
+        P("so the decoupled equations start from ", N(rf"{Y}({a}) = P^{{-1}}\,x({a})", f"{Yp}({ap}) = P^-1 x({ap})"), ":"),
+        _mat(f"{Y}({a})", f"{Yp}({ap})", s.y_start),
         how,
-        _mat(f"y({T})", f"y({Tp})", c.compact(s.y)),
-        P("and, with ", N(r"x = P\,y", "x = P y"), ", on this interval"),
+        _mat(f"{Y}({T})", f"{Yp}({Tp})", c.compact(s.y)),
+        P("and, with ", N(rf"x = P\,{Y}", f"x = P {Yp}"), ", on this interval"),
         Eq(c.state_rows(s.x)),
     ]
     if s.x_end is not None:
@@ -613,7 +622,7 @@ def _convolution(s: Any, c: StepContext) -> list[Block]:
     S, Sp = f.m(s.s), f.plain(s.s)
     t0, t0p = f.m(s.t0), f.plain(s.t0)
     out: list[Block] = [
-        Heading(3, "Convolution form for ", N(f.m(s.y), f.plain(s.y)), "y"),
+        Heading(3, "Convolution form for ", N(f.m(s.y), f.plain(s.y)), coordinate_letter(c.solution).name),
         P("The equation for ", Math(s.y), ", with eigenvalue ", c.root_value(s.eigenvalue), " and decoupled forcing ",
           N(f"g = {f.m(s.g)}", f"g = {f.plain(s.g)}"),
           ", has no closed-form rule for the integral of the integrating factor, so its solution is written as a "
@@ -756,6 +765,8 @@ def step_blocks(step: Any, ctx: StepContext) -> list[Block]:
     if getattr(step, "t", ctx.t) != ctx.t:  # after a time shift the steps run in tau = t - t0
         ctx = replace(ctx, solution=replace(ctx.solution, system=replace(ctx.solution.system, t=step.t)))
     blocks = handler(step, ctx)
-    # the names (omega, Delta, Gamma) a step's formulas use are defined where they first appear
+    # the names (omega, Delta, Gamma) a step's formulas use are defined where they first appear,
+    # and so are the sheet's own function symbols (the unit step H, the impulse, arg)
     shown = [rhs for b in blocks if isinstance(b, Eq) for _, rhs in b.rows]
+    blocks = blocks + notation_blocks(shown, ctx)
     return blocks + ctx.where(*shown) if ctx.naming.rows else blocks

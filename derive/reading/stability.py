@@ -65,6 +65,14 @@ def _word(lam: sp.Expr) -> str:
     return sp.sstr(lam.xreplace({sp.I: sp.Symbol("i")}))
 
 
+def _number(value: sp.Expr) -> str:
+    """A rational as it is (5, 1/2), any other number as a decimal of four figures ("about 1.414")."""
+    value = sp.nsimplify(value) if value.is_Float else value
+    if value.is_Rational:
+        return str(value)
+    return f"about {float(sp.N(value, 20)):.4g}"
+
+
 def classify(
     solution: Solution, values: Mapping[sp.Symbol, sp.Expr], *, eigenvalues: Sequence[sp.Expr] | None = None
 ) -> StabilityReading:
@@ -98,8 +106,8 @@ def _decided(A: sp.Matrix, lams: list[sp.Expr], signs: list[int], solution: Solu
         )
     if all(s < 0 for s in signs):
         slow = max(lams, key=lambda lam: approx(lam).real) if not any(l.free_symbols for l in lams) else None
-        # the real part alone: the eigenvalue itself is listed with the modes, and a complex one reads badly in words
-        tail = f" (the slowest mode decays like exp({_word(sp.simplify(sp.re(slow)) * sp.Symbol('t'))}))" if slow is not None else ""
+        # in words, not as a formula in prose: the time constant -1/Re(lambda) (the modes table has the rest)
+        tail = f" (the slowest mode has the time constant {_number(-1 / sp.simplify(sp.re(slow)))})" if slow is not None else ""
         return StabilityReading(Stability.ASYMPTOTIC, f"every eigenvalue has a negative real part{tail}: every mode decays")
     axis: list[sp.Expr] = []
     for lam, s in zip(lams, signs):
@@ -114,7 +122,7 @@ def _decided(A: sp.Matrix, lams: list[sp.Expr], signs: list[int], solution: Solu
                 Stability.UNSTABLE,
                 f"the eigenvalue {_word(lam)} on the imaginary axis is defective (algebraic multiplicity "
                 f"{algebraic}, only {geometric} independent eigenvector{'s' if geometric != 1 else ''}): "
-                f"its modes grow like t*exp({_word(lam)} t)",
+                "its modes grow in proportion to a power of the time",
             )
     listed = ", ".join(_word(lam) for lam in axis)
     return StabilityReading(

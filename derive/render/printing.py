@@ -1,29 +1,13 @@
-"""Mathematics as engineers read it: a sympy LaTeX printer and a plain printer.
+"""Mathematics as engineers read it: the formatter every renderer prints through.
 
-Every renderer prints sympy objects through this module and nowhere else, so
-the notation of a sheet is decided in one place:
-
-* ``Heaviside(t - a)`` is the unit step ``u(t - a)`` (sympy's ``theta`` reads
-  as an angle to an engineer);
-* ``DiracDelta(t - a)`` is ``delta(t - a)``;
-* ``exp`` with a long exponent is ``exp(...)`` rather than a tiny superscript;
-* an exponent or a sine's or cosine's argument m t + c with numbers m != 1
-  and c != 0 is written m (t - a) with a = -c/m, so e^{2 - 2t} reads
-  e^{-2 (t - 1)} and sin(2t - 2) reads sin(2 (t - 1)), the way a response
-  that starts at t = a is written by hand;
-* an eigenvalue with no radical form (``CRootOf``) is printed by name,
-  ``lambda_k`` with k its position among the solution's eigenvalues, and the
-  polynomial is stated once in a legend with the decimals beside the names;
-  sums and products holding such roots are ordered as polynomials in those
-  names, so a printout never evaluates a root;
-* the imaginary unit is ``i`` or ``j`` (electrical engineers read ``j``).
-
-It also decides how long expressions and big matrices are broken so that a
-display never runs past the margin: sums are split at their top-level terms
-and a matrix too wide for one line is shown column by column or element by
-element.  Widths are estimated from the LaTeX source (``visible_width``);
-the estimate errs on the wide side because an overfull line is worse than an
-early break.
+The notation itself (the unit step, atan2, primed states, indexed roots, the
+imaginary unit) is decided by the printers of ``derive.render.printers``;
+this module names the indexed roots of one solution and decides how long
+expressions and big matrices are broken so that a display never runs past
+the margin: sums are split at their top-level terms and a matrix too wide
+for one line is shown column by column or element by element.  Widths are
+estimated from the LaTeX source (``visible_width``); the estimate errs on
+the wide side because an overfull line is worse than an early break.
 """
 
 from __future__ import annotations
@@ -33,14 +17,13 @@ from dataclasses import dataclass
 from typing import Any, Iterable, Sequence
 
 import sympy as sp
-from sympy.printing.latex import LatexPrinter
-from sympy.printing.str import StrPrinter
 
 from .decimals import format_decimal
 from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
 from ..realroots import pair_numbering
 from .measure import visible_width
-from .terms import Terms, signed, terms_text
+from .printers import PlainPrinter, SheetLatexPrinter, greek_text, plain_text, shifted_argument
+from .terms import Terms, signed
 
 __all__ = [
     "plain_text",
@@ -168,282 +151,6 @@ def collect_roots(
         for r, (k, letter, upper) in parts.items()
     )
 
-
-# ---------------------------------------------------------------------------
-# Printers
-
-
-def shifted_argument(arg: sp.Expr) -> sp.Expr:
-    """m t + c as the unevaluated product m (t - a), a = -c/m, for numbers m != 1, c != 0
-    (the argument of an exponential, a sine or a cosine, as printed).
-
-    Any other exponent comes back as it is.
-
-    >>> t = sp.Symbol("t")
-    >>> shifted_argument(2 - 2*t)
-    -2*(t - 1)
-    """
-    syms = arg.free_symbols
-    if len(syms) != 1 or not arg.is_Add and not arg.is_Mul:
-        return arg
-    (x,) = syms
-    expanded = sp.expand(arg)
-    c, rest = expanded.as_independent(x, as_Add=True)
-    m, var = rest.as_independent(x, as_Add=False) if rest.is_Mul else (sp.Integer(1), rest)
-    if var != x or not (m.is_Rational and c.is_Rational) or c == 0 or m == 1 or m == 0:
-        return arg
-    return sp.Mul(m, x - (-c / m), evaluate=False)
-
-
-class _RootStandIns:
-    """Prints indexed roots through named stand-in symbols.
-
-    sympy orders the terms and factors of an expression holding a ``CRootOf``
-    by evaluating the root, refining its isolating interval every time
-    (seconds on a quintic's sheet).  Each top-level print therefore swaps every
-    root for a symbol named by its number and prints that symbol as the root:
-    the order is then that of a polynomial in lambda_1, lambda_2, ... and
-    nothing is evaluated.
-    """
-
-    _settings: dict[str, Any]
-    #: stand-in symbol -> root, while a top-level print is under way (else empty)
-    _standing: dict = {}
-
-    def _print(self, expr: Any, **kwargs: Any) -> str:
-        if self._standing or not isinstance(expr, (sp.Basic, sp.MatrixBase)) or not expr.has(sp.CRootOf):
-            return super()._print(expr, **kwargs)  # type: ignore[misc]
-        stand = self._stand_ins(expr)
-        self._standing = {v: k for k, v in stand.items()}
-        try:
-            return super()._print(expr.xreplace(stand), **kwargs)  # type: ignore[misc]
-        finally:
-            self._standing = {}
-
-    def _as_ordered_terms(self, expr: Any, order: Any = None) -> list:
-        # also called directly, to break a long sum at its terms
-        if self._standing or not isinstance(expr, sp.Basic) or not expr.has(sp.CRootOf):
-            return super()._as_ordered_terms(expr, order=order)  # type: ignore[misc]
-        stand = self._stand_ins(expr)
-        back = {v: k for k, v in stand.items()}
-        return [term.xreplace(back) for term in super()._as_ordered_terms(expr.xreplace(stand), order=order)]  # type: ignore[misc]
-
-    def _stand_ins(self, expr: Any) -> dict[sp.Expr, sp.Symbol]:
-        names = self._settings["root_names"]
-        stand: dict[sp.Expr, sp.Symbol] = {}
-        for r in expr.atoms(sp.CRootOf):
-            stand[r] = sp.Symbol("\x00root%04d:%s:%d" % (names.get(r, 0), r.poly.as_expr(), r.index))
-        return stand
-
-    def _print_Symbol(self, expr: sp.Symbol, *args: Any, **kwargs: Any) -> str:
-        root = self._standing.get(expr)
-        if root is not None:
-            return self._print_ComplexRootOf(root)  # type: ignore[attr-defined]
-        return super()._print_Symbol(expr, *args, **kwargs)  # type: ignore[misc]
-
-
-#: A name of two or more Latin letters, which TeX would set as a product of letters.
-_MULTI_LETTER = re.compile(r"[A-Za-z]{2,}")
-
-def greek_text(name: str) -> str:
-    """A symbol's name for plain text, a Greek name (alone or before ``_``) as its letter.
-
-    >>> greek_text("lambda_1"), greek_text("omega"), greek_text("Kq")
-    ('λ_1', 'ω', 'Kq')
-    """
-    base, sep, rest = name.partition("_")
-    return GREEK_LETTERS.get(base, base) + sep + rest
-
-
-class SheetLatexPrinter(_RootStandIns, LatexPrinter):
-    """sympy's LaTeX printer with the sheet's notation (see the module docstring).
-
-    >>> t = sp.Symbol("t")
-    >>> SheetLatexPrinter().doprint(sp.Heaviside(t - 2))
-    'u\\\\left(t - 2\\\\right)'
-    """
-
-    _default_settings: dict[str, Any] = {
-        **LatexPrinter._default_settings,
-        "root_names": {},
-        "root_letters": {},
-        "exp_threshold": 10,
-    }
-
-    def _print_Symbol(self, expr: sp.Symbol, style: str = "plain") -> str:
-        # A multi-letter name (Kq, Rth) is one symbol, set in italic as a whole
-        # rather than read as the product K q; a multi-letter subscript or
-        # superscript (k_on) is a label, set upright.  Greek names and sympy's
-        # modifiers (alpha, xdot) are translated first and stay as they are.
-        # Function names (atan) do not pass here.
-        if expr in self._standing or expr in self._settings["symbol_names"] or "{" in expr.name:
-            return super()._print_Symbol(expr, style=style)
-        base, supers, subs = self._split_super_sub(expr.name)
-        if _MULTI_LETTER.fullmatch(base):
-            base = r"\mathit{%s}" % base
-        if style == "bold":
-            base = r"\mathbf{%s}" % base
-        label = [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in supers]
-        if label:
-            base += "^{%s}" % " ".join(label)
-        label = [r"\mathrm{%s}" % x if _MULTI_LETTER.fullmatch(x) else x for x in subs]
-        if label:
-            base += "_{%s}" % " ".join(label)
-        return base
-
-    def _print_Heaviside(self, expr: sp.Expr, exp: str | None = None) -> str:
-        tex = r"u\left(%s\right)" % self._print(expr.args[0])
-        if exp:
-            tex = r"\left(%s\right)^{%s}" % (tex, exp)
-        return tex
-
-    def _print_Piecewise(self, expr: sp.Expr) -> str:
-        # "otherwise" after a chain of t < b_k reads as the interval t >= b_last
-        pieces = list(expr.args)
-        rows = []
-        last_bound = None
-        for value, cond in pieces:
-            if cond is sp.true and isinstance(last_bound, sp.StrictLessThan):
-                cond_tex = r"%s \ge %s" % (self._print(last_bound.lhs), self._print(last_bound.rhs))
-            elif cond is sp.true:
-                cond_tex = r"\text{otherwise}"
-            else:
-                cond_tex = self._print(cond)
-            if isinstance(cond, sp.StrictLessThan):
-                last_bound = cond
-            rows.append(r"%s & \text{for}\: %s" % (self._print(value), cond_tex))
-        return r"\begin{cases} %s \end{cases}" % r" \\ ".join(rows)
-
-    def _print_ExpBase(self, expr: sp.Expr, exp: str | None = None) -> str:
-        arg = self._print(shifted_argument(expr.args[0]))
-        if visible_width(arg) > self._settings["exp_threshold"]:
-            tex = r"\exp\left(%s\right)" % arg
-        else:
-            tex = r"e^{%s}" % arg
-        return self._do_exponent(tex, exp)
-
-    def _print_sin(self, expr: sp.Expr, exp: str | None = None) -> str:
-        return self._delayed_trig("sin", expr, exp)
-
-    def _print_cos(self, expr: sp.Expr, exp: str | None = None) -> str:
-        return self._delayed_trig("cos", expr, exp)
-
-    def _delayed_trig(self, name: str, expr: sp.Expr, exp: str | None) -> str:
-        arg = self._print(shifted_argument(expr.args[0]))
-        power = "^{%s}" % exp if exp else ""
-        return r"\%s%s{\left(%s \right)}" % (name, power, arg)
-
-    def _print_Terms(self, expr: Terms) -> str:
-        return terms_text(expr.args, self._print, r"\left(%s\right)")
-
-    def _print_ComplexRootOf(self, root: sp.Expr) -> str:
-        number = self._settings["root_names"].get(root)
-        if number is not None:
-            return r"\%s_{%d}" % (self._settings["root_letters"].get(root, "lambda"), number)
-        # Not named by the sheet (a caller printing on its own): say it in full.
-        return r"\left[\text{root } %d \text{ of } %s = 0\right]" % (
-            root.index,
-            self._print(root.expr),
-        )
-
-
-class PlainPrinter(_RootStandIns, StrPrinter):
-    """sympy's str printer with the sheet's notation, for text and JSON-free output.
-
-    >>> t = sp.Symbol("t")
-    >>> PlainPrinter().doprint(sp.Heaviside(t - 2) + sp.I)
-    'u(t - 2) + i'
-    """
-
-    _default_settings: dict[str, Any] = {
-        **StrPrinter._default_settings,
-        "root_names": {},
-        "root_letters": {},
-        "imaginary_unit": "i",
-        # Greek names as letters (λ); the ASCII names where a caller's text is ASCII
-        "greek_letters": True,
-    }
-
-    def doprint(self, expr: Any) -> str:
-        # Mathematics, not program text: a power is written ^ and a product by
-        # juxtaposition (a space), the way a formula is typed by hand.  The str
-        # printer writes ** only for a power and * only between the factors of
-        # a product (names never hold either), so the rewrite is exact.
-        return str(super().doprint(expr)).replace("**", "^").replace("*", " ")
-
-    def _print_Symbol(self, expr: sp.Symbol) -> str:
-        if expr in self._standing:
-            return super()._print_Symbol(expr)
-        return greek_text(expr.name) if self._settings["greek_letters"] else expr.name
-
-    def _print_Dummy(self, expr: sp.Dummy) -> str:
-        # the str printer marks a dummy with a leading underscore, which is program notation
-        return self._print_Symbol(expr)
-
-    def _print_Heaviside(self, expr: sp.Expr) -> str:
-        return "u(%s)" % self._print(expr.args[0])
-
-    def _print_DiracDelta(self, expr: sp.Expr) -> str:
-        if len(expr.args) == 1 or expr.args[1] == 0:
-            return "delta(%s)" % self._print(expr.args[0])
-        return "delta^(%s)(%s)" % (self._print(expr.args[1]), self._print(expr.args[0]))
-
-    def _print_ImaginaryUnit(self, expr: sp.Expr) -> str:
-        return str(self._settings["imaginary_unit"])
-
-    def _print_ComplexRootOf(self, root: sp.Expr) -> str:
-        number = self._settings["root_names"].get(root)
-        if number is not None:
-            letter = self._settings["root_letters"].get(root, "lambda")
-            return "%s_%d" % (GREEK_LETTERS[letter] if self._settings["greek_letters"] else letter, number)
-        return "[root %d of %s = 0]" % (root.index, self._print(root.expr))
-
-    def _print_Exp1(self, expr: sp.Expr) -> str:
-        return "e"
-
-    def _print_Terms(self, expr: Terms) -> str:
-        return terms_text(expr.args, self._print, "(%s)")
-
-    def _print_Pi(self, expr: sp.Expr) -> str:
-        return "π" if self._settings["greek_letters"] else "pi"
-
-    def _print_ExpBase(self, expr: sp.Expr) -> str:
-        return "exp(%s)" % self._print(shifted_argument(expr.args[0]))
-
-    def _print_sin(self, expr: sp.Expr) -> str:
-        return "sin(%s)" % self._print(shifted_argument(expr.args[0]))
-
-    def _print_cos(self, expr: sp.Expr) -> str:
-        return "cos(%s)" % self._print(shifted_argument(expr.args[0]))
-
-    def _print_Equality(self, expr: sp.Expr) -> str:
-        return "%s = %s" % (self._print(expr.lhs), self._print(expr.rhs))
-
-
-# ---------------------------------------------------------------------------
-# Width estimate
-
-
-def plain_text(obj: Any) -> str:
-    """A sympy object, matrix or tuple as plain one-line text for sentences.
-
-    >>> plain_text(sp.Matrix([1, sp.Symbol("t")]))
-    '(1, t)'
-
-    Greek names stay spelled out (``lambda^2``): callers put this into ASCII text.
-    """
-    printer = PlainPrinter({"greek_letters": False})
-    if isinstance(obj, sp.MatrixBase):
-        if obj.cols == 1:
-            return "(" + ", ".join(printer.doprint(e) for e in obj) + ")"
-        return "[" + ", ".join(
-            "[" + ", ".join(printer.doprint(obj[i, j]) for j in range(obj.cols)) + "]" for i in range(obj.rows)
-        ) + "]"
-    if isinstance(obj, (tuple, list)):
-        return "(" + ", ".join(plain_text(o) for o in obj) + ")"
-    if isinstance(obj, sp.Basic):
-        return printer.doprint(obj)
-    return str(obj)
 
 
 # ---------------------------------------------------------------------------

@@ -39,7 +39,7 @@ from ..substitution import regime_verdicts, substitute_values, with_values_step
 from .assembly import assemble
 from .methods import Problem, choose_method
 from .shift import shift_back, time_shift
-from .methods.base import is_real_data
+from .methods.base import case_names, is_real_data
 from .system import build_system
 
 __all__ = ["solve", "solve_case", "solve_system"]
@@ -78,14 +78,14 @@ def solve_system(
         notices.append(COMPLEX_DATA_NOTICE)
     if not regimes:
         notices.extend(regime_notes(dec.steps[0].factors, dec.lam, values))
-    problem = Problem.of(system, dec, settings=settings)
+    problem = Problem.of(system, dec, settings=settings, taken=case_names(case))
     # an initial value problem at t0 != 0 is solved in tau = t - t0 from 0 (it then costs what t0 = 0 costs)
     shift = time_shift(system)
     # decouple, integrate, recombine: by the first method that accepts the forcing
     if shift is None:
         pieces = choose_method(problem).solve(problem)
     else:
-        shifted = Problem.of(shift.shifted, dec, settings=settings)
+        shifted = Problem.of(shift.shifted, dec, settings=settings, taken=case_names(case))
         pieces = shift_back(choose_method(shifted).solve(shifted), shift, dec.column_eigenvalues)
     # verify and assemble
     return assemble(

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import time
 from dataclasses import dataclass, field
-from typing import ClassVar, TypeAlias
+from typing import TYPE_CHECKING, ClassVar, Iterable, TypeAlias
 
 import sympy as sp
 
@@ -22,9 +22,19 @@ __all__ = [
     "constant_base",
     "is_real_data",
     "integration_symbol",
+    "COORDINATE_LETTERS",
+    "coordinate_base",
+    "case_names",
 ]
 
+if TYPE_CHECKING:
+    from ...model import Case
+
 Matrix: TypeAlias = sp.ImmutableMatrix
+
+#: The letters the decoupled coordinates (x = P y) may take, in order of preference (not eta, xi:
+#: the modal coordinates of derive.modal; not zeta, the damping ratio; not v, the eigenvectors).
+COORDINATE_LETTERS = ("y", "z", "w", "psi", "chi")
 
 
 def constant_base(system: System) -> str:
@@ -41,6 +51,42 @@ def constant_base(system: System) -> str:
         if not any(f"{base}_{i + 1}" in used or f"{base}{i + 1}" in used for i in range(n)):
             return base
     return "c_const"
+
+
+def coordinate_base(system: System, *, taken: Iterable[str] = ()) -> str:
+    """The letter of the decoupled coordinates: the first of ``COORDINATE_LETTERS`` no name uses.
+
+    A state ``y`` (or ``y'``, ``y_1``), a parameter, the time or a name in ``taken``
+    (inputs, outputs) rules a letter out, so the sheet never writes one letter for two things.
+
+    >>> from derive.pipeline import build_system
+    >>> coordinate_base(build_system([[0, 1], [-1, 0]])[0])
+    'y'
+    >>> coordinate_base(build_system([[0, 1], [-1, 0]], states=sp.symbols("y z"))[0])
+    'w'
+    """
+    names = {x.name for x in system.A.free_symbols | system.f.free_symbols | set(system.states)}
+    if system.x0 is not None:
+        names |= {x.name for x in system.x0.free_symbols}
+    names |= {p.name for p in system.params} | {system.t.name} | set(taken)
+    # y' and y'' (a reduction of order) are the state y's derivatives: y is in use
+    used = {n.rstrip("'") or n for n in names}
+    for letter in COORDINATE_LETTERS:
+        if letter in used or any(n.startswith(letter + "_") or n[len(letter):].isdigit() and n.startswith(letter) for n in used):
+            continue
+        return letter
+    return "y_d"
+
+
+def case_names(case: Case | None) -> tuple[str, ...]:
+    """The names a case declares besides the system's: inputs, outputs, and y for the output vector."""
+    if case is None or case.options is None:
+        return ()
+    options = case.options
+    names = [s.name for s, _ in options.inputs]
+    if options.outputs is not None:
+        names += ["y", *options.outputs.names, *(s.name for s, _ in options.outputs.inputs)]
+    return tuple(names)
 
 
 def is_real_data(system: System) -> bool:
@@ -103,8 +149,11 @@ class Problem:
     budget: Budget = field(compare=False)
 
     @classmethod
-    def of(cls, system: System, dec: Decomposition, *, settings: Settings = DEFAULT_SETTINGS) -> "Problem":
-        """The problem of one solve (a fresh integration budget)."""
+    def of(
+        cls, system: System, dec: Decomposition, *, settings: Settings = DEFAULT_SETTINGS, taken: Iterable[str] = ()
+    ) -> "Problem":
+        """The problem of one solve (a fresh integration budget); ``taken``: names the case declares besides the system's."""
+        letter = coordinate_base(system, taken=taken)
         return cls(
             system=system,
             dec=dec,
@@ -112,7 +161,7 @@ class Problem:
             constant_base=constant_base(system),
             real=is_real_data(system),
             s=integration_symbol(system),
-            y=tuple(sp.Symbol(f"y_{i + 1}") for i in range(system.n)),
+            y=tuple(sp.Symbol(f"{letter}_{i + 1}") for i in range(system.n)),
             budget=Budget(left=settings.integrate_budget, each=settings.integrate_seconds),
         )
 
