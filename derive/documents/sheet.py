@@ -25,6 +25,7 @@ from .blocks import Alert, Block, Eq, Heading, Inline, Items, Math, N, P
 from .reading_section import reading_blocks, reading_record
 from .result import result_blocks, result_record
 from .sheet_steps import StepContext, coordinate_letter, step_blocks
+from .notation import notation_blocks
 from .output_blocks import result_rows
 
 __all__ = ["SheetDocument", "sheet_blocks", "solution_record", "to_json_value", "sheet_lambda", "structure_text", "FAILED", "SCHEMA_VERSION"]
@@ -98,6 +99,7 @@ def sheet_blocks(solution: Solution, *, style: MathStyle | None = None, fragment
         (N("A", "A"), system.A),
         (N(f"f({fmt.m(t)})", f"f({fmt.plain(t)})"), system.f),
     )))
+    b += notation_blocks([system.f], ctx)
     if system.is_ivp:
         b.append(Eq(((N(f"x({fmt.m(system.t0)})", f"x({fmt.plain(system.t0)})"), system.x0),)))
     else:

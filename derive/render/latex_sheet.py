@@ -21,6 +21,7 @@ import sympy as sp
 
 from ..documents.base import label_key, parameter_assumptions, program_versions
 from ..documents.sheet import sheet_lambda, structure_text
+from ..documents.notation import coordinate_letter, notation_blocks
 from ..documents.result import result_blocks
 from ..documents.sheet_steps import STEP_BLOCKS, StepContext, step_blocks
 from ..errors import OutputError
@@ -101,6 +102,8 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
     # one context for every step, so the algebra they move to the appendix is
     # collected in order and numbered once
     steps_ctx = StepContext(solution=solution, fmt=fmt, lam=ctx.lam)
+    # H, delta and arg are defined where the sheet first uses them: the inputs come first
+    inputs_notation = blocks_latex(notation_blocks([solution.system.f], steps_ctx), fmt)
     derivation = "\n\n".join(blocks_latex(step_blocks(step, steps_ctx), fmt) for step in solution.steps)
     result_math = blocks_latex(result_blocks(solution, steps_ctx), fmt)
     appendix = blocks_latex(steps_ctx.appendix_blocks(), fmt)
@@ -116,6 +119,8 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "rows_for_states": rows_for_states,
         "m_list": m_list,
         "derivation": lambda: derivation,
+        "inputs_notation": lambda: inputs_notation,
+        "coord": fmt.m(coordinate_letter(solution)),
         "reading": lambda: reading_latex(solution, fmt),
         "appendix": lambda: appendix,
         "result_math": lambda: result_math,
