@@ -13,7 +13,7 @@ from typing import Any, Sequence
 
 import sympy as sp
 
-from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, MathRows, Name, Para, Strong, Table, TermSum, Title
+from ..documents.blocks import Alert, Block, Caution, Code, Eq, Figure, Heading, Inline, Items, Math, MathRows, Name, Para, Series, Strong, Table, TermSum, Title
 from .base import Renderer, as_document
 from .escape import squash
 from .printing import MathFormatter, MathStyle
@@ -73,6 +73,15 @@ def text_table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> list[str
     return [line(header), line(["-" * w for w in widths]), *(line(r) for r in rows)]
 
 
+_STYLE_WORDS = {"marks": "numeric check", "band": "tolerance band", "line": "curve"}
+
+
+def _series_name(s: Series) -> str:
+    """What a curve is, for a list: its label, and the state it belongs to when the label does not say."""
+    what = squash(s.label) if s.label else _STYLE_WORDS.get(s.style, s.style)
+    return what if not s.key or s.key == s.label else f"{what}, {s.key}"
+
+
 def figure_lines(figure: Figure) -> list[str]:
     """A figure where no picture can be drawn: its caption and the range of each curve.
 
@@ -89,7 +98,7 @@ def figure_lines(figure: Figure) -> list[str]:
             if s.points
             else ""
         )
-        out.append(f"  {squash(s.label)}: {len(s.points)} points{span}")
+        out.append(f"  {_series_name(s)}: {len(s.points)} point{'' if len(s.points) == 1 else 's'}{span}")
     return out
 
 
