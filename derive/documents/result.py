@@ -5,6 +5,11 @@ coefficients (``derive.documents.coefficients``); a sinusoidal steady state
 as A_k sin(omega t + phi_k); beside it, when every parameter has a value, the
 same component with decimals; under it, "where" and every name it uses.  The
 verified x(t) itself is not changed: these are its display.
+
+A coefficient that is a long polynomial in the parts sigma_k, omega_k of
+indexed roots is shown as a_kj (state k, term j) in the Result, kappa_n in
+the derivation (``coefficients.compact``'s register); both are listed exactly,
+with decimals, in the appendix ("Exact coefficients").
 """
 
 from __future__ import annotations
@@ -14,16 +19,13 @@ from typing import Any
 import sympy as sp
 
 from ..model import Solution
-from ..render.measure import visible_width
 from ..render.terms import Terms
 from .blocks import Block, Eq, Math, Name, P
-from .coefficients import NAMES_KEY, Naming, compact, decimal_number, decimal_terms, parameter_values, steady_sinusoids, where_blocks
+from .coefficients import (NAMES_KEY, Naming, compact, decimal_number, decimal_terms, is_long_in_roots, parameter_values,
+                           steady_sinusoids, where_blocks)
 from .sheet_steps import StepContext
 
-__all__ = ["result_blocks", "ResultForms", "result_forms", "result_record", "LONG_COEFFICIENT"]
-
-#: a coefficient in indexed roots printed wider than this (glyphs) is named in the Result
-LONG_COEFFICIENT = 24
+__all__ = ["result_blocks", "ResultForms", "result_forms", "result_record"]
 
 
 class ResultForms:
@@ -68,7 +70,6 @@ class ResultForms:
         every value known the decimal line below says what it is, and the
         exact value is listed once, in the appendix.
         """
-        held = {sym for _, sym in naming.roots}
         terms = list(shown.args) if isinstance(shown, Terms) else [shown]
         out = []
         for j, term in enumerate(terms):
@@ -76,7 +77,7 @@ class ResultForms:
             coeff = [f for f in factors if not f.has(ctx.t)]
             mode = [f for f in factors if f.has(ctx.t)]
             value = sp.Mul(*coeff)
-            if not mode or not value.free_symbols & held or visible_width(ctx.fmt.m(value)) <= LONG_COEFFICIENT:
+            if not mode or not is_long_in_roots(value, naming):
                 out.append(term)
                 continue
             name = sp.Symbol(f"{letter}_{k + 1}{j + 1}" if j < 9 and k < 9 else f"{letter}_{k + 1},{j + 1}")
