@@ -433,7 +433,8 @@ def compact(expr: sp.Expr, t: sp.Symbol, naming: Naming, *, values: Mapping[sp.S
             continue
         parts = tidy_parts(c, naming)
         if names is not None and is_long_in_roots(sp.Mul(*parts), naming):
-            parts = [named_coefficient(sp.Mul(*parts), names, naming)]
+            # unevaluated, so the listed value keeps its rational content outside the sum
+            parts = [named_coefficient(sp.Mul(*parts, evaluate=False) if len(parts) > 1 else parts[0], names, naming)]
         terms.append(_term(parts, _mode_display(naming.apply(m), t)))
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
 

@@ -76,7 +76,7 @@ class ResultForms:
             factors = list(sp.Mul.make_args(term)) if term.is_Mul else [term]
             coeff = [f for f in factors if not f.has(ctx.t)]
             mode = [f for f in factors if f.has(ctx.t)]
-            value = sp.Mul(*coeff)
+            value = sp.Mul(*coeff, evaluate=False) if len(coeff) > 1 else sp.Mul(*coeff)
             if not mode or not is_long_in_roots(value, naming):
                 out.append(term)
                 continue
