@@ -29,7 +29,7 @@ import sympy as sp
 from ..exact import root_value
 from ..model import Solution
 from ..reading.sinusoid import sinusoidal_input
-from ..render.printing import MathFormatter, Terms
+from ..render.printing import MathFormatter, RootName, Terms
 from .blocks import Block, Eq, Name, P
 
 __all__ = [
@@ -45,8 +45,15 @@ __all__ = [
     "DIGITS",
     "where_blocks",
     "decimal_text",
+    "decimal_number",
     "naming_for_roots",
     "tidy_parts",
+    "root_stand_ins",
+    "is_long_in_roots",
+    "named_coefficient",
+    "LONG_OPS",
+    "NAMES_KEY",
+    "readable_phase",
 ]
 
 #: significant figures of the decimals beside the exact coefficients
@@ -73,9 +80,23 @@ class Naming:
     denominators: tuple[tuple[sp.Expr, sp.Symbol], ...] = ()
     algebraic: tuple[tuple[sp.Symbol, int], ...] = ()
     used: frozenset[str] = frozenset()
+    #: (indexed root, its stand-in symbol named as the sheet names the root: lambda_3, sigma_1)
+    roots: tuple[tuple[sp.Expr, sp.Symbol], ...] = ()
+
+    def hold(self, expr: Any) -> Any:
+        """``expr`` with each named indexed root replaced by its stand-in symbol (value unchanged).
+
+        Every walk of a tree holding a ``CRootOf`` rebuilds the root's polynomial
+        at each visit (sympy recomputes its ``args``); the display works on the
+        stand-ins and prints them as the roots' names.
+        """
+        if not self.roots or not isinstance(expr, sp.Basic):
+            return expr
+        return expr.xreplace(dict(self.roots))
 
     def apply(self, expr: sp.Expr) -> sp.Expr:
         """``expr`` written in the names (value unchanged)."""
+        expr = self.hold(expr)
         return expr.xreplace(dict(self.forward)) if self.forward else expr
 
     def back(self, expr: sp.Expr) -> sp.Expr:
@@ -83,7 +104,11 @@ class Naming:
         out = expr
         for _ in range(3):  # a name defined through another (Gamma in omega)
             out = out.xreplace({sym: poly for poly, sym in self.denominators}).xreplace({sym: value for sym, value in self.rows})
-        return out
+        return out.xreplace({sym: root for root, sym in self.roots}) if self.roots else out
+
+    def numeric(self) -> dict[sp.Symbol, sp.Expr]:
+        """Each root stand-in's decimal (40 digits), for ordering and decimals."""
+        return {sym: root_value(root) for root, sym in self.roots}
 
     def pick(self, candidates: Sequence[str], extra: set[str] = set()) -> str:
         """The first candidate name free in this sheet."""
@@ -91,10 +116,10 @@ class Naming:
         return next((n for n in candidates if n not in taken), candidates[-1] + "_x")
 
 
-def _names_in(solution: Solution) -> frozenset[str]:
+def _names_in(solution: Solution, xs: Sequence[Any]) -> frozenset[str]:
     sy = solution.system
     names = {s.name for s in sy.states} | {sy.t.name} | {p.symbol.name for p in sy.params}
-    for obj in (sy.A, sy.f, *solution.x):
+    for obj in (sy.A, sy.f, *xs):
         names |= {s.name for s in getattr(obj, "free_symbols", ())}
     return frozenset(names | _SHEET_NAMES)
 
@@ -103,8 +128,24 @@ def _numeric_rate(expr: sp.Expr) -> bool:
     return expr.is_number and not expr.has(sp.CRootOf)
 
 
-def naming_for(solution: Solution) -> Naming:
+def root_stand_ins(roots: Sequence[RootName]) -> tuple[tuple[sp.Expr, sp.Symbol], ...]:
+    """A symbol for each named indexed root, spelt as the printers name the root (sigma_1, lambda_3).
+
+    >>> z = sp.Symbol("z")
+    >>> r = sp.CRootOf(z**3 - 3*z + 1, 0)
+    >>> root_stand_ins([RootName(root=r, number=2, decimal="-1.8794")])
+    ((CRootOf(z**3 - 3*z + 1, 0), lambda_2),)
+    """
+    # real parts and imaginary parts are real; an eigenvalue is real when sympy's root count says so
+    return tuple((r.root, sp.Symbol(f"{r.letter}_{r.number}", real=True) if r.letter != "lambda" or r.root.is_real
+                  else sp.Symbol(f"{r.letter}_{r.number}")) for r in roots)
+
+
+def naming_for(solution: Solution, *, roots: Sequence[RootName] = ()) -> Naming:
     """The names (omega, Delta, Gamma) for one solution's result; empty where nothing recurs.
+
+    ``roots`` are the sheet's named indexed roots: the display then works on
+    stand-in symbols in their place (``Naming.hold``).
 
     >>> import derive
     >>> t = sp.Symbol("t")
@@ -113,12 +154,15 @@ def naming_for(solution: Solution) -> Naming:
     [('omega', pi/12)]
     """
     t = solution.system.t
-    used = _names_in(solution)
+    stand = root_stand_ins(roots)
+    held = Naming(roots=stand)
+    xs = tuple(held.hold(e) for e in solution.x)
+    used = _names_in(solution, xs)
     naming = Naming(used=used)
     rows: list[tuple[sp.Symbol, sp.Expr]] = []
     forward: list[tuple[sp.Expr, sp.Expr]] = []
     algebraic: list[tuple[sp.Symbol, int]] = []
-    exprs = [e for e in (*solution.x, *solution.system.f) if isinstance(e, sp.Basic)]
+    exprs = [e for e in (*xs, *solution.system.f) if isinstance(e, sp.Basic)]
     freqs: list[sp.Expr] = []
     for e in exprs:
         for w in e.atoms(sp.sin, sp.cos):
@@ -129,23 +173,23 @@ def naming_for(solution: Solution) -> Naming:
         omega = sp.Symbol(naming.pick(("omega", "nu", "varpi")), positive=True)
         rows.append((omega, freqs[0]))
         forward.append((sp.pi, omega * sp.pi / freqs[0]))
-    roots = sorted({p for e in solution.x if isinstance(e, sp.Basic) for p in e.atoms(sp.Pow)
-                    if p.exp == sp.S.Half and p.base.is_Integer and p.base >= 10}, key=lambda p: int(p.base))
-    for k, r in enumerate(roots):
+    radicals = sorted({p for e in xs if isinstance(e, sp.Basic) for p in e.atoms(sp.Pow)
+                       if p.exp == sp.S.Half and p.base.is_Integer and p.base >= 10}, key=lambda p: int(p.base))
+    for k, r in enumerate(radicals):
         letter = naming.pick(("Delta", "Theta", "Xi"), {s.name for s, _ in rows})
-        name = letter if len(roots) == 1 else f"{letter}_{k + 1}"
+        name = letter if len(radicals) == 1 else f"{letter}_{k + 1}"
         sym = sp.Symbol(name, positive=True)
         rows.append((sym, r))
         forward.append((r, sym))
         algebraic.append((sym, int(r.base)))
-    return _with_denominators(Naming(rows=tuple(rows), forward=tuple(forward), algebraic=tuple(algebraic), used=used), solution)
+    return _with_denominators(Naming(rows=tuple(rows), forward=tuple(forward), algebraic=tuple(algebraic), used=used,
+                                     roots=stand), t, xs)
 
 
-def _with_denominators(naming: Naming, solution: Solution) -> Naming:
+def _with_denominators(naming: Naming, t: sp.Symbol, xs: Sequence[Any]) -> Naming:
     """``naming`` with Gamma, Gamma_2, ... for denominator polynomials shared by two coefficients or more."""
-    t = solution.system.t
     seen: dict[sp.Expr, int] = {}
-    for e in solution.x:
+    for e in xs:
         pairs = mode_terms(e, t) if isinstance(e, sp.Expr) else None
         for c, _ in pairs or ():
             den = sp.Mul(*(p.base for p in tidy_parts(c, naming) if p.is_Pow and p.exp == -1))
@@ -159,7 +203,7 @@ def _with_denominators(naming: Naming, solution: Solution) -> Naming:
     name = naming.pick(("Gamma", "Psi", "Phi"))
     dens = tuple((poly, sp.Symbol(name if len(shared) == 1 else f"{name}_{k + 1}", positive=True)) for k, poly in enumerate(shared))
     return Naming(rows=naming.rows + tuple((sym, poly) for poly, sym in dens), forward=naming.forward,
-                  denominators=dens, algebraic=naming.algebraic, used=naming.used)
+                  denominators=dens, algebraic=naming.algebraic, used=naming.used, roots=naming.roots)
 
 
 def mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol] = frozenset()) -> list[tuple[sp.Expr, sp.Expr]] | None:
@@ -173,7 +217,16 @@ def mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol] = fro
     >>> mode_terms(3 + sp.exp(-t) / 2 + sp.exp(-t) * t, t)
     [(3, 1), (1/2, exp(-t)), (1, t*exp(-t))]
     """
-    if not isinstance(expr, sp.Expr) or expr.has(sp.Piecewise, sp.Heaviside, sp.DiracDelta, sp.Integral):
+    if not isinstance(expr, sp.Expr):
+        return None
+    found = _mode_terms(expr, t, unknowns)
+    return None if found is None else list(found)
+
+
+@lru_cache(maxsize=512)
+def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> tuple[tuple[sp.Expr, sp.Expr], ...] | None:
+    """``mode_terms``, kept: the naming, the Result, its decimals and its sinusoids read the same components."""
+    if expr.has(sp.Piecewise, sp.Heaviside, sp.DiracDelta, sp.Integral):
         return None
     # each exponential held as a symbol while expanding, so e^{-u} is never moved into a denominator
     held = {e: sp.Dummy("E") for e in expr.atoms(sp.exp) if e.has(t)}
@@ -201,7 +254,7 @@ def mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol] = fro
             return None
         mode = sp.Mul(*others) * (sp.exp(sp.expand(sp.Add(*exps))) if exps else 1)
         groups[mode] = groups.get(mode, sp.Integer(0)) + sp.Mul(*coeff)
-    return [(c, m) for m, c in groups.items() if c != 0]
+    return tuple((c, m) for m, c in groups.items() if c != 0)
 
 
 def _reduce(p: sp.Expr, algebraic: Sequence[tuple[sp.Symbol, int]]) -> sp.Expr:
@@ -267,6 +320,9 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     c = naming.apply(coefficient)
     if c.is_Rational or c.has(sp.CRootOf) or sp.count_ops(c) > _CANCEL_LIMIT:
         return [c]
+    held = {sym for _, sym in naming.roots} & c.free_symbols
+    if held:
+        return _root_polynomial_parts(c, held)
     iota = sp.Dummy("iota")
     algebraic = (*naming.algebraic, (iota, -1))
     num, den = _field_form(c.xreplace({sp.I: iota}), algebraic)
@@ -279,6 +335,22 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     # one power per factor below, so the printers set a single fraction bar
     factors = [number, *n_parts[1:]] + [sp.Pow(f, -1) for f in sp.Mul.make_args(rest_den) if f != 1]
     return [f.xreplace({iota: sp.I}) for f in factors if f != 1] or [sp.Integer(1)]
+
+
+def _root_polynomial_parts(c: sp.Expr, held: set[sp.Symbol]) -> list[sp.Expr]:
+    """A polynomial in indexed roots' stand-ins as (rational content, primitive polynomial).
+
+    Such a coefficient is already reduced (``expoly.reduce_roots``); putting it
+    over one denominator and factoring it over Q takes long and shortens
+    nothing, so only its common rational factor is taken out.
+    """
+    expanded = sp.expand(c)
+    if not expanded.is_polynomial(*held) or expanded.free_symbols - held:
+        return [c]
+    content, prim = expanded.as_content_primitive()
+    if prim.is_Add and all(term.could_extract_minus_sign() for term in prim.args):
+        content, prim = -content, -prim
+    return [content, prim] if content != 1 else [prim]
 
 
 def tidy(coefficient: sp.Expr, naming: Naming) -> sp.Expr:
@@ -331,19 +403,26 @@ def parameter_values(solution: Solution) -> dict[sp.Symbol, sp.Expr] | None:
 
 
 def compact(expr: sp.Expr, t: sp.Symbol, naming: Naming, *, values: Mapping[sp.Symbol, sp.Expr] | None = None,
-            sinusoid: "Sinusoid | None" = None, unknowns: frozenset[sp.Symbol] = frozenset()) -> sp.Expr:
+            sinusoid: "Sinusoid | None" = None, unknowns: frozenset[sp.Symbol] = frozenset(),
+            names: dict[sp.Expr, sp.Symbol] | None = None) -> sp.Expr:
     """``expr`` as ``Terms`` ordered by mode with tidy coefficients, or written in the names when it is no sum of modes.
+
+    ``names``, the sheet's register of long coefficients: a coefficient that
+    is a long polynomial in indexed roots is shown by a name kappa_n from it
+    (added when new), and its exact value is listed once, in the appendix.
 
     >>> t = sp.Symbol("t")
     >>> compact(sp.exp(-t) / 3 + 1 + sp.exp(-t) / 6, t, Naming())
     Terms(1, exp(-t)/2)
     """
+    expr = naming.hold(expr)
     if not isinstance(expr, sp.Expr) or not expr.has(t):
         return tidy(expr, naming) if isinstance(expr, sp.Expr) and expr.is_number is not None else expr
     pairs = mode_terms(expr, t, unknowns)
     if pairs is None:
         return naming.apply(expr)
-    pairs.sort(key=lambda cm: _rate_key(cm[1], t, values or {}))
+    numeric = {**(values or {}), **naming.numeric()}
+    pairs.sort(key=lambda cm: _rate_key(cm[1], t, numeric))
     terms: list[sp.Expr] = []
     for c, m in pairs:
         if sinusoid is not None and isinstance(m, (sp.sin, sp.cos)) and m.args[0] == sinusoid.argument:
@@ -352,8 +431,32 @@ def compact(expr: sp.Expr, t: sp.Symbol, naming: Naming, *, values: Mapping[sp.S
             if wave not in terms:
                 terms.append(wave)
             continue
-        terms.append(_term(tidy_parts(c, naming), _mode_display(naming.apply(m), t)))
+        parts = tidy_parts(c, naming)
+        if names is not None and is_long_in_roots(sp.Mul(*parts), naming):
+            # unevaluated, so the listed value keeps its rational content outside the sum
+            parts = [named_coefficient(sp.Mul(*parts, evaluate=False) if len(parts) > 1 else parts[0], names, naming)]
+        terms.append(_term(parts, _mode_display(naming.apply(m), t)))
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
+
+
+#: the key of the sheet's register of long coefficients (``compact``'s ``names``) in ``StepContext.cache``
+NAMES_KEY = "named_coefficients"
+
+#: a coefficient in indexed roots with more operations than this is named (kappa_n) where a register is kept
+LONG_OPS = 8
+
+
+def is_long_in_roots(value: sp.Expr, naming: Naming) -> bool:
+    """Whether ``value`` holds an indexed root's stand-in and is too long to stand in a sum of modes."""
+    return bool(value.free_symbols & {sym for _, sym in naming.roots}) and sp.count_ops(value) > LONG_OPS
+
+
+def named_coefficient(value: sp.Expr, names: dict[sp.Expr, sp.Symbol], naming: Naming) -> sp.Symbol:
+    """The name of ``value`` in the sheet's register (kappa_1, kappa_2, ... in order of first use)."""
+    if value not in names:
+        letter = naming.pick(("kappa", "chi", "varkappa"))
+        names[value] = sp.Symbol(f"{letter}_{len(names) + 1}")
+    return names[value]
 
 
 def _mode_display(mode: sp.Expr, t: sp.Symbol) -> sp.Expr:
@@ -420,7 +523,7 @@ def steady_sinusoids(solution: Solution, naming: Naming) -> dict[int, Sinusoid]:
     phase_base = next(n for n in ("phi", "psi", "theta", "phi_ph") if not any(u == n or u.startswith(n + "_") for u in case_names))
     out: dict[int, Sinusoid] = {}
     for k, e in enumerate(solution.x):
-        pairs = mode_terms(e, t) if isinstance(e, sp.Expr) else None
+        pairs = mode_terms(naming.hold(e), t) if isinstance(e, sp.Expr) else None
         if pairs is None:
             continue
         waves = {(type(m), m.args[0]): c for c, m in pairs if isinstance(m, (sp.sin, sp.cos))}
@@ -428,25 +531,49 @@ def steady_sinusoids(solution: Solution, naming: Naming) -> dict[int, Sinusoid]:
             if kind is not sp.sin or (sp.cos, arg) not in waves or sp.expand(arg).coeff(t) - omega != 0:
                 continue
             b = waves[(sp.cos, arg)]
-            amp = sp.sqrt(sp.factor(sp.cancel(sp.together(a**2 + b**2))))
-            phase = sp.atan2(b, a)
+            amp = naming.back(sp.sqrt(sp.factor(sp.cancel(sp.together(a**2 + b**2)))))
+            phase = naming.back(sp.atan2(b, a))
             shown_amp = sp.Mul(*(sp.sqrt(f) for f in tidy_parts(a**2 + b**2, naming)), evaluate=False)
             na, da = sp.fraction(sp.Mul(*tidy_parts(a, naming)))
             nb, db = sp.fraction(sp.Mul(*tidy_parts(b, naming)))
-            # a positive denominator shared by a and b does not change atan2(b, a)
-            g = sp.gcd(na, nb)
-            if g.is_positive:
-                na, nb = sp.cancel(na / g), sp.cancel(nb / g)
-            shown_phase = sp.atan2(nb, na) if da == db and da.is_positive else naming.apply(phase)
+            shown_phase = naming.apply(phase)
+            if da.is_positive and db.is_positive:
+                # positive factors do not change the angle: atan2(nb/db, na/da) = atan2(nb da, na db) / g
+                nb, na = sp.expand(nb * da), sp.expand(na * db)
+                g = sp.gcd(na, nb)
+                if g.is_positive:
+                    na, nb = sp.cancel(na / g), sp.cancel(nb / g)
+                shown_phase = readable_phase(nb, na)
             out[k] = Sinusoid(sp.Symbol(f"{amp_base}_{k + 1}"), sp.Symbol(f"{phase_base}_{k + 1}"), amp, phase, arg,
                               shown_amp, shown_phase)
             break
     return out
 
 
+def readable_phase(b: sp.Expr, a: sp.Expr) -> sp.Expr:
+    """The angle of a + b i: a rational multiple of pi as such, otherwise atan2(b, a) held unevaluated.
+
+    sympy writes atan2(1, -2) as pi - atan(1/2); the printers set the held
+    atan2 in the sheet's angle notation, which reads as one angle.
+
+    >>> readable_phase(sp.Integer(1), sp.Integer(1)), readable_phase(sp.Integer(1), sp.Integer(-2))
+    (pi/4, atan2(1, -2))
+    """
+    angle = sp.atan2(b, a)
+    if angle.is_Rational or (angle / sp.pi).is_Rational:
+        return angle
+    return sp.atan2(b, a, evaluate=False)
+
+
 def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Expr], *, digits: int = DIGITS,
-                  sinusoid: Sinusoid | None = None) -> sp.Expr | None:
-    """``expr`` ordered by mode with every number a decimal of ``digits`` figures; None if not numeric."""
+                  sinusoid: Sinusoid | None = None, naming: Naming | None = None) -> sp.Expr | None:
+    """``expr`` ordered by mode with every number a decimal of ``digits`` figures; None if not numeric.
+
+    With a ``naming`` that holds the sheet's indexed roots, the work is done on their stand-ins.
+    """
+    if naming is not None:
+        expr = naming.hold(expr)
+        values = {**values, **naming.numeric()}
     pairs = mode_terms(expr, t)
     if pairs is None:
         return None
@@ -510,6 +637,21 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
             else:
                 terms.append(md if cd == 1 else -md)
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
+
+
+def decimal_number(value: sp.Expr, *, digits: int = DIGITS) -> sp.Expr | None:
+    """A real number's decimal to ``digits`` figures as a ``Float`` (None when it has no real value).
+
+    >>> decimal_number(sp.sqrt(2))
+    1.414
+    """
+    if not value.is_number:
+        return None
+    value = value.xreplace({r: root_value(r) for r in value.atoms(sp.CRootOf)})
+    number = sp.N(value, digits + 4)
+    if not number.is_real:
+        return None
+    return sp.Float(number, digits)
 
 
 def decimal_text(value: sp.Expr, fmt: MathFormatter, *, latex: bool, digits: int = DIGITS) -> str:

@@ -5,6 +5,11 @@ coefficients (``derive.documents.coefficients``); a sinusoidal steady state
 as A_k sin(omega t + phi_k); beside it, when every parameter has a value, the
 same component with decimals; under it, "where" and every name it uses.  The
 verified x(t) itself is not changed: these are its display.
+
+A coefficient that is a long polynomial in the parts sigma_k, omega_k of
+indexed roots is shown as a_kj (state k, term j) in the Result, kappa_n in
+the derivation (``coefficients.compact``'s register); both are listed exactly,
+with decimals, in the appendix ("Exact coefficients").
 """
 
 from __future__ import annotations
@@ -14,8 +19,10 @@ from typing import Any
 import sympy as sp
 
 from ..model import Solution
-from .blocks import Block, Eq, Name, P
-from .coefficients import compact, decimal_terms, parameter_values, steady_sinusoids, where_blocks
+from ..render.terms import Terms
+from .blocks import Block, Eq, Math, Name, P
+from .coefficients import (NAMES_KEY, Naming, compact, decimal_number, decimal_terms, is_long_in_roots, parameter_values,
+                           steady_sinusoids, where_blocks)
 from .sheet_steps import StepContext
 
 __all__ = ["result_blocks", "ResultForms", "result_forms", "result_record"]
@@ -32,9 +39,15 @@ class ResultForms:
         self.sinusoids = steady_sinusoids(solution, naming)
         self.exact: list[Any] = []
         self.decimal: list[Any | None] = []
+        #: (name, exact value) of each coefficient too long for the Result's line; listed in the appendix
+        self.coefficients: list[tuple[sp.Symbol, sp.Expr]] = []
+        letter = naming.pick(("a", "kappa", "alpha"))
         for k, e in enumerate(solution.x):
-            self.exact.append(compact(e, t, naming, values=values or {}, sinusoid=self.sinusoids.get(k)))
-            dec = decimal_terms(e, t, values, sinusoid=self.sinusoids.get(k)) if values is not None else None
+            shown = compact(e, t, naming, values=values or {}, sinusoid=self.sinusoids.get(k))
+            dec = decimal_terms(e, t, values, sinusoid=self.sinusoids.get(k), naming=naming) if values is not None else None
+            if dec is not None:
+                shown = self._named(shown, k, letter, naming, ctx)
+            self.exact.append(shown)
             self.decimal.append(dec)
         waves: list[tuple[sp.Symbol, sp.Expr]] = []
         for _, s in sorted(self.sinusoids.items()):
@@ -48,6 +61,29 @@ class ResultForms:
                 used |= value.free_symbols
         rows = [(sym, value) for sym, value in naming.rows if sym in used] + waves
         self.where = rows
+
+    def _named(self, shown: Any, k: int, letter: str, naming: Naming, ctx: StepContext) -> Any:
+        """``shown`` with each long coefficient in indexed roots replaced by a name a_kj (recorded).
+
+        A coefficient in the parts sigma_k, omega_k of indexed roots is a
+        polynomial with long integers: exact, but no line holds it.  With
+        every value known the decimal line below says what it is, and the
+        exact value is listed once, in the appendix.
+        """
+        terms = list(shown.args) if isinstance(shown, Terms) else [shown]
+        out = []
+        for j, term in enumerate(terms):
+            factors = list(sp.Mul.make_args(term)) if term.is_Mul else [term]
+            coeff = [f for f in factors if not f.has(ctx.t)]
+            mode = [f for f in factors if f.has(ctx.t)]
+            value = sp.Mul(*coeff, evaluate=False) if len(coeff) > 1 else sp.Mul(*coeff)
+            if not mode or not is_long_in_roots(value, naming):
+                out.append(term)
+                continue
+            name = sp.Symbol(f"{letter}_{k + 1}{j + 1}" if j < 9 and k < 9 else f"{letter}_{k + 1},{j + 1}")
+            self.coefficients.append((name, value))
+            out.append(sp.Mul(name, *mode, evaluate=False))
+        return Terms(*out) if isinstance(shown, Terms) else out[0]
 
 
 def result_forms(solution: Solution, ctx: StepContext) -> ResultForms:
@@ -84,7 +120,35 @@ def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:
             Eq(ctx.state_rows(solution.particular, "p")),
         ])
         out.append(P(f"Its homogeneous part (free response) and particular part (forced response) are written out in Appendix {label}."))
+    derivation = [(sym, value) for value, sym in ctx.cache.get(NAMES_KEY, {}).items()]
+    if forms.coefficients or derivation:
+        blocks: list[Block] = [
+            P("Each long coefficient named on the sheet, exactly, as a polynomial in the real and imaginary parts "
+              "of the indexed eigenvalues (rational content first), then its decimal:")]
+        for group in (forms.coefficients, derivation):
+            if group:
+                blocks.append(Eq(tuple(row for sym, value in group for row in _with_decimal(sym, value, ctx))))
+        label = ctx.to_appendix("Exact coefficients", None, "", blocks)
+        said: list[Any] = []
+        if forms.coefficients:
+            said += ["The coefficients ", Math(forms.coefficients[0][0]), " to ", Math(forms.coefficients[-1][0]),
+                     " of the result (their decimals are on the line below each component)"]
+        if derivation:
+            said += [" and " if said else "The coefficients ", Math(derivation[0][0]), " to ", Math(derivation[-1][0]),
+                     " of the derivation"]
+        out.append(P(*said, " are polynomials in the real and imaginary parts of the indexed eigenvalues, listed exactly "
+                     f"with their decimals in Appendix {label}."))
     return out
+
+
+def _with_decimal(sym: sp.Symbol, value: sp.Expr, ctx: StepContext) -> list[tuple[Name, Any]]:
+    """The row ``sym = value`` and, below it, the row of its decimal."""
+    fmt = ctx.fmt
+    rows: list[tuple[Name, Any]] = [(Name(fmt.m(sym), fmt.plain(sym)), value)]
+    number = decimal_number(ctx.naming.back(value))
+    if number is not None:
+        rows.append((Name("", ""), (r"\approx", number)))
+    return rows
 
 
 def result_record(solution: Solution, ctx: StepContext) -> dict[str, Any]:
@@ -95,4 +159,5 @@ def result_record(solution: Solution, ctx: StepContext) -> dict[str, Any]:
         "x_compact": [fmt.plain(e) for e in forms.exact],
         "x_decimal": [None if d is None else fmt.plain(d) for d in forms.decimal],
         "where": {fmt.plain(sym): str(value) for sym, value in forms.where},
+        "coefficients": {fmt.plain(sym): fmt.plain(value) for sym, value in forms.coefficients},
     }

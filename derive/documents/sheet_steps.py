@@ -23,7 +23,7 @@ from .interval_blocks import shift_blocks, with_decimals
 from . import model_blocks
 from ..render.root_parts import part_legend
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
-from .coefficients import Naming, compact, naming_for, parameter_values, tidy, where_blocks
+from .coefficients import NAMES_KEY, Naming, compact, naming_for, parameter_values, tidy, where_blocks
 from .notation import coordinate_letter, notation_blocks
 
 __all__ = ["StepContext", "STEP_BLOCKS", "step_blocks", "coordinate_letter", "notation_blocks"]
@@ -46,7 +46,7 @@ class StepContext:
     def naming(self) -> Naming:
         """omega, Delta, Gamma for this sheet (see ``derive.documents.coefficients``)."""
         if "naming" not in self.cache:
-            self.cache["naming"] = naming_for(self.solution)
+            self.cache["naming"] = naming_for(self.solution, roots=self.fmt.roots)
         return self.cache["naming"]
 
     def compact(self, obj: Any, var: sp.Symbol | None = None) -> Any:
@@ -62,7 +62,8 @@ class StepContext:
         # every symbol that is not a parameter (y_1, c_1) is part of a mode, not of a coefficient
         params = {p.symbol for p in self.solution.system.params}
         unknowns = frozenset(x for x in obj.free_symbols if x != t and x not in params)
-        return compact(obj, t, self.naming, values=parameter_values(self.solution) or {}, unknowns=unknowns)
+        return compact(obj, t, self.naming, values=parameter_values(self.solution) or {}, unknowns=unknowns,
+                       names=self.cache.setdefault(NAMES_KEY, {}))
 
     def where(self, *objs: Any) -> list[Block]:
         """A "where" line defining each name that ``objs`` use and the derivation has not defined yet."""

@@ -15,7 +15,7 @@ import sympy as sp
 
 from .printing import MathFormatter, RootName
 
-__all__ = ["part_legend", "part_legend_latex"]
+__all__ = ["part_legend", "part_legend_latex", "polynomial_pieces", "TERMS_PER_PIECE"]
 
 
 def part_legend(roots: Sequence[RootName], fmt: MathFormatter, *, lead: str = "") -> list[str | tuple[str, str]]:
@@ -57,18 +57,51 @@ def part_legend(roots: Sequence[RootName], fmt: MathFormatter, *, lead: str = ""
             out += ["A complex pair of eigenvalues is written in real form with the real algebraic numbers "]
             why = [" (integer polynomials found by resultants of the characteristic polynomial)"]
         for k, r in enumerate((sg, om)):
-            poly = r.root.poly.as_expr(z)
             out += [
                 " and " if k else "",
                 (rf"{fmt.m(r.root)} \approx {r.decimal}", f"{fmt.plain(r.root)} ~ {r.decimal}"),
                 ", a root of ",
-                (f"{fmt.m(poly)} = 0", f"{fmt.plain(poly)} = 0"),
+                *polynomial_pieces(r.root.poly.as_expr(z), z, fmt),
             ]
         out += why
         out.append(".")
     return [p for p in ([lead] if out else []) + out if p != ""]
 
 
+#: terms of a legend's polynomial set in one inline formula; a line breaks between two formulas
+TERMS_PER_PIECE = 2
+
+
+def polynomial_pieces(poly: sp.Expr, z: sp.Symbol, fmt: MathFormatter) -> list[str | tuple[str, str]]:
+    """``poly = 0`` as inline formulas of a few terms each, separated by spaces.
+
+    A resultant's polynomial (degree 30, coefficients of 17 digits) set as
+    one inline formula runs past the margin: TeX finds too few breaks in it.
+    Between two formulas the line may break at the space.
+
+    >>> z = sp.Symbol("z")
+    >>> polynomial_pieces(z**2 - 2, z, MathFormatter.for_roots(()))
+    [('z^{2} - 2 = 0', 'z^2 - 2 = 0')]
+    """
+    terms = sp.Poly(poly, z).terms()
+    if len(terms) <= TERMS_PER_PIECE:
+        return [(f"{fmt.m(poly)} = 0", f"{fmt.plain(poly)} = 0")]
+    out: list[str | tuple[str, str]] = []
+    for start in range(0, len(terms), TERMS_PER_PIECE):
+        chunk = sp.Add(*(c * z**m for (m,), c in terms[start:start + TERMS_PER_PIECE]))
+        negative = terms[start][1] < 0
+        # "{}" makes a leading sign binary, spaced as inside the whole polynomial; the chunk prints its own minus
+        lead, plain_lead = ("", "") if start == 0 else ("{} ", "") if negative else ("{} + ", "+ ")
+        end = " = 0" if start + TERMS_PER_PIECE >= len(terms) else ""
+        out += [" " if start else "", (lead + fmt.m(chunk) + end, plain_lead + fmt.plain(chunk) + end)]
+    return [p for p in out if p != ""]
+
+
 def part_legend_latex(roots: Sequence[RootName], fmt: MathFormatter) -> str:
-    """``part_legend`` as one LaTeX sentence."""
-    return "".join(p if isinstance(p, str) else f"${p[0]}$" for p in part_legend(roots, fmt))
+    """``part_legend`` as one LaTeX sentence, ending its paragraph.
+
+    Lines of long integers have little glue to stretch: the paragraph is set
+    sloppily (wider spaces rather than a line past the margin).
+    """
+    text = "".join(p if isinstance(p, str) else f"${p[0]}$" for p in part_legend(roots, fmt))
+    return "{\\sloppy " + text + "\\par}" if text else ""
