@@ -1,15 +1,17 @@
-"""The initial-value check x(t0) = x0 at t0 != 0, settled in a polynomial ring.
+"""The initial-value check x(t0) = x0 at t0 != 0, settled in a ring of rational functions.
 
 At t0 != 0 the result carries the input's modes in t, so x(t0) holds numbers
-such as cos 2, sin 2 and e^{-1/2} (with the parameters, rational functions of
-them).  Expanding and simplifying such an expression costs seconds on a
-symbolic spring-mass-damper; here every cosine and sine of one argument u is
-a pair of generators (C, S) with the one relation C^2 + S^2 = 1, every
-exponential an independent generator, and x(t0) - x0 is reduced to a
-polynomial whose zero test is one pass of sparse arithmetic.
+such as cos 2, sin 2 and e^{-1/2} beside the parameters.  Expanding and
+simplifying such an expression costs seconds on a symbolic spring-mass-damper.
+Here every cosine and sine of one argument is a pair of generators (C, S) with
+the one relation C^2 + S^2 = 1, i a generator with i^2 = -1, every exponential
+an independent generator, and a square root of the parameters a symbol R with
+the radicand solved for one parameter; x(t0) - x0 is then read into a field of
+rational functions by sparse arithmetic and its numerator reduced by the
+relations.
 
-Only a zero polynomial is a verdict: the relations used are true, so a zero
-result proves x(t0) = x0; a nonzero one (a relation not used here, such as
+Only a zero remainder is a verdict: the relations used are true, so zero
+proves x(t0) = x0; anything else (a relation not used here, such as
 cos 4 = 2 cos^2 2 - 1) answers False, "not settled", and the caller goes on to
 the general zero test.  Only the final x(t), t0 and x0 are read.
 """
@@ -19,6 +21,7 @@ from __future__ import annotations
 from typing import Sequence
 
 import sympy as sp
+from sympy.polys.fields import field
 
 __all__ = ["initial_is_zero_at"]
 
@@ -56,18 +59,26 @@ def initial_is_zero_at(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol
                 pairs[u] = (sp.Dummy(f"C{len(pairs)}"), sp.Dummy(f"S{len(pairs)}"))
             C, S = pairs[u]
             hold[a] = C if isinstance(a, sp.cos) else S
-    unit = sp.Dummy("I")
+    # i is a generator u with u^2 + 1 = 0 like each pair (C, S); x(t0) - x0 = N/D is
+    # read into a field of rational functions by its own arithmetic (no expansion
+    # as sympy expressions), and it is zero where N lies in the ideal of the relations
+    unit = sp.Dummy("u")
     relations = [S**2 + C**2 - 1 for C, S in pairs.values()] + [unit**2 + 1]
-    gens = [unit] + [g for pair in pairs.values() for g in pair] + [g for a, g in hold.items() if isinstance(a, sp.exp)]
     for d in diffs:
         held = d.xreplace(hold).xreplace({sp.I: unit})
+        if held == 0:
+            continue
+        first = [g for C, S in pairs.values() for g in (C, S)] + [unit]
+        syms = first + sorted(held.free_symbols - set(first), key=sp.default_sort_key)
         try:
-            poly = sp.Poly(held, *gens)
-            for rel in relations:
-                poly = poly.rem(sp.Poly(rel, *gens))
-        except (sp.PolynomialError, sp.GeneratorsError, sp.CoercionFailed, NotImplementedError):
+            F = field(syms, sp.QQ)[0]
+            value = F.from_expr(held)
+            rels = [F.ring.from_expr(r) for r in relations]
+        except (ValueError, sp.PolynomialError, sp.GeneratorsError, sp.CoercionFailed):
             return False
-        if not poly.is_zero:
+        # the relations have leading terms C^2 and u^2 in distinct generators: the
+        # remainder is unique, zero exactly for a member of the ideal
+        if value.numer.rem(rels) != 0 or value.denom.rem(rels) == 0:
             return False
     return True
 

@@ -347,8 +347,10 @@ def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Exp
     if forced:
         parts.append(tidy(sp.Add(*forced), (), t) if expanded else sp.Add(*forced))
     if free:
-        grouped = sp.Add(*free).xreplace(values)
-        parts.append(_from_tau(tidy(grouped, (), tau) if expanded else grouped, shift))
+        # grouped again with the values in: each coefficient factored by cos w t0, sin w t0 is
+        # shorter, and the residual check of the result in t costs less than on the method's grouping
+        grouped = tidy(sp.Add(*free).xreplace(values), (), tau)
+        parts.append(_from_tau(grouped, shift))
     return sp.Add(*parts)
 
 
