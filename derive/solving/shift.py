@@ -281,16 +281,13 @@ def _rate_key(a: sp.Expr, keys: Sequence[sp.Expr]) -> sp.Expr | None:
 def _from_tau(u: sp.Expr, shift: TimeShift) -> sp.Expr:
     """Arguments in tau as t - t0: r tau + b becomes r (t - t0) + b."""
     tau, t, t0 = shift.tau, shift.t, shift.t0
-    if isinstance(u, (sp.exp, sp.sin, sp.cos)):
-        ab = _linear(u.args[0], tau)
+    rep = {}
+    for a in u.atoms(sp.exp, sp.sin, sp.cos):
+        ab = _linear(a.args[0], tau) if a.has(tau) else None
         if ab is not None and ab[0] != 0:
             r, b = ab
-            return u.func(r * (t - t0) + b)
-    if not u.has(tau):
-        return u
-    if u == tau:
-        return t - t0
-    return u.func(*[_from_tau(arg, shift) for arg in u.args])
+            rep[a] = a.func(r * (t - t0) + b)
+    return u.xreplace(rep).xreplace({tau: t - t0})
 
 
 def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Expr:
@@ -310,10 +307,19 @@ def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Exp
         # no stand-in: no input mode to bring back to t (the free response), the method's grouping stands
         return _from_tau(e, shift)
     groups: dict[tuple[sp.Expr, sp.Expr] | None, list[sp.Expr]] = {}
-    held, back = _held(e)
-    for term in sp.Add.make_args(held):
-        term = term.xreplace(back)
-        groups.setdefault(_mode(term, tau), []).append(term)
+    # the method's grouping is one term per mode: only a term of mixed modes is expanded
+    expanded = False
+    for top in sp.Add.make_args(e):
+        mode = _mode(top, tau)
+        if mode is not None:
+            groups.setdefault(mode, []).append(top)
+            continue
+        expanded = True
+        held, back = _held(top)
+        for term in sp.Add.make_args(held):
+            term = term.xreplace(back)
+            groups.setdefault(_mode(term, tau), []).append(term)
+    at_zero = {v: (_ZERO if v in {S for _, S in trig.values()} else sp.Integer(1)) for v in values}
     forced: list[sp.Expr] = []
     free: list[sp.Expr] = []
     for mode, terms in groups.items():
@@ -321,23 +327,36 @@ def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Exp
         if mode is not None and not _is_eigen(mode, eigenvalues):
             a, w = mode
             if (a == 0 or _rate_key(a, list(rates)) is not None) and (w == 0 or w in trig):
+                if not any(_has_tau_power(term, tau) for term in terms):
+                    # an input mode's part of x does not depend on t0 (it is the particular
+                    # solution's): the stand-ins at their t0 = 0 values (C = 1, S = 0, E = 1) give it
+                    forced.append(sp.Add(*terms).xreplace(at_zero).xreplace({tau: t}))
+                    continue
                 try:
                     candidate = _reduced(sp.Add(*[_in_t(term, shift, trig, rates) for term in terms]), trig)
                 except (sp.PolynomialError, TypeError, KeyError):
                     candidate = None
                 if candidate is not None and not (candidate.free_symbols & set(values)):
                     written = candidate
+                    expanded = True
         if written is None:
             free.extend(terms)
         else:
             forced.append(written)
     parts = []
     if forced:
-        parts.append(tidy(sp.Add(*forced), (), t))
+        parts.append(tidy(sp.Add(*forced), (), t) if expanded else sp.Add(*forced))
     if free:
+        # grouped again with the values in: each coefficient factored by cos w t0, sin w t0 is
+        # shorter, and the residual check of the result in t costs less than on the method's grouping
         grouped = tidy(sp.Add(*free).xreplace(values), (), tau)
         parts.append(_from_tau(grouped, shift))
     return sp.Add(*parts)
+
+
+def _has_tau_power(term: sp.Expr, tau: sp.Symbol) -> bool:
+    """True when a factor of the term is tau or a power of it (an input with a polynomial factor)."""
+    return any(f == tau or (f.is_Pow and f.base == tau) for f in sp.Mul.make_args(term))
 
 
 def _is_eigen(mode: tuple[sp.Expr, sp.Expr], eigenvalues: Sequence[sp.Expr]) -> bool:
@@ -345,7 +364,12 @@ def _is_eigen(mode: tuple[sp.Expr, sp.Expr], eigenvalues: Sequence[sp.Expr]) -> 
     for lam in eigenvalues:
         for z in (a + sp.I * w, a - sp.I * w):
             d = sp.expand(lam - z)
-            if d == 0 or (not d.free_symbols and abs(complex(sp.N(d, 30))) < 1e-25):
+            if d == 0:
+                return True
+            if d.free_symbols or all(p.is_Rational for p in _parts(d)):
+                continue
+            # radicals: equal only if their difference vanishes (to 25 digits)
+            if abs(complex(sp.N(d, 30))) < 1e-25:
                 return True
     return False
 

@@ -27,6 +27,7 @@ import sympy as sp
 import sympy.codegen.ast  # noqa: F401 - lambdify's printers import it on first use: load it with the package
 
 from ..model import System, Verification
+from ..initial_at import initial_is_zero_at
 from ..ringcheck import initial_is_zero, residuals_are_zero
 from ..settings import DEFAULT_SETTINGS, Settings
 from .numeric import NumericSkipped, PieceRecord, numeric_check, numeric_pieces, sample_constants, time_span
@@ -178,6 +179,8 @@ def _initial(system: System, first: PieceRecord, zero, notes: list[str]) -> tupl
     t = system.t
     jump = any(e != 0 for e in first.jump)
     if not jump and system.t0 == 0 and initial_is_zero(list(first.x), list(system.x0), t):
+        return sp.ImmutableMatrix(sp.zeros(n, 1)), True
+    if not jump and system.t0 != 0 and initial_is_zero_at(list(first.x), list(system.x0), t, system.t0):
         return sp.ImmutableMatrix(sp.zeros(n, 1)), True
     diffs = [
         sp.expand(drop_empty_integrals(first.x[i].subs(t, system.t0)) - system.x0[i] - first.jump[i]) for i in range(n)
