@@ -32,7 +32,7 @@ from typing import Iterable, NamedTuple
 import mpmath
 import sympy as sp
 
-from .rootring import atoms_of
+from .rootring import atoms_of, replace_atoms
 
 __all__ = ["PairParts", "pair_parts", "pair_numbering", "as_real_parts", "as_pair_roots", "part_of", "conjugate_roots"]
 
@@ -54,9 +54,10 @@ _PART_OF: dict[sp.Expr, tuple[str, sp.Expr]] = {}
 
 
 @functools.lru_cache(maxsize=1024)
-def _value(r: sp.CRootOf) -> mpmath.mpc:
+def _value(r: sp.Expr) -> mpmath.mpc:
     """The root at 45 digits (Newton refinement from its isolating interval, fast)."""
-    v = r.eval_approx(_DIGITS + 5)
+    # a factor of degree one gives a rational "root" (CRootOf returns the number itself)
+    v = r.eval_approx(_DIGITS + 5) if isinstance(r, sp.CRootOf) else sp.N(r, _DIGITS + 5)
     with mpmath.workdps(_DIGITS + 10):
         return mpmath.mpc(str(sp.re(v)), str(sp.im(v)))
 
@@ -164,7 +165,7 @@ def as_real_parts(e: sp.Expr) -> sp.Expr:
         if parts is not None:
             sign = 1 if r == parts.upper else -1
             rep[r] = parts.sigma + sign * sp.I * parts.omega
-    return e.xreplace(rep) if rep else e
+    return replace_atoms(e, rep)
 
 
 def as_pair_roots(e: sp.Expr) -> sp.Expr:
@@ -185,7 +186,7 @@ def as_pair_roots(e: sp.Expr) -> sp.Expr:
         name, upper = got
         lower = sp.conjugate(upper)
         rep[a] = (upper + lower) / 2 if name == "sigma" else -sp.I * (upper - lower) / 2
-    return e.xreplace(rep) if rep else e
+    return replace_atoms(e, rep)
 
 
 def part_of(root: sp.Expr) -> tuple[str, sp.Expr] | None:
@@ -199,7 +200,7 @@ def conjugate_roots(e: sp.Expr) -> sp.Expr:
     rep: dict[sp.Expr, sp.Expr] = {r: sp.conjugate(r) for r in atoms_of(e, sp.CRootOf) if _is_complex_root(r)}
     if e.has(sp.I):
         rep[sp.I] = -sp.I
-    return e.xreplace(rep) if rep else e
+    return replace_atoms(e, rep)
 
 
 def pair_numbering(

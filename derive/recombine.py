@@ -15,7 +15,7 @@ from typing import Sequence
 import sympy as sp
 
 from .expoly import ExpPoly, conjugate, exponential_groups, split_complex
-from .rootring import atoms_of, collected, expand_number, reduce_number
+from .rootring import atoms_of, collected, contains, expand_number, reduce_number
 from .spectral import EigenBlock
 from .steps import Deferred, InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
@@ -314,7 +314,7 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
         for rate, term in exponential_groups(summed, t, real=real):
             rest.setdefault(rate, []).append(term)
     terms = [term for groups in by_const.values() for ts in groups.values() for term in ts]
-    if any(term.has(sp.exp) for term in terms):
+    if any(contains(term, sp.exp) for term in terms):
         expr = sp.Add(*[c * (p.real_form(t) if real else p.to_expr(t)) for c, p in pairs])
         return tidy(expr, constants, t)
     known = set(constants) | {t}
@@ -326,14 +326,14 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
             coeff = sp.Add(*ts)
             if coeff.has(sp.CRootOf):
                 # expanded in the sparse ring; factor would build and factor root polynomials again
-                coeff = _by_trig(coeff) if coeff.has(sp.sin, sp.cos) else _expanded(coeff)
+                coeff = _by_trig(coeff) if contains(coeff, sp.sin, sp.cos) else _expanded(coeff)
             else:
                 coeff = sp.expand(coeff)
                 if has_params and coeff != 0:
                     coeff = _factor_by_trig(coeff)
             if coeff == 0:
                 continue
-            inner.append(coeff if rate == 0 else sp.exp(sp.factor_terms(rate * t)) * coeff)
+            inner.append(coeff if rate == 0 else sp.exp(_exponent(rate * t)) * coeff)
         out.append(c * sp.Add(*inner))
     return sp.Add(*out)
 
@@ -348,7 +348,7 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
     """
     exps = sorted(atoms_of(e, sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}") for i, x in enumerate(exps)}
-    back = {v: sp.exp(sp.factor_terms(k.args[0])) for k, v in hold.items()}
+    back = {v: sp.exp(_exponent(k.args[0])) for k, v in hold.items()}
     e = sp.expand(e.xreplace(hold))
     placeholders = set(hold.values())
     has_params = bool(e.free_symbols - set(constants) - placeholders - {t})
@@ -428,6 +428,12 @@ def _combination(row: sp.MatrixBase, x0: sp.MatrixBase) -> sp.Expr:
         if fast is not None:
             return fast
     return sp.expand(sum((a * b for a, b in zip(row, x0)), sp.Integer(0)))
+
+
+def _exponent(u: sp.Expr) -> sp.Expr:
+    """The exponent with common factors pulled out (-(t - 1)/2); an indexed rate is left as it
+    stands: factor_terms would walk the root's polynomial for nothing."""
+    return u if u.has(sp.CRootOf) else sp.factor_terms(u)
 
 
 def _expanded(e: sp.Expr) -> sp.Expr:

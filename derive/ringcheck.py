@@ -33,7 +33,7 @@ from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyRing
 
 from .realroots import as_pair_roots
-from .rootring import atoms_of, reduce_number
+from .rootring import atoms_of, reduce_number, replace_atoms
 
 __all__ = ["residual_is_zero", "residuals_are_zero", "initial_is_zero"]
 
@@ -73,7 +73,7 @@ class _Ring:
             if du.has(t):
                 raise _NotInRing("an argument not linear in t")
             rates[g] = (type(a).__name__, as_pair_roots(du), u)
-        self._held = {e: as_pair_roots(e.xreplace(self.hold)) for e in exprs}  # elements() reads the same expressions
+        self._held = {e: as_pair_roots(replace_atoms(e, self.hold)) for e in exprs}  # elements() reads the same expressions
         held = list(self._held.values()) + [du for _, du, _ in rates.values()]
         # algebraic numbers as generators, with their relations
         alg: dict[sp.Expr, sp.Dummy] = {}
@@ -114,9 +114,9 @@ class _Ring:
             if parts and all((b, q) in self.alg for b, q, _ in parts):
                 # b^(k/q) = b^floor(k/q) g^(k mod q): a negative power lands in the domain
                 rep[p] = sp.Mul(*[b ** (k // q) * self.alg[(b, q)] ** (k % q) for b, q, k in parts])
-        e = e.xreplace(rep) if rep else e
+        e = replace_atoms(e, rep)
         rest = {k: v for k, v in self.alg.items() if not isinstance(k, tuple)}
-        return e.xreplace(rest) if rest else e
+        return replace_atoms(e, rest)
 
     def elements(self, exprs: Sequence[sp.Expr]) -> list:
         """The caller's expressions (functions not yet held) as elements of one sparse ring.
@@ -127,7 +127,7 @@ class _Ring:
         held = []
         for e in exprs:
             got = self._held.get(e)
-            held.append(got if got is not None else as_pair_roots(sp.sympify(e, strict=True).xreplace(self.hold)))
+            held.append(got if got is not None else as_pair_roots(replace_atoms(sp.sympify(e, strict=True), self.hold)))
         # g' = sign u' h (h = g for e^u, the partner sine or cosine otherwise): u' is read, the
         # product is taken in the ring (building u' g as an expression first costs more)
         rate_exprs = []
@@ -365,7 +365,9 @@ def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -
                 return False
         return True
 
-    return _in_ring(check, list(x) + list(x0), t) or _initial_by_root_sums(x, x0, t)
+    if any(atoms_of(sp.sympify(e, strict=True), sp.CRootOf) for e in x) and _initial_by_root_sums(x, x0, t):
+        return True
+    return _in_ring(check, list(x) + list(x0), t)
 
 
 def _initial_by_root_sums(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -> bool:
@@ -377,7 +379,7 @@ def _initial_by_root_sums(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Sym
     ring (``derive.rootring``) replaces such sums by their rational values.
     """
     for xi, vi in zip(x, x0):
-        d = as_pair_roots(sp.sympify(xi, strict=True).xreplace({t: sp.Integer(0)})) - vi
+        d = as_pair_roots(replace_atoms(sp.sympify(xi, strict=True), {t: sp.Integer(0)})) - vi
         if d == 0:
             continue
         if not d.has(sp.CRootOf) or reduce_number(d) != 0:

@@ -23,7 +23,7 @@ import sympy as sp
 from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyElement, PolyRing
 
-__all__ = ["RootRing", "atoms_of", "collected", "expand_number", "plainly_nonzero", "real_imag", "reduce_number"]
+__all__ = ["RootRing", "atoms_of", "contains", "replace_atoms", "collected", "expand_number", "plainly_nonzero", "real_imag", "reduce_number"]
 
 
 #: the degree bound of a generator without a relation
@@ -258,6 +258,49 @@ def atoms_of(e: sp.Basic, *types: type) -> set:
     return out
 
 
+def contains(e: sp.Basic, *types: type) -> bool:
+    """e.has(*types) for types of atoms and functions, without entering an indexed root (see ``atoms_of``).
+
+    >>> x = sp.Symbol("x"); contains(sp.CRootOf(x**3 - x - 1, 0) * sp.exp(x), sp.exp)
+    True
+    """
+    stack = [e]
+    while stack:
+        a = stack.pop()
+        if isinstance(a, types):
+            return True
+        if not isinstance(a, sp.CRootOf):
+            stack.extend(a.args)
+    return False
+
+
+def replace_atoms(e: sp.Basic, rule: dict) -> sp.Basic:
+    """e.xreplace(rule) without entering an indexed root (see ``atoms_of``); a root itself may be a key.
+
+    >>> x = sp.Symbol("x"); r = sp.CRootOf(x**3 - x - 1, 0)
+    >>> replace_atoms(r * x + 1, {x: 2})
+    2*CRootOf(x**3 - x - 1, 0) + 1
+    """
+    if not rule:
+        return e
+    memo: dict = {}
+
+    def walk(a: sp.Basic) -> sp.Basic:
+        got = rule.get(a)
+        if got is not None:
+            return got
+        if isinstance(a, sp.CRootOf) or not a.args:
+            return a
+        got = memo.get(a)
+        if got is None:
+            args = [walk(b) for b in a.args]
+            got = a.func(*args) if any(x is not y for x, y in zip(args, a.args)) else a
+            memo[a] = got
+        return got
+
+    return walk(e)
+
+
 def plainly_nonzero(e: sp.Expr) -> bool:
     """True when a number in i and indexed roots is nonzero by degree: its normal form is a
     nonzero element of Q(i), or c0 + c1 r with c1 != 0 and r of degree 3 or more (not in Q(i)).
@@ -285,9 +328,10 @@ def plainly_nonzero(e: sp.Expr) -> bool:
     return ring.degrees[k] >= 3 and max(mono[k] for mono in p.keys()) == 1
 
 
-def _scan(e: sp.Expr, roots: set, free: set) -> None:
+def _scan(e: sp.Expr, roots: set, free: set, *, numbers: bool = False) -> None:
     """The indexed roots and the other generators of a sum of products (never a root's own args,
-    which sympy rebuilds as an expression on every read)."""
+    which sympy rebuilds as an expression on every read).  With ``numbers``, exponentials and
+    constants such as e and pi are generators too (numbers held as they stand)."""
     stack = [e]
     seen: set = set()
     while stack:
@@ -301,10 +345,15 @@ def _scan(e: sp.Expr, roots: set, free: set) -> None:
             continue
         elif a.is_Add or a.is_Mul or (a.is_Pow and a.exp.is_Integer):
             stack.extend(a.args if not a.is_Pow else (a.base,))
-        elif isinstance(a, (sp.Symbol, sp.sin, sp.cos)):
+        elif isinstance(a, (sp.Symbol, sp.sin, sp.cos)) or (numbers and (_plain_exp(a) or a.is_NumberSymbol)):
             free.add(a)
         else:
             raise _Outside(str(a))
+
+
+def _plain_exp(a: sp.Expr) -> bool:
+    """e^u with u not a sum: sp.expand would split e^(a + b) into e^a e^b, and the forms must agree."""
+    return isinstance(a, sp.exp) and not a.args[0].is_Add
 
 
 @functools.lru_cache(maxsize=64)
@@ -321,8 +370,9 @@ def reduce_number(e: sp.Expr) -> sp.Expr | None:
 
     Powers of each root are reduced below the degree of its polynomial, a
     denominator in one root is cleared, and a sum over all roots of one
-    polynomial becomes its rational value.  None when the expression holds
-    anything else (a radical, pi, a symbol) or a denominator in two roots.
+    polynomial becomes its rational value.  Exponentials, sines and cosines of
+    numbers (and e, pi) are held as generators.  None when the expression holds
+    anything else (a radical, a symbol) or a denominator in two roots.
 
     >>> x = sp.Symbol("x"); r = sp.CRootOf(x**3 - x - 1, 0)
     >>> reduce_number(r**3 - r)
@@ -331,10 +381,11 @@ def reduce_number(e: sp.Expr) -> sp.Expr | None:
     roots: set = set()
     free: set = set()
     try:
-        _scan(e, roots, free)
-        if not roots or free:
+        # e^(r t0), cos(omega t0) of an initial state at t0 != 0 are held as generators
+        _scan(e, roots, free, numbers=True)
+        if not roots or any(a.free_symbols for a in free):
             return None
-        ring = _ring(_sorted(roots))
+        ring = _ring(_sorted(roots), _sorted(free))
         p = ring.element(e)
     except (_Outside, ZeroDivisionError):
         return None
@@ -358,6 +409,15 @@ def expand_number(e: sp.Expr) -> sp.Expr | None:
         return None
 
 
+def _real_number(a: sp.Expr) -> bool:
+    """e, pi, or e^u, cos u, sin u of a real u in rationals and real indexed roots."""
+    if a.is_NumberSymbol:
+        return True
+    if a.free_symbols or not isinstance(a, (sp.exp, sp.sin, sp.cos)):
+        return False
+    return not contains(a.args[0], type(sp.I)) and all(r.is_real for r in atoms_of(a.args[0], sp.CRootOf))
+
+
 def real_imag(e: sp.Expr, parts_of: Callable[[sp.Expr], tuple | None]) -> tuple[sp.Expr, sp.Expr] | None:
     """(Re e, Im e), expanded, for a polynomial in i and indexed roots, or None.
 
@@ -367,11 +427,12 @@ def real_imag(e: sp.Expr, parts_of: Callable[[sp.Expr], tuple | None]) -> tuple[
     roots: set = set()
     free: set = set()
     try:
-        _scan(e, roots, free)
-        if free:
+        # e^(sigma t0), cos(omega t0): real numbers held as generators (a state handed across a switch)
+        _scan(e, roots, free, numbers=True)
+        if not all(_real_number(a) for a in free):
             return None
         parts = {r: parts_of(r) for r in roots}  # LookupError: a complex root without parts
-        gens = {r for r, got in parts.items() if got is None}
+        gens = {r for r, got in parts.items() if got is None} | free
         for got in parts.values():
             if got is not None:
                 gens |= {a for a in got[:2] if not a.is_Rational}

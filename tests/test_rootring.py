@@ -91,3 +91,16 @@ def test_plainly_nonzero_by_degree() -> None:
     assert plainly_nonzero(sp.Rational(1, 3) + sp.I)
     assert not plainly_nonzero(r**5 + 4 * r**4 + 10 * r**3 + 14 * r**2 + 13 * r + 7)  # zero
     assert not plainly_nonzero(r**2 - r)  # not settled by degree alone
+
+
+def test_real_parts_hold_real_exponentials_and_reject_complex_ones() -> None:
+    r = sp.CRootOf(CUBIC, 1)  # complex
+    s = sp.CRootOf(CUBIC, 0)  # real
+    sg, om = sp.Symbol("sigma", real=True), sp.Symbol("omega", real=True)
+    parts = lambda root: (sg, om, 1) if root == r else None  # noqa: E731
+    got = real_imag(sp.exp(s) * sp.cos(s) * (r + sp.I), parts)
+    assert got is not None
+    assert sp.expand(got[0] - sp.exp(s) * sp.cos(s) * sg) == 0
+    assert sp.expand(got[1] - sp.exp(s) * sp.cos(s) * (om + 1)) == 0
+    assert real_imag(sp.exp(r) * 2, parts) is None  # e^r with r complex is not a real generator
+    assert real_imag(sp.exp(sp.I * s), parts) is None
