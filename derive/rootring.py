@@ -278,8 +278,8 @@ def replace_atoms(e: sp.Basic, rule: dict) -> sp.Basic:
     """e.xreplace(rule) without entering an indexed root (see ``atoms_of``); a root itself may be a key.
 
     >>> x = sp.Symbol("x"); r = sp.CRootOf(x**3 - x - 1, 0)
-    >>> replace_atoms(r * x + 1, {x: 2})
-    2*CRootOf(x**3 - x - 1, 0) + 1
+    >>> replace_atoms(r * x + 1, {x: 2}) == 2 * r + 1
+    True
     """
     if not rule:
         return e
