@@ -28,7 +28,8 @@ import sympy as sp
 from sympy.polys.fields import sfield
 from sympy.polys.polyerrors import BasePolynomialError
 
-from .realroots import as_real_parts, conjugate_roots
+from .realroots import as_real_parts, conjugate_roots, pair_parts
+from .rootring import atoms_of, plainly_nonzero, real_imag, reduce_number
 
 __all__ = [
     "ExpPoly",
@@ -46,7 +47,7 @@ def _exponent_key(gamma: sp.Expr) -> tuple:
     """A sort key for an exponent.  sympy's key of a sum holding an indexed
     root evaluates the root, refining its interval every time; a named stand-in
     per root gives a key as deterministic at no cost."""
-    roots = gamma.atoms(sp.CRootOf)
+    roots = atoms_of(gamma, sp.CRootOf)
     if roots:
         gamma = gamma.xreplace({r: sp.Symbol(f"root[{r.poly.as_expr()}, {r.index}]") for r in roots})
     return sp.default_sort_key(gamma)
@@ -263,16 +264,30 @@ def split_complex(z: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
     A complex indexed root is written sigma + i omega first (``realroots``), so
     the parts are polynomials in named real algebraic numbers.
     """
+    if z.has(sp.CRootOf):
+        fast = real_imag(z, _root_parts)
+        if fast is not None:
+            return fast
     z = sp.expand(z)
     if z.has(sp.CRootOf):
         z = sp.expand(as_real_parts(z))
-        if all(r.is_real for r in z.atoms(sp.CRootOf)):  # else sympy's re() and im() below
+        if all(r.is_real for r in atoms_of(z, sp.CRootOf)):  # else sympy's re() and im() below
             im = z.coeff(sp.I)
             return sp.expand(z - sp.I * im), sp.expand(im)
     if z.is_real:
         return z, sp.Integer(0)
     re, im = z.as_real_imag()
     return sp.expand(re), sp.expand(im)
+
+
+def _root_parts(r: sp.Expr) -> tuple[sp.Expr, sp.Expr, int] | None:
+    """(sigma, omega, +-1) with r = sigma +- i omega for a complex indexed root; None for a real one."""
+    pp = pair_parts(r) if isinstance(r, sp.CRootOf) and r.is_real is False else None
+    if pp is None:
+        if isinstance(r, sp.CRootOf) and r.is_real is False:
+            raise LookupError("a complex root without real parts")  # pragma: no cover - the general route decides
+        return None
+    return pp.sigma, pp.omega, 1 if r == pp.upper else -1
 
 
 def norm_coeff(c: sp.Expr) -> sp.Expr:
@@ -287,9 +302,12 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
     if c.is_Rational or c == 0:
         return c
     if not c.free_symbols:
+        if c.has(sp.CRootOf):
+            fast = reduce_number(c)  # read once into Q[i, roots]/(relations), no expression algebra
+            if fast is not None:
+                return fast
+            return symmetric_reduce(reduce_roots(sp.expand(c)))
         e = sp.expand(c)
-        if e.has(sp.CRootOf):
-            return symmetric_reduce(reduce_roots(e))
         if any(p.exp.is_negative and not p.base.is_Rational for p in e.atoms(sp.Pow)):
             e = sp.expand(sp.radsimp(e))
         return e
@@ -302,7 +320,7 @@ def norm_coeff(c: sp.Expr) -> sp.Expr:
 
 def reduce_roots(e: sp.Expr) -> sp.Expr:
     """Reduce powers of an indexed root r of q modulo q(r) = 0 (degree < deg q)."""
-    roots = sorted(e.atoms(sp.CRootOf), key=sp.default_sort_key)
+    roots = sorted(atoms_of(e, sp.CRootOf), key=sp.default_sort_key)
     fast = _reduce_rational(e, roots) if roots else None
     if fast is not None:
         return fast
@@ -368,7 +386,7 @@ def symmetric_reduce(e: sp.Expr) -> sp.Expr:
     sums p_k = trace(C^k) of the companion matrix C of q.
     """
     by_poly: dict = {}
-    for r in e.atoms(sp.CRootOf):
+    for r in atoms_of(e, sp.CRootOf):
         by_poly.setdefault(r.poly, set()).add(r)
     for poly, roots in by_poly.items():
         d = poly.degree()
@@ -577,7 +595,9 @@ def integrate_against(h: ExpPoly, lam: sp.Expr, *, is_zero: ZeroTest) -> Integra
     assumed: list[sp.Expr] = []
     for (k, gamma), c in h.terms:
         beta = sp.expand(gamma - lam)
-        if is_zero(beta):
+        # an indexed root of degree 3 or more minus a number in Q(i) is never zero; is_zero
+        # would ask sympy's assumptions, which refine the root's interval again and again
+        if not (beta.has(sp.CRootOf) and plainly_nonzero(beta)) and is_zero(beta):
             resonant = True
             key = (k + 1, sp.Integer(0))
             out[key] = out.get(key, sp.Integer(0)) + c / (k + 1)

@@ -32,6 +32,8 @@ from typing import Iterable, NamedTuple
 import mpmath
 import sympy as sp
 
+from .rootring import atoms_of, replace_atoms
+
 __all__ = ["PairParts", "pair_parts", "pair_numbering", "as_real_parts", "as_pair_roots", "part_of", "conjugate_roots"]
 
 #: digits of the numeric match that picks a factor and a real root
@@ -52,9 +54,10 @@ _PART_OF: dict[sp.Expr, tuple[str, sp.Expr]] = {}
 
 
 @functools.lru_cache(maxsize=1024)
-def _value(r: sp.CRootOf) -> mpmath.mpc:
+def _value(r: sp.Expr) -> mpmath.mpc:
     """The root at 45 digits (Newton refinement from its isolating interval, fast)."""
-    v = r.eval_approx(_DIGITS + 5)
+    # a factor of degree one gives a rational "root" (CRootOf returns the number itself)
+    v = r.eval_approx(_DIGITS + 5) if isinstance(r, sp.CRootOf) else sp.N(r, _DIGITS + 5)
     with mpmath.workdps(_DIGITS + 10):
         return mpmath.mpc(str(sp.re(v)), str(sp.im(v)))
 
@@ -82,15 +85,9 @@ def pair_parts(r: sp.CRootOf) -> PairParts | None:
     v = _value(r)
     upper = r if mpmath.im(v) > 0 else conj
     vu = _value(upper)
-    x, s = sp.Dummy("x"), sp.Symbol("z")
-    q = r.poly.as_expr(x)
-    n = sp.degree(q, x)
-    pair_sums = sp.resultant(q, q.subs(x, s - x), x)
-    sigma = _matching_root(sp.expand(pair_sums.subs(s, 2 * s)), s, mpmath.re(vu))
-    differences = sp.Poly(sp.resultant(q, q.subs(x, x + s), x), s)
-    # drop d^n (the n differences r_i - r_i), then d = 2 i w: real because even in d
-    reduced = sp.Poly.from_list(differences.all_coeffs()[: -n], s) if n else differences
-    omega = _matching_root(sp.expand(reduced.as_expr().subs(s, 2 * sp.I * s)), s, mpmath.im(vu))
+    sums, differences = _part_factors(r.poly)
+    sigma = _matching_root(sums, mpmath.re(vu))
+    omega = _matching_root(differences, mpmath.im(vu))
     if sigma is None or omega is None:
         return None
     for name, part in (("sigma", sigma), ("omega", omega)):
@@ -99,26 +96,47 @@ def pair_parts(r: sp.CRootOf) -> PairParts | None:
     return PairParts(sigma, omega, upper)
 
 
-def _matching_root(poly: sp.Expr, s: sp.Symbol, target: mpmath.mpf) -> sp.Expr | None:
-    """The real root of ``poly`` (over Q) equal to ``target``: the factor that vanishes
+@functools.lru_cache(maxsize=64)
+def _part_factors(q: sp.Poly) -> tuple[tuple[sp.Poly, ...], tuple[sp.Poly, ...]]:
+    """The irreducible factors over Q of the polynomials of sigma and of omega, for every pair of q.
+
+    They depend on q alone, so the resultants are formed and factored once for all its pairs.
+    """
+    x, s = sp.Dummy("x"), sp.Symbol("z")
+    qx = q.as_expr(x)
+    n = sp.degree(qx, x)
+    pair_sums = sp.resultant(qx, qx.subs(x, s - x), x)
+    differences = sp.Poly(sp.resultant(qx, qx.subs(x, x + s), x), s)
+    # drop d^n (the n differences r_i - r_i), then d = 2 i w: real because even in d
+    reduced = sp.Poly.from_list(differences.all_coeffs()[: -n], s) if n else differences
+    out = []
+    for poly in (sp.expand(pair_sums.subs(s, 2 * s)), sp.expand(reduced.as_expr().subs(s, 2 * sp.I * s))):
+        if poly.has(sp.I):  # pragma: no cover - the polynomial is real by construction
+            out.append(())
+            continue
+        _, factors = sp.factor_list(poly, s)
+        out.append(tuple(sp.Poly(f, s) for f, _m in factors if sp.Poly(f, s).degree() >= 1))
+    return out[0], out[1]
+
+
+@functools.lru_cache(maxsize=256)
+def _real_roots(fp: sp.Poly) -> tuple[sp.Expr, ...]:
+    """The real roots of an irreducible factor, indexed (each made once: CRootOf factors its polynomial)."""
+    return tuple(sp.CRootOf(fp, k) for k in range(fp.count_roots()))
+
+
+def _matching_root(factors: tuple[sp.Poly, ...], target: mpmath.mpf) -> sp.Expr | None:
+    """The real root of one of ``factors`` (over Q) equal to ``target``: the factor that vanishes
     there, and the real root of it nearest, checked well apart from the next one."""
-    poly = sp.expand(poly)
-    if poly.has(sp.I):  # pragma: no cover - the polynomial is real by construction
-        return None
     best: tuple[mpmath.mpf, sp.Expr] | None = None
     second = mpmath.inf
-    _, factors = sp.factor_list(poly, s)
     with mpmath.workdps(_DIGITS + 10):
-        for f, _m in factors:
-            fp = sp.Poly(f, s)
-            if fp.degree() < 1:
-                continue
+        for fp in factors:
             coeffs = [mpmath.mpf(int(c.p)) / int(c.q) for c in fp.all_coeffs()]
             scale = sum(abs(c) for c in coeffs) * max(1, abs(target)) ** fp.degree()
             if abs(mpmath.polyval(coeffs, target)) > scale * mpmath.mpf(10) ** (-_DIGITS // 2):
                 continue
-            for k in range(fp.count_roots()):
-                root = sp.CRootOf(fp, k)
+            for root in _real_roots(fp):
                 gap = abs(mpmath.re(_value(root)) - target)
                 if best is None or gap < best[0]:
                     if best is not None:
@@ -142,12 +160,12 @@ def as_real_parts(e: sp.Expr) -> sp.Expr:
     True
     """
     rep = {}
-    for r in e.atoms(sp.CRootOf):
+    for r in atoms_of(e, sp.CRootOf):
         parts = pair_parts(r) if _is_complex_root(r) else None
         if parts is not None:
             sign = 1 if r == parts.upper else -1
             rep[r] = parts.sigma + sign * sp.I * parts.omega
-    return e.xreplace(rep) if rep else e
+    return replace_atoms(e, rep)
 
 
 def as_pair_roots(e: sp.Expr) -> sp.Expr:
@@ -161,14 +179,14 @@ def as_pair_roots(e: sp.Expr) -> sp.Expr:
     if not isinstance(e, sp.Basic) or not _PART_OF:
         return e
     rep = {}
-    for a in e.atoms(sp.CRootOf):
+    for a in atoms_of(e, sp.CRootOf):
         got = _PART_OF.get(a)
         if got is None:
             continue
         name, upper = got
         lower = sp.conjugate(upper)
         rep[a] = (upper + lower) / 2 if name == "sigma" else -sp.I * (upper - lower) / 2
-    return e.xreplace(rep) if rep else e
+    return replace_atoms(e, rep)
 
 
 def part_of(root: sp.Expr) -> tuple[str, sp.Expr] | None:
@@ -179,10 +197,10 @@ def part_of(root: sp.Expr) -> tuple[str, sp.Expr] | None:
 def conjugate_roots(e: sp.Expr) -> sp.Expr:
     """The complex conjugate of an expression in rational numbers, i and indexed roots
     (and real symbols): each complex root becomes its partner, i becomes -i."""
-    rep: dict[sp.Expr, sp.Expr] = {r: sp.conjugate(r) for r in e.atoms(sp.CRootOf) if _is_complex_root(r)}
+    rep: dict[sp.Expr, sp.Expr] = {r: sp.conjugate(r) for r in atoms_of(e, sp.CRootOf) if _is_complex_root(r)}
     if e.has(sp.I):
         rep[sp.I] = -sp.I
-    return e.xreplace(rep) if rep else e
+    return replace_atoms(e, rep)
 
 
 def pair_numbering(

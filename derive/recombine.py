@@ -15,6 +15,7 @@ from typing import Sequence
 import sympy as sp
 
 from .expoly import ExpPoly, conjugate, exponential_groups, split_complex
+from .rootring import atoms_of, collected, contains, expand_number, reduce_number
 from .spectral import EigenBlock
 from .steps import Deferred, InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
@@ -181,7 +182,7 @@ def recombine(
 
     values: dict[sp.Symbol, sp.Expr] = {}
     if x0 is not None:
-        cvals = [sp.expand(sum((P_inv[i, j] * x0[j] for j in range(n)), sp.Integer(0))) for i in range(n)]
+        cvals = [_combination(P_inv.row(i), x0) for i in range(n)]
         cvals = [v if not v.free_symbols else sp.factor(v) for v in cvals]
         values = dict(zip(constants, cvals))
         steps.append(
@@ -313,7 +314,7 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
         for rate, term in exponential_groups(summed, t, real=real):
             rest.setdefault(rate, []).append(term)
     terms = [term for groups in by_const.values() for ts in groups.values() for term in ts]
-    if any(term.has(sp.exp) for term in terms):
+    if any(contains(term, sp.exp) for term in terms):
         expr = sp.Add(*[c * (p.real_form(t) if real else p.to_expr(t)) for c, p in pairs])
         return tidy(expr, constants, t)
     known = set(constants) | {t}
@@ -322,14 +323,17 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
     for c, groups in by_const.items():
         inner = []
         for rate, ts in groups.items():
-            coeff = sp.expand(sp.Add(*ts))
+            coeff = sp.Add(*ts)
+            if coeff.has(sp.CRootOf):
+                # expanded in the sparse ring; factor would build and factor root polynomials again
+                coeff = _by_trig(coeff) if contains(coeff, sp.sin, sp.cos) else _expanded(coeff)
+            else:
+                coeff = sp.expand(coeff)
+                if has_params and coeff != 0:
+                    coeff = _factor_by_trig(coeff)
             if coeff == 0:
                 continue
-            if coeff.has(sp.CRootOf):  # factor would build and factor root polynomials again
-                coeff = _by_trig(coeff)
-            elif has_params:
-                coeff = _factor_by_trig(coeff)
-            inner.append(coeff if rate == 0 else sp.exp(sp.factor_terms(rate * t)) * coeff)
+            inner.append(coeff if rate == 0 else sp.exp(_exponent(rate * t)) * coeff)
         out.append(c * sp.Add(*inner))
     return sp.Add(*out)
 
@@ -342,9 +346,9 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
     as placeholders while expanding: left alone, expand and collect rewrite
     e^{-t/2} as 1/sqrt(e^t) and pull e^{-k t} into denominators.
     """
-    exps = sorted(e.atoms(sp.exp), key=sp.default_sort_key)
+    exps = sorted(atoms_of(e, sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}") for i, x in enumerate(exps)}
-    back = {v: sp.exp(sp.factor_terms(k.args[0])) for k, v in hold.items()}
+    back = {v: sp.exp(_exponent(k.args[0])) for k, v in hold.items()}
     e = sp.expand(e.xreplace(hold))
     placeholders = set(hold.values())
     has_params = bool(e.free_symbols - set(constants) - placeholders - {t})
@@ -394,7 +398,7 @@ def restore_roots(e: sp.Expr, aux: dict, constants: Sequence[sp.Symbol], t: sp.S
 
 def _factor_by_trig(coeff: sp.Expr) -> sp.Expr:
     """Factor the coefficient of each cos/sin separately: A cos wt + B sin wt, not one fraction."""
-    trig = sorted(coeff.atoms(sp.sin, sp.cos), key=sp.default_sort_key)
+    trig = sorted(atoms_of(coeff, sp.sin, sp.cos), key=sp.default_sort_key)
     if not trig:
         return sp.factor(coeff)
     parts = sp.collect(sp.expand(coeff), trig, evaluate=False)
@@ -407,11 +411,35 @@ def _by_trig(coeff: sp.Expr) -> sp.Expr:
     Nothing is factored: a factor of a polynomial in sigma and omega is not
     shorter, and the numbers are read term by term against the legend.
     """
-    trig = sorted(coeff.atoms(sp.sin, sp.cos), key=sp.default_sort_key)
+    trig = sorted(atoms_of(coeff, sp.sin, sp.cos), key=sp.default_sort_key)
     if not trig:
         return coeff
+    fast = collected(coeff, trig)  # in a sparse ring: sympy's expand rereads every root's polynomial
+    if fast is not None:
+        return sp.Add(*[cf * tr for tr, cf in fast])
     parts = sp.collect(sp.expand(coeff), trig, evaluate=False)
     return sp.Add(*[sp.expand(cf) * tr for tr, cf in parts.items()])
+
+
+def _combination(row: sp.MatrixBase, x0: sp.MatrixBase) -> sp.Expr:
+    """sum_j row_j x0_j, expanded; with indexed roots and numbers only, reduced in their ring."""
+    if not x0.free_symbols and any(e.has(sp.CRootOf) for e in row):
+        fast = reduce_number(sp.Add(*[sp.Mul(a, b, evaluate=False) for a, b in zip(row, x0) if a != 0 and b != 0]))
+        if fast is not None:
+            return fast
+    return sp.expand(sum((a * b for a, b in zip(row, x0)), sp.Integer(0)))
+
+
+def _exponent(u: sp.Expr) -> sp.Expr:
+    """The exponent with common factors pulled out (-(t - 1)/2); an indexed rate is left as it
+    stands: factor_terms would walk the root's polynomial for nothing."""
+    return u if u.has(sp.CRootOf) else sp.factor_terms(u)
+
+
+def _expanded(e: sp.Expr) -> sp.Expr:
+    """sp.expand, through the sparse ring where it reads the expression."""
+    fast = expand_number(e)
+    return sp.expand(e) if fast is None else fast
 
 
 def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:

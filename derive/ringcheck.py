@@ -33,6 +33,7 @@ from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyRing
 
 from .realroots import as_pair_roots
+from .rootring import atoms_of, reduce_number, replace_atoms
 
 __all__ = ["residual_is_zero", "residuals_are_zero", "initial_is_zero"]
 
@@ -53,7 +54,7 @@ class _Ring:
         exprs = [sp.sympify(e, strict=True) for e in exprs]
         funcs = set()
         for e in exprs:
-            funcs |= e.atoms(sp.exp, sp.sin, sp.cos)
+            funcs |= atoms_of(e, sp.exp, sp.sin, sp.cos)
         # the derivative of cos u is in sin u: both are generators
         funcs |= {sp.sin(a.args[0]) for a in funcs if isinstance(a, sp.cos)}
         funcs |= {sp.cos(a.args[0]) for a in funcs if isinstance(a, sp.sin)}
@@ -72,14 +73,14 @@ class _Ring:
             if du.has(t):
                 raise _NotInRing("an argument not linear in t")
             rates[g] = (type(a).__name__, as_pair_roots(du), u)
-        self._held = {e: as_pair_roots(e.xreplace(self.hold)) for e in exprs}  # elements() reads the same expressions
+        self._held = {e: as_pair_roots(replace_atoms(e, self.hold)) for e in exprs}  # elements() reads the same expressions
         held = list(self._held.values()) + [du for _, du, _ in rates.values()]
         # algebraic numbers as generators, with their relations
         alg: dict[sp.Expr, sp.Dummy] = {}
         # (generator, relation expression in it that vanishes)
         self.relations: list[tuple[sp.Dummy, sp.Expr]] = []
         for e in held:
-            for p in e.atoms(sp.Pow):
+            for p in atoms_of(e, sp.Pow):
                 if p.base.has(t) or p.base.free_symbols & set(self.hold.values()):
                     continue
                 for base, q, _ in _radical_parts(p):
@@ -89,7 +90,7 @@ class _Ring:
             if e.has(sp.I) and sp.I not in alg:
                 alg[sp.I] = sp.Dummy("I")
                 self.relations.append((alg[sp.I], alg[sp.I] ** 2 + 1))
-            for r in e.atoms(sp.CRootOf):
+            for r in atoms_of(e, sp.CRootOf):
                 if r not in alg:
                     alg[r] = sp.Dummy(f"Q{len(alg)}")
                     self.relations.append((alg[r], r.poly.as_expr().subs(r.poly.gen, alg[r])))
@@ -108,14 +109,14 @@ class _Ring:
         # a^(p/q) as (a^(1/q))^p, so every algebraic number is a power of a generator
         e = sp.sympify(e, strict=True)
         rep = {}
-        for p in e.atoms(sp.Pow):
+        for p in atoms_of(e, sp.Pow):
             parts = _radical_parts(p)
             if parts and all((b, q) in self.alg for b, q, _ in parts):
                 # b^(k/q) = b^floor(k/q) g^(k mod q): a negative power lands in the domain
                 rep[p] = sp.Mul(*[b ** (k // q) * self.alg[(b, q)] ** (k % q) for b, q, k in parts])
-        e = e.xreplace(rep) if rep else e
+        e = replace_atoms(e, rep)
         rest = {k: v for k, v in self.alg.items() if not isinstance(k, tuple)}
-        return e.xreplace(rest) if rest else e
+        return replace_atoms(e, rest)
 
     def elements(self, exprs: Sequence[sp.Expr]) -> list:
         """The caller's expressions (functions not yet held) as elements of one sparse ring.
@@ -126,7 +127,7 @@ class _Ring:
         held = []
         for e in exprs:
             got = self._held.get(e)
-            held.append(got if got is not None else as_pair_roots(sp.sympify(e, strict=True).xreplace(self.hold)))
+            held.append(got if got is not None else as_pair_roots(replace_atoms(sp.sympify(e, strict=True), self.hold)))
         # g' = sign u' h (h = g for e^u, the partner sine or cosine otherwise): u' is read, the
         # product is taken in the ring (building u' g as an expression first costs more)
         rate_exprs = []
@@ -364,4 +365,23 @@ def initial_is_zero(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -
                 return False
         return True
 
+    if any(atoms_of(sp.sympify(e, strict=True), sp.CRootOf) for e in x) and _initial_by_root_sums(x, x0, t):
+        return True
     return _in_ring(check, list(x) + list(x0), t)
+
+
+def _initial_by_root_sums(x: Sequence[sp.Expr], x0: Sequence[sp.Expr], t: sp.Symbol) -> bool:
+    """x(0) = x0 for numbers in indexed roots, where the ring above leaves a sum over all roots.
+
+    x(0) sums the modes, so it is a sum h(r_1) + ... + h(r_d) over every root of
+    a factor, which equals x0 only through the relations between the roots
+    (their power sums), not through each root's polynomial alone; the root
+    ring (``derive.rootring``) replaces such sums by their rational values.
+    """
+    for xi, vi in zip(x, x0):
+        d = as_pair_roots(replace_atoms(sp.sympify(xi, strict=True), {t: sp.Integer(0)})) - vi
+        if d == 0:
+            continue
+        if not d.has(sp.CRootOf) or reduce_number(d) != 0:
+            return False
+    return True

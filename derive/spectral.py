@@ -59,6 +59,7 @@ from .eigenvalues import (
 from .errors import DeriveError, UnsupportedError, VerificationError
 from .exact import numeric_function
 from .model import Condition
+from .rootring import expand_number, replace_atoms
 from .settings import DEFAULT_SETTINGS, Settings
 from .steps import (
     ChainLink,
@@ -177,7 +178,9 @@ def _instantiate(expr: sp.Expr, root: sp.Expr, gen: sp.Symbol | None) -> sp.Expr
     """A polynomial in the generic root, evaluated at one concrete root."""
     if gen is None:
         return expr
-    return sp.expand(expr.xreplace({gen: root}))
+    e = replace_atoms(expr, {gen: root})
+    fast = expand_number(e) if isinstance(root, sp.CRootOf) else None  # sympy's expand rereads the root
+    return sp.expand(e) if fast is None else fast
 
 
 # ---------------------------------------------------------------------------

@@ -40,7 +40,7 @@ def stability(eigenvalues: Sequence[sp.Expr], values: Mapping[sp.Symbol, sp.Expr
     """
     basis = "exact"
     for lam in dict.fromkeys(eigenvalues):
-        re = split_complex(lam)[0] if not lam.has(sp.CRootOf) else sp.re(lam)
+        re = split_complex(lam)[0]  # an indexed root: its sigma, a real root whose sign is read exactly
         negative = re.is_negative
         if negative is True:
             continue
