@@ -33,7 +33,7 @@ import sympy as sp
 
 from ..model import Solution
 from ..rootring import atoms_of, replace_atoms
-from .evaluation import approx, decided_sign, numeric_series
+from .evaluation import approx, decided_sign, numeric_series, with_root_values
 from .records import Mode, Samples, StateReading
 
 __all__ = ["final_value", "state_readings", "sample_solution"]
@@ -110,6 +110,8 @@ class _Curve:
     """One state's closed form on [t0, end], sampled piece by piece between the switch times."""
 
     def __init__(self, x: sp.Expr, t: sp.Symbol, t0: float, breaks: Sequence[float], step: float) -> None:
+        # the rate differentiated with the roots' decimals in (sympy's diff opens every indexed root)
+        x = with_root_values(x)
         self.fn: Callable[[np.ndarray], np.ndarray] = numeric_series([x, sp.diff(x, t)], t)
         self.t0 = t0
         self.breaks = [b for b in breaks if b > t0]
