@@ -28,6 +28,7 @@ import sympy as sp
 
 from ..exact import root_value
 from ..model import Solution
+from ..rootring import atoms_of, contains, replace_atoms
 from ..reading.sinusoid import sinusoidal_input
 from ..render.printing import MathFormatter, RootName, Terms
 from .blocks import Block, Eq, Name, P
@@ -125,7 +126,7 @@ def _names_in(solution: Solution, xs: Sequence[Any]) -> frozenset[str]:
 
 
 def _numeric_rate(expr: sp.Expr) -> bool:
-    return expr.is_number and not expr.has(sp.CRootOf)
+    return expr.is_number and not contains(expr, sp.CRootOf)
 
 
 def root_stand_ins(roots: Sequence[RootName]) -> tuple[tuple[sp.Expr, sp.Symbol], ...]:
@@ -226,13 +227,14 @@ def mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol] = fro
 @lru_cache(maxsize=512)
 def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> tuple[tuple[sp.Expr, sp.Expr], ...] | None:
     """``mode_terms``, kept: the naming, the Result, its decimals and its sinusoids read the same components."""
-    if expr.has(sp.Piecewise, sp.Heaviside, sp.DiracDelta, sp.Integral):
+    # (the rootring walks never open an indexed root, as sympy's has, atoms and xreplace do)
+    if contains(expr, sp.Piecewise, sp.Heaviside, sp.DiracDelta, sp.Integral):
         return None
     # each exponential held as a symbol while expanding, so e^{-u} is never moved into a denominator
-    held = {e: sp.Dummy("E") for e in expr.atoms(sp.exp) if e.has(t)}
+    held = {e: sp.Dummy("E") for e in atoms_of(expr, sp.exp) if e.has(t)}
     rates = {d: e.args[0] for e, d in held.items()}
     groups: dict[sp.Expr, sp.Expr] = {}
-    for term in sp.Add.make_args(sp.expand(expr.xreplace(held))):
+    for term in sp.Add.make_args(sp.expand(replace_atoms(expr, held))):
         coeff: list[sp.Expr] = []
         exps: list[sp.Expr] = []
         others: list[sp.Expr] = []
@@ -318,7 +320,7 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     coefficient holding an indexed root, or too large, is only renamed.
     """
     c = naming.apply(coefficient)
-    if c.is_Rational or c.has(sp.CRootOf) or sp.count_ops(c) > _CANCEL_LIMIT:
+    if c.is_Rational or contains(c, sp.CRootOf) or sp.count_ops(c) > _CANCEL_LIMIT:
         return [c]
     held = {sym for _, sym in naming.roots} & c.free_symbols
     if held:
@@ -381,7 +383,7 @@ def _rate_key(mode: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Expr]) 
 
     def num(x: sp.Expr) -> float:
         x = x.xreplace(dict(values))
-        x = x.xreplace({r: root_value(r) for r in x.atoms(sp.CRootOf)})
+        x = _root_decimals(x)
         try:
             return float(sp.re(sp.N(x, 15)))
         except TypeError:
@@ -389,7 +391,7 @@ def _rate_key(mode: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Expr]) 
 
     group = 1 if exps else 2
     return (group, num(rate), abs(num(freq)), 0 if isinstance(trig[0] if trig else None, sp.cos) else 1,
-            power if isinstance(power, int) else 0, sp.srepr(mode) if not mode.has(sp.CRootOf) else "")
+            power if isinstance(power, int) else 0, sp.srepr(mode) if not contains(mode, sp.CRootOf) else "")
 
 
 def parameter_values(solution: Solution) -> dict[sp.Symbol, sp.Expr] | None:
@@ -581,7 +583,7 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
 
     def number(x: sp.Expr) -> sp.Expr | None:
         x = x.xreplace(dict(values))
-        x = x.xreplace({r: root_value(r) for r in x.atoms(sp.CRootOf)})
+        x = _root_decimals(x)
         if x.free_symbols:
             return None
         value = sp.N(x, digits + 4)
@@ -639,6 +641,11 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
 
 
+def _root_decimals(x: sp.Expr) -> sp.Expr:
+    """``x`` with each indexed root replaced by its cached decimal, without opening any root."""
+    return replace_atoms(x, {r: root_value(r) for r in atoms_of(x, sp.CRootOf)})
+
+
 def decimal_number(value: sp.Expr, *, digits: int = DIGITS) -> sp.Expr | None:
     """A real number's decimal to ``digits`` figures as a ``Float`` (None when it has no real value).
 
@@ -647,7 +654,7 @@ def decimal_number(value: sp.Expr, *, digits: int = DIGITS) -> sp.Expr | None:
     """
     if not value.is_number:
         return None
-    value = value.xreplace({r: root_value(r) for r in value.atoms(sp.CRootOf)})
+    value = _root_decimals(value)
     number = sp.N(value, digits + 4)
     if not number.is_real:
         return None

@@ -18,6 +18,7 @@ from ..errors import InputError
 from ..exact import decide_zero, numeric_function, root_value
 from ..forcing import switching_times
 from ..model import Solution
+from ..rootring import atoms_of, replace_atoms
 
 __all__ = [
     "decided_sign",
@@ -26,6 +27,7 @@ __all__ = [
     "has_all_values",
     "at_values",
     "numeric_series",
+    "with_root_values",
     "switch_and_impulse_times",
     "parameter_symbol",
 ]
@@ -53,8 +55,7 @@ def decided_sign(e: sp.Expr) -> int | None:
                 return -1
         return None
     exact = e
-    if e.has(sp.CRootOf):
-        e = e.xreplace({r: root_value(r) for r in e.atoms(sp.CRootOf)})
+    e = with_root_values(e)
     v = sp.N(e, _DIGITS)
     re, im = v.as_real_imag()
     if abs(im) > _CLEAR:
@@ -75,10 +76,21 @@ def approx(e: sp.Expr, digits: int = 30) -> complex:
     >>> approx(sp.sqrt(-4))
     2j
     """
-    e = sp.sympify(e, strict=True)
-    if e.has(sp.CRootOf):
-        e = e.xreplace({r: root_value(r) for r in e.atoms(sp.CRootOf)})
+    e = with_root_values(sp.sympify(e, strict=True))
     return complex(sp.N(e, digits))
+
+
+def with_root_values(e: sp.Expr) -> sp.Expr:
+    """``e`` with every indexed root replaced by its cached decimal (for numeric work only).
+
+    sympy's atoms and xreplace open every root, rebuilding its polynomial each time; the
+    rootring walks do not.
+
+    >>> x = sp.Symbol("x"); r = sp.CRootOf(x**3 - x - 1, 0)
+    >>> round(float(with_root_values(2 * r)), 6)
+    2.649436
+    """
+    return replace_atoms(e, {r: root_value(r) for r in atoms_of(e, sp.CRootOf)})
 
 
 def reading_values(solution: Solution, values: Mapping[sp.Basic, object] | None) -> dict[sp.Symbol, sp.Expr]:
@@ -151,7 +163,7 @@ def at_values(solution: Solution, values: Mapping[sp.Symbol, sp.Expr]) -> sp.Imm
 
 def numeric_series(exprs: Sequence[sp.Expr], t: sp.Symbol) -> Callable[[np.ndarray], np.ndarray]:
     """A function of a time array giving the real values of ``exprs``, one row per expression."""
-    ready = [sp.sympify(e).xreplace({r: root_value(r) for r in sp.sympify(e).atoms(sp.CRootOf)}) for e in exprs]
+    ready = [with_root_values(sp.sympify(e)) for e in exprs]
     fn = numeric_function(t, ready, "numpy")
 
     def evaluate(times: np.ndarray) -> np.ndarray:

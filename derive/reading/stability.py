@@ -70,7 +70,7 @@ def _number(value: sp.Expr) -> str:
     value = sp.nsimplify(value) if value.is_Float else value
     if value.is_Rational:
         return str(value)
-    return f"about {float(sp.N(value, 20)):.4g}"
+    return f"about {approx(value, 20).real:.4g}"  # roots read from their decimals: sp.N opens each root
 
 
 def classify(

@@ -24,6 +24,7 @@ decided here, once:
 
 from __future__ import annotations
 
+import functools
 import re
 from typing import Any
 
@@ -31,6 +32,7 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
+from ..rootring import atoms_of, replace_atoms
 from .escape import GREEK_LETTERS
 from .measure import visible_width
 from .terms import Terms, terms_text
@@ -63,6 +65,19 @@ def shifted_argument(arg: sp.Expr) -> sp.Expr:
     return sp.Mul(m, x - (-c / m), evaluate=False)
 
 
+@functools.lru_cache(maxsize=1024)
+def _stand_in(root: sp.Expr, number: int) -> sp.Symbol:
+    """The stand-in symbol of a root: its name sorts by the root's number, then its polynomial and index."""
+    return sp.Symbol("\x00root%04d:%s:%d" % (number, root.poly.as_expr(), root.index))
+
+
+def _replaced(expr: Any, stand: dict) -> Any:
+    """``expr`` with its roots swapped for their stand-ins (entry by entry in a matrix)."""
+    if isinstance(expr, sp.MatrixBase):
+        return expr.applyfunc(lambda e: replace_atoms(e, stand))
+    return replace_atoms(expr, stand)
+
+
 class _RootStandIns:
     """Prints indexed roots through named stand-in symbols.
 
@@ -79,29 +94,30 @@ class _RootStandIns:
     _standing: dict = {}
 
     def _print(self, expr: Any, **kwargs: Any) -> str:
-        if self._standing or not isinstance(expr, (sp.Basic, sp.MatrixBase)) or not expr.has(sp.CRootOf):
+        if self._standing or not isinstance(expr, (sp.Basic, sp.MatrixBase)):
             return super()._print(expr, **kwargs)  # type: ignore[misc]
         stand = self._stand_ins(expr)
+        if not stand:
+            return super()._print(expr, **kwargs)  # type: ignore[misc]
         self._standing = {v: k for k, v in stand.items()}
         try:
-            return super()._print(expr.xreplace(stand), **kwargs)  # type: ignore[misc]
+            return super()._print(_replaced(expr, stand), **kwargs)  # type: ignore[misc]
         finally:
             self._standing = {}
 
     def _as_ordered_terms(self, expr: Any, order: Any = None) -> list:
         # also called directly, to break a long sum at its terms
-        if self._standing or not isinstance(expr, sp.Basic) or not expr.has(sp.CRootOf):
+        stand = {} if self._standing or not isinstance(expr, sp.Basic) else self._stand_ins(expr)
+        if not stand:
             return super()._as_ordered_terms(expr, order=order)  # type: ignore[misc]
-        stand = self._stand_ins(expr)
         back = {v: k for k, v in stand.items()}
-        return [term.xreplace(back) for term in super()._as_ordered_terms(expr.xreplace(stand), order=order)]  # type: ignore[misc]
+        return [replace_atoms(term, back) for term in super()._as_ordered_terms(replace_atoms(expr, stand), order=order)]  # type: ignore[misc]
 
     def _stand_ins(self, expr: Any) -> dict[sp.Expr, sp.Symbol]:
+        # sympy's atoms and has open every root, rebuilding its polynomial each time (seconds on a 6-state sheet)
         names = self._settings["root_names"]
-        stand: dict[sp.Expr, sp.Symbol] = {}
-        for r in expr.atoms(sp.CRootOf):
-            stand[r] = sp.Symbol("\x00root%04d:%s:%d" % (names.get(r, 0), r.poly.as_expr(), r.index))
-        return stand
+        items = list(expr) if isinstance(expr, sp.MatrixBase) else [expr]
+        return {r: _stand_in(r, names.get(r, 0)) for e in items for r in atoms_of(e, sp.CRootOf)}
 
     def _print_Symbol(self, expr: sp.Symbol, *args: Any, **kwargs: Any) -> str:
         root = self._standing.get(expr)

@@ -21,6 +21,7 @@ import sympy as sp
 from .decimals import format_decimal
 from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
 from ..realroots import pair_numbering
+from ..rootring import atoms_of
 from .measure import visible_width
 from .printers import PlainPrinter, SheetLatexPrinter, greek_text, plain_text, shifted_argument
 from .terms import Terms, signed
@@ -130,7 +131,8 @@ def collect_roots(
         if isinstance(ev, sp.CRootOf) and ev not in names:
             names[ev] = k
     # sigma_k, omega_k of the k-th complex pair (derive.realroots), the others after the eigenvalues
-    seen = [r for obj in (eigenvalues, *others) for node in _walk(obj) for r in node.atoms(sp.CRootOf)]
+    # sympy's atoms would open every root, rebuilding its polynomial each time (seconds on a 6-state sheet)
+    seen = [r for obj in (eigenvalues, *others) for node in _walk(obj) for r in atoms_of(node, sp.CRootOf)]
     parts = pair_numbering(names, seen)
     found: list[sp.Expr] = []
     for r in seen:
