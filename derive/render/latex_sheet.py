@@ -120,7 +120,6 @@ def _functions(ctx: _Context, solution: Solution) -> dict[str, Callable[..., Any
         "m_list": m_list,
         "derivation": lambda: derivation,
         "inputs_notation": lambda: inputs_notation,
-        "coord": fmt.m(coordinate_letter(solution)),
         "reading": lambda: reading_latex(solution, fmt),
         "appendix": lambda: appendix,
         "result_math": lambda: result_math,
@@ -195,6 +194,7 @@ def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> di
         "has_steady_state": "steady_state" in kinds,
         "packages": FRAGMENT_PACKAGES,
         "imaginary_unit": style.imaginary_unit,
+        "coord": fmt.m(coordinate_letter(solution)),
         **_functions(ctx, solution),
     }
 
