@@ -15,7 +15,7 @@ from typing import Sequence
 import sympy as sp
 
 from .expoly import ExpPoly, conjugate, exponential_groups, split_complex
-from .rootring import atoms_of, collected, contains, expand_number, reduce_number, replace_atoms
+from .rootring import atoms_of, collected, common_out, contains, expanded, reduce_number, replace_atoms
 from .spectral import EigenBlock
 from .steps import Deferred, InitialValuesStep, RealFormPair, RealFormStep, RecombineStep, Step
 
@@ -326,14 +326,14 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
             coeff = sp.Add(*ts)
             if coeff.has(sp.CRootOf):
                 # expanded in the sparse ring; factor would build and factor root polynomials again
-                coeff = _by_trig(coeff) if contains(coeff, sp.sin, sp.cos) else _expanded(coeff)
+                coeff = _by_trig(coeff) if contains(coeff, sp.sin, sp.cos) else expanded(coeff)
             else:
                 coeff = sp.expand(coeff)
                 if has_params and coeff != 0:
                     coeff = _factor_by_trig(coeff)
             if coeff == 0:
                 continue
-            inner.append(coeff if rate == 0 else sp.exp(_exponent(rate * t)) * coeff)
+            inner.append(coeff if rate == 0 else sp.exp(common_out(rate * t)) * coeff)
         out.append(c * sp.Add(*inner))
     return sp.Add(*out)
 
@@ -348,7 +348,7 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
     """
     exps = sorted(atoms_of(e, sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}") for i, x in enumerate(exps)}
-    back = {v: sp.exp(_exponent(k.args[0])) for k, v in hold.items()}
+    back = {v: sp.exp(common_out(k.args[0])) for k, v in hold.items()}
     e = sp.expand(e.xreplace(hold))
     placeholders = set(hold.values())
     has_params = bool(e.free_symbols - set(constants) - placeholders - {t})
@@ -457,16 +457,8 @@ def _combination(row: sp.MatrixBase, x0: sp.MatrixBase) -> sp.Expr:
     return sp.expand(sum((a * b for a, b in zip(row, x0)), sp.Integer(0)))
 
 
-def _exponent(u: sp.Expr) -> sp.Expr:
-    """The exponent with common factors pulled out (-(t - 1)/2); an indexed rate is left as it
-    stands: factor_terms would walk the root's polynomial for nothing."""
-    return u if u.has(sp.CRootOf) else sp.factor_terms(u)
 
 
-def _expanded(e: sp.Expr) -> sp.Expr:
-    """sp.expand, through the sparse ring where it reads the expression."""
-    fast = expand_number(e)
-    return sp.expand(e) if fast is None else fast
 
 
 def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:

@@ -23,7 +23,7 @@ import sympy as sp
 from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyElement, PolyRing
 
-__all__ = ["RootRing", "atoms_of", "contains", "replace_atoms", "collected", "expand_number", "plainly_nonzero", "real_imag", "reduce_number"]
+__all__ = ["RootRing", "atoms_of", "contains", "replace_atoms", "collected", "expand_number", "expanded", "common_out", "plainly_nonzero", "real_imag", "reduce_number"]
 
 
 #: the degree bound of a generator without a relation
@@ -407,6 +407,18 @@ def expand_number(e: sp.Expr) -> sp.Expr | None:
         return ring.to_expr(ring.element(e))
     except (_Outside, ZeroDivisionError):
         return None
+
+
+def expanded(e: sp.Expr) -> sp.Expr:
+    """sp.expand, read through the sparse ring where it can be (see ``expand_number``)."""
+    fast = expand_number(e)
+    return sp.expand(e) if fast is None else fast
+
+
+def common_out(u: sp.Expr) -> sp.Expr:
+    """sp.factor_terms, except on an expression holding an indexed root, left as it stands:
+    factor_terms would rebuild the root's polynomial at every node."""
+    return u if contains(u, sp.CRootOf) else sp.factor_terms(u)
 
 
 def _real_number(a: sp.Expr) -> bool:

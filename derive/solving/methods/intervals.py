@@ -26,7 +26,7 @@ from ...exact import is_zero_number
 from ...expoly import ExpPoly, to_expoly
 from ...model import Condition
 from ...recombine import Recombined, recombine
-from ...rootring import atoms_of, contains, expand_number, replace_atoms
+from ...rootring import atoms_of, common_out, contains, expanded, replace_atoms
 from ...scalar import ScalarResult, decouple, solve_blocks
 from ...steps import Deferred, Lazy, Step, substitute
 from .base import Problem
@@ -157,14 +157,14 @@ class Shared:
             if g.is_real:
                 # g (t - start) is what putting t - start for tau in g tau gives
                 arg = g * (t - start)
-                restored = _common_out(arg)
+                restored = common_out(arg)
                 # with rational numbers exp's own evaluation leaves g (t - start) as it is (it would
                 # only change a log, a multiple of i pi or zero), and its assumption queries cost
                 # a millisecond a call on a cold cache
                 atom = sp.exp(restored, evaluate=not (g.is_Rational and start.is_Rational))
                 if isinstance(atom, sp.exp) and t in atom.free_symbols:
                     self.restored[key] = atom
-                    self.stable[key] = restored == arg or _common_out(restored) == restored
+                    self.stable[key] = restored == arg or common_out(restored) == restored
         return self.restored[key]
 
     @classmethod
@@ -305,14 +305,14 @@ class Grouped:
     @classmethod
     def of(cls, groups: tuple[tuple[sp.Expr, tuple[sp.Expr, ...]], ...], stable: bool) -> "Grouped":
         """The grouped expression of its groups: each factor times its coefficient with common factors out."""
-        terms = tuple(key * _common_out(sp.Add(*parts)) for key, parts in groups)
+        terms = tuple(key * common_out(sp.Add(*parts)) for key, parts in groups)
         return cls(expr=sp.Add(*terms), groups=groups, stable=stable, terms=terms)
 
     def negated_term(self, i: int) -> sp.Expr:
         """Group i of minus the expression, as ``group_terms`` of it writes it."""
         if i not in self.negated:
             key, parts = self.groups[i]
-            self.negated[i] = key * _common_out(sp.Add(*[-p for p in parts]))
+            self.negated[i] = key * common_out(sp.Add(*[-p for p in parts]))
         return self.negated[i]
 
 
@@ -336,12 +336,13 @@ def grouping(e: sp.Expr, t: sp.Symbol) -> Grouped:
     e = sp.sympify(e, strict=True)
     exps = sorted(atoms_of(e, sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}", positive=True) for i, x in enumerate(exps)}
-    back = {v: sp.exp(_common_out(k.args[0])) if t in k.free_symbols else k for k, v in hold.items()}
+    back = {v: sp.exp(common_out(k.args[0])) if t in k.free_symbols else k for k, v in hold.items()}
     timed = {v for k, v in hold.items() if t in k.free_symbols}
     # grouping the result again holds the restored exponentials: it finds these groups when
     # restoring them once more changes nothing
-    stable = all(_common_out(back[v].args[0]) == back[v].args[0] for v in timed)
-    ex = _expanded(replace_atoms(e, hold))
+    stable = all(common_out(back[v].args[0]) == back[v].args[0] for v in timed)
+    held = replace_atoms(e, hold)
+    ex = expanded(held) if contains(held, sp.CRootOf) else sp.expand(held)
     groups: dict[sp.Expr, list[sp.Expr]] = {}
     for term in sp.Add.make_args(ex):
         with_t: list[sp.Expr] = []
@@ -355,19 +356,8 @@ def grouping(e: sp.Expr, t: sp.Symbol) -> Grouped:
     return Grouped.of(kept, stable)
 
 
-def _common_out(u: sp.Expr) -> sp.Expr:
-    """sp.factor_terms, except on a sum holding an indexed root: left as it stands (factor_terms
-    would rebuild the root's polynomial at every node, and the terms are read against the legend)."""
-    return u if contains(u, sp.CRootOf) else sp.factor_terms(u)
 
 
-def _expanded(e: sp.Expr) -> sp.Expr:
-    """sp.expand, through the sparse ring of ``rootring`` where the sum holds an indexed root."""
-    if contains(e, sp.CRootOf):
-        fast = expand_number(e)
-        if fast is not None:
-            return fast
-    return sp.expand(e)
 
 
 def _grouping_of(p: ExpPoly, tau: sp.Symbol, shift: dict, t: sp.Symbol, start: sp.Expr, shared: Shared) -> Grouped | None:
@@ -410,7 +400,7 @@ def difference(a: Grouped, b: Grouped, t: sp.Symbol) -> sp.Expr:
         if j is None:
             out.append(a.terms[i])
         else:
-            out.append(k * _common_out(sp.Add(*parts, *[-p for p in b.groups[j][1]])))
+            out.append(k * common_out(sp.Add(*parts, *[-p for p in b.groups[j][1]])))
     shared = set(keys_a)
     out += [b.negated_term(j) for j, k in enumerate(keys_b) if k not in shared]
     return sp.Add(*out)
