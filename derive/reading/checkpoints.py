@@ -93,7 +93,7 @@ def check_points(
     try:
         A = np.array([[float(e) for e in row] for row in sy.A.xreplace(sub).tolist()], dtype=float)
         x = np.array([float(e) for e in sy.x0.xreplace(sub)], dtype=float)
-        t0 = float(sp.sympify(sy.t0).xreplace(sub))
+        t0 = float(sp.sympify(sy.t0, strict=True).xreplace(sub))
         smooth, jumps = impulse_split(f, t)
         switches, _ = switch_and_impulse_times(solution, sub)
         # only the entries that vary are evaluated at each step (thousands of steps on a 6-state chain)

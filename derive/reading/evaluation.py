@@ -128,7 +128,7 @@ def _free(solution: Solution) -> set[sp.Symbol]:
     for M in (sy.A, sy.f, sy.x0):
         if M is not None:
             out |= M.free_symbols
-    out |= sp.sympify(sy.t0).free_symbols
+    out |= sp.sympify(sy.t0, strict=True).free_symbols
     return {s for s in out if s != sy.t}
 
 
@@ -156,14 +156,14 @@ def at_values(solution: Solution, values: Mapping[sp.Symbol, sp.Expr]) -> sp.Imm
         sy.f.xreplace(sub),
         t=sy.t,
         x0=None if sy.x0 is None else sy.x0.xreplace(sub),
-        t0=sp.sympify(sy.t0).xreplace(sub),
+        t0=sp.sympify(sy.t0, strict=True).xreplace(sub),
     )
     return again.x
 
 
 def numeric_series(exprs: Sequence[sp.Expr], t: sp.Symbol) -> Callable[[np.ndarray], np.ndarray]:
     """A function of a time array giving the real values of ``exprs``, one row per expression."""
-    ready = [with_root_values(sp.sympify(e)) for e in exprs]
+    ready = [with_root_values(sp.sympify(e, strict=True)) for e in exprs]
     fn = numeric_function(t, ready, "numpy")
 
     def evaluate(times: np.ndarray) -> np.ndarray:

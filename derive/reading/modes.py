@@ -155,7 +155,7 @@ def time_span(modes: tuple[Mode, ...], *, last_switch: float = 0.0, forcing_freq
     >>> time_span((Mode(sp.Integer(-2), 1, sp.Rational(1, 2), sp.Integer(2), sp.Integer(1), sp.Integer(0), None),))
     2.5
     """
-    if any(sp.sympify(m.eigenvalue).free_symbols for m in modes):
+    if any(sp.sympify(m.eigenvalue, strict=True).free_symbols for m in modes):
         return None
     values = [complex(approx(m.eigenvalue)) for m in modes]
     span = settling_span(values, forcing_frequency=forcing_frequency)

@@ -66,7 +66,7 @@ def plot_span(solution: Solution, *, values: Mapping[sp.Basic, object] | None = 
 
 def _span(solution: Solution, sub: dict[sp.Symbol, sp.Expr], modes: tuple[Mode, ...]) -> float | None:
     switches, _ = switch_and_impulse_times(solution, sub)
-    t0 = float(sp.N(sp.sympify(solution.system.t0).xreplace(sub)))
+    t0 = float(sp.N(sp.sympify(solution.system.t0, strict=True).xreplace(sub)))
     last = max([s - t0 for s in switches if s > t0], default=0.0)
     found = sinusoidal_input(solution.system.f.xreplace(sub), solution.system.t)
     frequency = float(sp.N(found[0])) if found is not None else None
@@ -104,7 +104,7 @@ def samples(
     if width is None or not math.isfinite(width) or width <= 0:
         raise InputError(f"the span must be a positive time, got {width}", key="span")
     switches, impulses = switch_and_impulse_times(solution, sub)
-    start = float(sp.N(sp.sympify(solution.system.t0).xreplace(sub)))
+    start = float(sp.N(sp.sympify(solution.system.t0, strict=True).xreplace(sub)))
     return sample_solution(
         solution,
         at_values(solution, sub),

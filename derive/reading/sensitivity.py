@@ -93,7 +93,7 @@ def envelope(
     width = span if span is not None else plot_span(solution, values=base)
     if width is None or width <= 0:
         raise InputError(f"the span must be a positive time, got {width}", key="span")
-    t0 = float(sp.N(sp.sympify(sy.t0).xreplace(base)))
+    t0 = float(sp.N(sp.sympify(sy.t0, strict=True).xreplace(base)))
     times = np.linspace(t0, t0 + width, points)
     exprs = [e.xreplace(fixed) for e in solution.x]
     fn = numeric_function((sy.t, *varied), exprs, "numpy")
@@ -179,7 +179,7 @@ def sensitivities(
     exact = {p: sp.ImmutableMatrix([_derivative(e, p, tidy_up_to) for e in solution.x]) for p in chosen}
     if span is None or not has_all_values(solution, sub):
         return tuple(Sensitivity(p, exact[p], (), {}, {}) for p in chosen)
-    t0 = float(sp.N(sp.sympify(sy.t0).xreplace(sub)))
+    t0 = float(sp.N(sp.sympify(sy.t0, strict=True).xreplace(sub)))
     names = [s.name for s in sy.states]
     grid = np.linspace(t0, t0 + span, SENSITIVITY_POINTS)
     at = np.array([t0 + f * span for f in fractions])

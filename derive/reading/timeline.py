@@ -178,7 +178,7 @@ def state_readings(
 ) -> dict[str, StateReading]:
     """The figures of every state of an initial value problem with every value given (see the module text)."""
     t = solution.system.t
-    t0 = approx(sp.sympify(solution.system.t0).xreplace(dict(values))).real
+    t0 = approx(sp.sympify(solution.system.t0, strict=True).xreplace(dict(values))).real
     step = _grid_step(modes, span)
     out: dict[str, StateReading] = {}
     x0 = solution.system.x0
