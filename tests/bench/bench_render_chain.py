@@ -17,8 +17,6 @@ from __future__ import annotations
 
 import argparse
 import pickle
-import time
-from typing import Any, Callable
 
 import sympy as sp
 
@@ -28,6 +26,7 @@ from derive.documents.result import result_forms
 from derive.documents.sheet_steps import StepContext
 from derive.render import render
 from derive.render.printing import MathFormatter, collect_roots
+from timing import best_time  # tests/bench/timing.py (the scripts run from this folder)
 
 t = sp.Symbol("t")
 
@@ -44,15 +43,6 @@ def chain() -> Solution:
     return derive.solve(A, f, t=t, x0=[1, 0, 0, 0, 0, 0])
 
 
-def _best(fn: Callable[[], Any], repeat: int) -> tuple[float, Any]:
-    best, out = float("inf"), None
-    for _ in range(repeat):
-        start = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - start)
-    return best, out
-
-
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=1)
@@ -64,20 +54,20 @@ def main() -> None:
             sol = pickle.load(fh)
         print(f"loaded {args.load}")
     else:
-        seconds, sol = _best(chain, 1)
+        seconds, sol = best_time(chain, 1)
         print(f"solve + verify: {seconds:8.2f} s")
         if args.save:
             with open(args.save, "wb") as fh:
                 pickle.dump(sol, fh)
-    seconds, roots = _best(lambda: collect_roots(sol.eigenvalues, sol.steps, sol.x), args.repeat)
+    seconds, roots = best_time(lambda: collect_roots(sol.eigenvalues, sol.steps, sol.x), args.repeat)
     print(f"{'root names (collect_roots)':34s} {seconds:8.2f} s")
-    seconds, _ = _best(lambda: sol.response, 1)
+    seconds, _ = best_time(lambda: sol.response, 1)
     print(f"{'reading (first read, then kept)':34s} {seconds:8.2f} s")
     fmt = MathFormatter.for_roots(roots)
-    seconds, forms = _best(lambda: result_forms(sol, StepContext(solution=sol, fmt=fmt, lam=sp.Symbol("lambda"))), args.repeat)
+    seconds, forms = best_time(lambda: result_forms(sol, StepContext(solution=sol, fmt=fmt, lam=sp.Symbol("lambda"))), args.repeat)
     print(f"{'compact Result (result_forms)':34s} {seconds:8.2f} s  ({len(forms.coefficients)} named coefficients)")
     for fmt_name in ("latex", "markdown", "text"):
-        seconds, out = _best(lambda: render(sol, format=fmt_name), args.repeat)
+        seconds, out = best_time(lambda: render(sol, format=fmt_name), args.repeat)
         print(f"{'render ' + fmt_name:34s} {seconds:8.2f} s  ({len(str(out)) / 1000:.0f} k characters)")
 
 

@@ -14,8 +14,6 @@ sheet anyway.
 from __future__ import annotations
 
 import itertools
-import time
-from typing import Callable
 
 import numpy as np
 import sympy as sp
@@ -24,15 +22,7 @@ from scipy.integrate import solve_ivp
 import derive
 from derive.model import Solution
 from derive.reading import Envelope, envelope
-
-
-def _best(fn: Callable[[], object], repeat: int = 3) -> tuple[float, object]:
-    best, out = float("inf"), None
-    for _ in range(repeat):
-        start = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - start)
-    return best, out
+from timing import best_time  # tests/bench/timing.py (the scripts run from this folder)
 
 
 def _integrated(A: sp.Matrix, f: sp.Matrix, x0: list[float], box: dict[sp.Symbol, tuple[sp.Expr, sp.Expr, sp.Expr]],
@@ -66,15 +56,15 @@ def case(n: int) -> None:
     tol = {p: sp.Rational(5, 100) for p in varied}
     span, points = 12.0, 241
 
-    solve_time, sol = _best(lambda: derive.solve(A, f, t=t, x0=[0, 0], params=values), repeat=1)
+    solve_time, sol = best_time(lambda: derive.solve(A, f, t=t, x0=[0, 0], params=values), repeat=1)
     assert isinstance(sol, Solution)
-    closed, band = _best(lambda: envelope(sol, tol, span=span, points=points))
+    closed, band = best_time(lambda: envelope(sol, tol, span=span, points=points))
     assert isinstance(band, Envelope)
-    grid, inside = _best(lambda: envelope(sol, tol, span=span, points=points, levels=3))
+    grid, inside = best_time(lambda: envelope(sol, tol, span=span, points=points, levels=3))
     assert isinstance(inside, Envelope)
     box = {p: (values[p] * (1 - tol[p]), values[p], values[p] * (1 + tol[p])) for p in varied}
     fixed = {p: v for p, v in values.items() if p not in box}
-    numeric, (lo, hi) = _best(lambda: _integrated(A.xreplace(fixed), f.xreplace(fixed), [0.0, 0.0], box, t, band.times))  # type: ignore[misc]
+    numeric, (lo, hi) = best_time(lambda: _integrated(A.xreplace(fixed), f.xreplace(fixed), [0.0, 0.0], box, t, band.times))  # type: ignore[misc]
     gap = max(float(np.max(np.abs(lo[i] - band.lower[s]))) + float(np.max(np.abs(hi[i] - band.upper[s])))
               for i, s in enumerate(("x_1", "x_2")))
     sets = band.corners + 1
