@@ -223,12 +223,16 @@ class Series:
     ``style`` is ``"line"`` (a curve) or ``"marks"`` (points only: check
     points, eigenvalues); series with the same ``key`` share a colour (a
     curve and its check points); an empty ``label`` has no legend entry.
+    ``symbol`` is the sympy expression a curve stands for (a state), or None:
+    a format that sets mathematics prints it in the legend with the sheet's
+    printer (``T_1``, ``q_1'``), and ``label`` is its plain spelling.
     """
 
     label: str
     points: tuple[tuple[float, float], ...]
     style: str = "line"
     key: str = ""
+    symbol: Any = None
 
 
 @dataclass(frozen=True)

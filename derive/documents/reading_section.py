@@ -116,7 +116,7 @@ def response_figure(
     checked = check_points(solution, span=span) if checks else None
     series: list[Series] = list(band_series(band)) if band is not None else []
     for s in sy.states:
-        series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name))
+        series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name, s))
     if checked is not None:
         for k, s in enumerate(sy.states):
             pts = tuple(zip(map(float, checked.times), map(float, checked.values[s.name])))
