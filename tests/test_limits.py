@@ -52,8 +52,13 @@ class _SpinsOnCollection:
             _spin()
 
 
+_collections: list[str] = []
+
+
 def _spin_in_gc_callback(phase: str, info: dict) -> None:  # noqa: ARG001 - gc callback signature
-    if phase == "start":
+    # only the first collection spins: another one may start before the test removes the hook
+    if phase == "start" and not _collections:
+        _collections.append(phase)
         while True:
             _spin()
 
@@ -74,11 +79,12 @@ def test_a_limit_swallowed_in_a_finaliser_still_ends_the_block(swallowed):
             del obj  # the alarm fires inside __del__, where the raise is lost
             ran_on.append(True)  # the block runs on: only its exit can still stop it
     assert ran_on == [True]
-    assert [type(e) for e in swallowed] == [LimitExpired]
+    assert swallowed and all(isinstance(e, LimitExpired) for e in swallowed)
     assert signal.getitimer(signal.ITIMER_REAL) == (0.0, 0.0)
 
 
 def test_a_case_limit_swallowed_in_a_gc_callback_still_raises_time_limit_error(swallowed):
+    _collections.clear()
     gc.callbacks.append(_spin_in_gc_callback)
     try:
         with pytest.raises(TimeLimitError, match="--timeout"):
@@ -88,7 +94,8 @@ def test_a_case_limit_swallowed_in_a_gc_callback_still_raises_time_limit_error(s
     finally:
         if _spin_in_gc_callback in gc.callbacks:
             gc.callbacks.remove(_spin_in_gc_callback)
-    assert [type(e) for e in swallowed] == [TimeLimitError]
+    # the alarm was lost inside the callback (once, or again on a repeat before the collection ended)
+    assert swallowed and all(isinstance(e, TimeLimitError) for e in swallowed)
     assert signal.getitimer(signal.ITIMER_REAL) == (0.0, 0.0)
 
 

@@ -21,6 +21,7 @@ __all__ = [
     "Name",
     "Strong",
     "Code",
+    "Unit",
     "Inline",
     "Title",
     "Heading",
@@ -85,7 +86,21 @@ class Code:
     breakable: bool = False
 
 
-Inline = Union[str, Math, Name, Strong, Code]
+@dataclass(frozen=True)
+class Unit:
+    """A unit the case declares, as the user wrote it (``"kW"``, ``"m/s^2"``).
+
+    LaTeX sets it with siunitx (``render.siunits.unit_latex``); the other
+    formats print the text as written, which is what ``str`` gives.
+    """
+
+    text: str
+
+    def __str__(self) -> str:
+        return self.text
+
+
+Inline = Union[str, Math, Name, Strong, Code, Unit]
 
 
 # ---------------------------------------------------------------------------

@@ -15,9 +15,10 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..errors import OutputError
-from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Para, Strong, Table
+from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Para, Strong, Table, Unit
 from .escape import tex_escape
 from .printing import MathFormatter
+from .siunits import unit_latex
 from .templating import get_template
 
 __all__ = ["blocks_latex", "block_helpers", "tex_text", "figure_latex", "figure_range", "FIGURE_PREAMBLE", "FIGURE_COLOURS"]
@@ -54,6 +55,8 @@ def _inline_part(part: Inline, fmt: MathFormatter) -> str:
         if part.breakable and _PATH_SAFE.fullmatch(part.text):
             return r"\path{%s}" % part.text
         return r"\texttt{%s}" % tex_escape(part.text)
+    if isinstance(part, Unit):
+        return unit_latex(part.text)
     return tex_text(str(part))
 
 
