@@ -15,6 +15,8 @@ from derive.render.latex_blocks import figure_latex
 from derive.render.siunits import axis_label
 from derive.render.svg import figure_svg
 
+from test_frequency_plot import figures as frequency_figures, lag
+
 CURVE = ((0.0, 1.0), (1.0, 0.5))
 
 # a two-mass chain of our own, written as one second-order equation per mass
@@ -85,3 +87,11 @@ def test_svg_falls_back_to_plain_text_where_mathtext_cannot_set_the_latex() -> N
     assert svg is not None
     texts = svg_texts(svg)
     assert "t / h" in texts and "$T_{1}$" in texts
+
+
+def test_frequency_curves_of_one_input_name_their_state_in_mathematics() -> None:
+    drawn = frequency_figures(lag())
+    assert drawn
+    for fig in drawn.values():
+        assert [s.symbol for s in fig.series] == [sp.Symbol("T")]
+        assert legend_entries(figure_latex(fig)) == ["$T$"]
