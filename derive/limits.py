@@ -7,7 +7,11 @@ caller's process isolation (see ``derive.batch``).
 
 Both limits share one timer discipline (``_alarm_after``): the alarm repeats
 every ``REPEAT`` seconds, so an exception swallowed by a broad ``except``
-inside sympy is raised again instead of letting the block run on; of two
+inside sympy is raised again instead of letting the block run on.  Python
+itself swallows an exception raised inside a ``__del__`` or a garbage
+collector callback; the handler records that it fired, so a block that then
+ends before the next repeat, normally or with another exception, still ends
+with the limit's exception at its exit.  Of two
 nested limits the earlier deadline wins, and the outer timer is re-armed with
 its remaining time when the inner block ends.
 """
@@ -46,18 +50,31 @@ def _alarm_after(seconds: float, expired: Callable[[], BaseException]) -> Iterat
         yield False
         return
     done = False
+    raised: list[type[BaseException]] = []
 
     def _alarm(signum, frame):  # noqa: ARG001 - signal handler signature
         if done:  # the block is already leaving
             return
-        raise expired()
+        error = expired()
+        raised.append(type(error))
+        raise error
 
     started = time.monotonic()
     previous = signal.signal(signal.SIGALRM, _alarm)
     try:
         # armed inside the try: an alarm that fires at once still disarms in finally
         signal.setitimer(signal.ITIMER_REAL, seconds, REPEAT)
-        yield True
+        try:
+            yield True
+        except Exception as error:
+            # time ran out and a handler turned our exception into another one
+            if raised and not isinstance(error, tuple(raised)):
+                raise expired() from error
+            raise
+        if raised:
+            # the raise was swallowed (a __del__, a gc callback) and the block then
+            # finished before the repeat: time is still up
+            raise expired()
     finally:
         done = True
         signal.setitimer(signal.ITIMER_REAL, 0)

@@ -21,6 +21,7 @@ __all__ = [
     "Name",
     "Strong",
     "Code",
+    "Unit",
     "Inline",
     "Title",
     "Heading",
@@ -85,7 +86,21 @@ class Code:
     breakable: bool = False
 
 
-Inline = Union[str, Math, Name, Strong, Code]
+@dataclass(frozen=True)
+class Unit:
+    """A unit the case declares, as the user wrote it (``"kW"``, ``"m/s^2"``).
+
+    LaTeX sets it with siunitx (``render.siunits.unit_latex``); the other
+    formats print the text as written, which is what ``str`` gives.
+    """
+
+    text: str
+
+    def __str__(self) -> str:
+        return self.text
+
+
+Inline = Union[str, Math, Name, Strong, Code, Unit]
 
 
 # ---------------------------------------------------------------------------
@@ -223,12 +238,16 @@ class Series:
     ``style`` is ``"line"`` (a curve) or ``"marks"`` (points only: check
     points, eigenvalues); series with the same ``key`` share a colour (a
     curve and its check points); an empty ``label`` has no legend entry.
+    ``symbol`` is the sympy expression a curve stands for (a state), or None:
+    a format that sets mathematics prints it in the legend with the sheet's
+    printer (``T_1``, ``q_1'``), and ``label`` is its plain spelling.
     """
 
     label: str
     points: tuple[tuple[float, float], ...]
     style: str = "line"
     key: str = ""
+    symbol: Any = None
 
 
 @dataclass(frozen=True)

@@ -138,8 +138,9 @@ def _figures(
     magnitude, phase = [], []
     for label, r in zip(labels, curves):
         db = [(w, 20 * math.log10(m)) for w, m in zip(r.omega, r.magnitude) if m > 0 and math.isfinite(m)]
-        magnitude.append(Series(label, tuple(db), "line", label))
-        phase.append(Series(label, tuple(zip(r.omega, r.phase_degrees)), "line", label))
+        symbol = sp.Symbol(label) if " " not in label else None  # one state or output: named in the sheet's mathematics
+        magnitude.append(Series(label, tuple(db), "line", label, symbol))
+        phase.append(Series(label, tuple(zip(r.omega, r.phase_degrees)), "line", label, symbol))
     G = rf"G({unit}\omega)"
     C, Cp = ("C\\,", "C ") if rows == "output" else ("", "")
     Gp = f"G({unit} omega)"

@@ -30,7 +30,7 @@ from ..reading.evaluation import approx
 from ..render.escape import spoken
 from ..render.siunits import axis_label
 from .blocks import Block, Figure, Heading, Inline, Items, Math, N, Name, P, Series, Table, VLine
-from .reading_numbers import decimal_name, quantity
+from .reading_numbers import decimal_name, headed, per_time, quantity, state_units, with_unit
 from .tolerance_blocks import ReadingExtras, band_blocks, band_series, extras_record, read_extras, sensitivity_blocks
 
 __all__ = [
@@ -116,7 +116,7 @@ def response_figure(
     checked = check_points(solution, span=span) if checks else None
     series: list[Series] = list(band_series(band)) if band is not None else []
     for s in sy.states:
-        series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name))
+        series.append(Series(s.name, tuple(zip(map(float, exact.times), map(float, exact.values[s.name]))), "line", s.name, s))
     if checked is not None:
         for k, s in enumerate(sy.states):
             pts = tuple(zip(map(float, checked.times), map(float, checked.values[s.name])))
@@ -203,9 +203,11 @@ def _settles(r: Response) -> list[Block]:
     return out
 
 
-def _modes(r: Response) -> list[Block]:
+def _modes(solution: Solution, r: Response) -> list[Block]:
     if not r.modes:
         return []
+    tu = solution.system.time_unit
+    rate, angular = per_time("1", tu), per_time("rad", tu)
     numeric = not any(sp.sympify(m.eigenvalue, strict=True).free_symbols for m in r.modes)
     out: list[Block] = [P(
         "How fast? One mode per real eigenvalue or complex pair, with ", _TAU, ", ", _OMEGA_N, ", ", _ZETA, " and ", _OMEGA_D,
@@ -223,15 +225,18 @@ def _modes(r: Response) -> list[Block]:
             )
             for k, m in enumerate(r.modes, start=1)
         )
-        header = ("Mode", (N(r"\lambda", "λ"),), (N(r"\tau", "τ"),), (N(r"\omega_n", "ω_n"),), (N(r"\zeta", "ζ"),), (N(r"\omega_d", "ω_d"),))
+        header = (
+            "Mode", headed((N(r"\lambda", "λ"),), rate), headed((N(r"\tau", "τ"),), tu),
+            headed((N(r"\omega_n", "ω_n"),), angular), (N(r"\zeta", "ζ"),), headed((N(r"\omega_d", "ω_d"),), angular),
+        )
         out.append(Table(header, rows, align="lrrrrr"))
         return out
     items: list[tuple[Inline, ...]] = []
     for k, m in enumerate(r.modes, start=1):
-        row: list[Inline] = [f"Mode {k}{' (dominant)' if m.dominant else ''}: ", N(r"\lambda", "λ"), " = ", *_eigenvalue(m)]
-        for name, value in ((N(r"\tau", "τ"), m.time_constant), (N(r"\omega_n", "ω_n"), m.natural_frequency),
-                            (N(r"\zeta", "ζ"), m.damping_ratio), (N(r"\omega_d", "ω_d"), m.damped_frequency)):
-            row += ["; ", name, " = ", *quantity(value)]
+        row: list[Inline] = [f"Mode {k}{' (dominant)' if m.dominant else ''}: ", N(r"\lambda", "λ"), " = ", *with_unit(_eigenvalue(m), rate)]
+        for name, value, unit in ((N(r"\tau", "τ"), m.time_constant, tu), (N(r"\omega_n", "ω_n"), m.natural_frequency, angular),
+                                  (N(r"\zeta", "ζ"), m.damping_ratio, ""), (N(r"\omega_d", "ω_d"), m.damped_frequency, angular)):
+            row += ["; ", name, " = ", *with_unit(quantity(value), unit)]
         items.append(tuple(row + ["."]))
     out.append(Items(tuple(items)))
     return out
@@ -250,20 +255,25 @@ def _states(solution: Solution, r: Response) -> list[Block]:
         "the last entry into a band of 2 % of the change (settling) and the time from 10 % to 90 % of it (rise).",
     )]
     rows = []
+    units = state_units(solution.system)
     for s in solution.system.states:
         st = r.states[s.name]
         peak = st.peak
+        unit = units.get(s.name, "")
         rows.append((
             (Math(s),),
-            quantity(st.initial_value),
-            quantity(st.final_value),
+            with_unit(quantity(st.initial_value), unit),
+            with_unit(quantity(st.final_value), unit),
             quantity(peak[0] - float(approx(solution.system.t0.xreplace(r.values)).real) if peak else None),
-            quantity(peak[1] if peak else None),
+            with_unit(quantity(peak[1] if peak else None), unit),
             ("--",) if st.overshoot is None else (decimal_name(100 * st.overshoot), " %"),
             quantity(st.settling_time),
             quantity(st.rise_time),
         ))
-    header = ("State", "Initial", "Final", "Peak time", "Peak", "Overshoot", "Settling 2 %", "Rise 10-90 %")
+    tu = solution.system.time_unit
+    header = (
+        "State", "Initial", "Final", headed("Peak time", tu), "Peak", "Overshoot", headed("Settling 2 %", tu), headed("Rise 10-90 %", tu),
+    )
     out.append(Table(header, tuple(rows), align="lrrrrrrr"))
     return out
 
@@ -273,15 +283,19 @@ def _sinusoid(solution: Solution, r: Response) -> list[Block]:
         return []
     first = next(iter(r.sinusoidal.values()))
     steady = "the steady response" if r.stability is Stability.ASYMPTOTIC else "the periodic part of the response (steady only if the free response decays)"
+    units = state_units(solution.system)
     rows = tuple(
-        ((Math(s),), quantity(part.amplitude), quantity(part.phase), quantity(part.offset))
+        (
+            (Math(s),), with_unit(quantity(part.amplitude), units.get(s.name, "")), quantity(part.phase),
+            with_unit(quantity(part.offset), units.get(s.name, "")),
+        )
         for s in solution.system.states
         if (part := r.sinusoidal.get(s.name)) is not None
     )
     return [
         P(f"Sinusoidal input: {steady} of each state is ",
           N(r"\text{offset} + \text{amplitude}\,\sin(\omega t + \text{phase})", "offset + amplitude sin(ω t + phase)"),
-          ", with ", N(r"\omega", "ω"), " = ", *quantity(first.frequency), ":"),
+          ", with ", N(r"\omega", "ω"), " = ", *with_unit(quantity(first.frequency), per_time("rad", solution.system.time_unit)), ":"),
         Table(("State", "Amplitude", "Phase (rad)", "Offset"), rows, align="lrrr"),
     ]
 
@@ -301,7 +315,7 @@ def reading_blocks(solution: Solution) -> tuple[Block, ...]:
     elif solution.system.params:
         out.append(P("Read with the parameters kept as symbols: give them values for numbers and figures."))
     out += _settles(r)
-    out += _modes(r)
+    out += _modes(solution, r)
     out += _states(solution, r)
     out += _sinusoid(solution, r)
     if not solution.verification.ok:

@@ -15,9 +15,10 @@ from typing import Any, Callable, Sequence
 import sympy as sp
 
 from ..errors import OutputError
-from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Para, Strong, Table
+from ..documents.blocks import Block, Code, Figure, Inline, Math, Name, Para, Strong, Table, Unit
 from .escape import tex_escape
 from .printing import MathFormatter
+from .siunits import unit_latex
 from .templating import get_template
 
 __all__ = ["blocks_latex", "block_helpers", "tex_text", "figure_latex", "figure_range", "FIGURE_PREAMBLE", "FIGURE_COLOURS"]
@@ -54,6 +55,8 @@ def _inline_part(part: Inline, fmt: MathFormatter) -> str:
         if part.breakable and _PATH_SAFE.fullmatch(part.text):
             return r"\path{%s}" % part.text
         return r"\texttt{%s}" % tex_escape(part.text)
+    if isinstance(part, Unit):
+        return unit_latex(part.text)
     return tex_text(str(part))
 
 
@@ -129,8 +132,11 @@ def figure_range(values: Sequence[float], *, pad: float = 0.05) -> tuple[float, 
     return lo - pad * (hi - lo), hi + pad * (hi - lo)
 
 
-def figure_latex(figure: Figure) -> str:
+def figure_latex(figure: Figure, *, fmt: MathFormatter | None = None) -> str:
     """A figure as a pgfplots axis inside a TikZ picture, built with pylatex.
+
+    A curve that carries its ``symbol`` has it in the legend as mathematics,
+    printed by ``fmt`` (the sheet's formatter; a plain one when not given).
 
     pylatex escapes text by default; the labels are program-made math
     (``Name.latex``) or escaped here, so they go in as ``NoEscape``, and the
@@ -157,17 +163,18 @@ def figure_latex(figure: Figure) -> str:
         + f"xlabel={{${figure.xlabel.latex}$}}, ylabel={{${figure.ylabel.latex}$}}"
     )
     axis = Axis(options=NoEscape(options))
+    fmt = fmt or MathFormatter.for_roots(())
     keys: dict[str, int] = {}
     for series in figure.series:
         colour = FIGURE_COLOURS[keys.setdefault(series.key or series.label, len(keys)) % len(FIGURE_COLOURS)]
         if series.style == "band":
-            axis.append(NoEscape(_band(series, colour)))
+            axis.append(NoEscape(_band(series, colour, _legend(series, fmt))))
             continue
         style = f"color={colour}, " + ("only marks, mark=o, mark size=1.8pt" if series.style == "marks" else "thick, no markers")
         if not series.label:
             style += ", forget plot"
         axis.append(Plot(
-            name=NoEscape(tex_escape(series.label)) if series.label else None,
+            name=NoEscape(_legend(series, fmt)) if series.label else None,
             coordinates=[(NoEscape(_coordinate(float(x))), NoEscape(_coordinate(float(y)))) for x, y in series.points],
             options=NoEscape(style),
         ))
@@ -181,10 +188,17 @@ def figure_latex(figure: Figure) -> str:
     return picture.dumps()
 
 
-def _band(series: Any, colour: str) -> str:
+def _legend(series: Any, fmt: MathFormatter) -> str:
+    """A curve's legend entry: its symbol as inline mathematics, else its label as text."""
+    if series.symbol is not None:
+        return f"${fmt.m(series.symbol)}$"
+    return tex_escape(series.label)
+
+
+def _band(series: Any, colour: str, name: str) -> str:
     """A shaded region: the closed path of its points, filled lightly under the curves, no outline."""
     path = " ".join(f"({_coordinate(float(x))},{_coordinate(float(y))})" for x, y in series.points)
-    legend = rf"\addlegendentry{{{tex_escape(series.label)}}}" if series.label else ""
+    legend = rf"\addlegendentry{{{name}}}" if series.label else ""
     options = f"fill={colour}, fill opacity=0.18, draw=none" + (", area legend" if series.label else ", forget plot")
     return rf"\addplot[{options}] coordinates {{{path}}} -- cycle;" + legend
 
@@ -204,7 +218,7 @@ def block_helpers(fmt: MathFormatter) -> dict[str, Callable[..., str]]:
         "cells": lambda row: " & ".join(inline(cell) for cell in row),
         "display": lambda rows: _display(rows, fmt),
         "colspec": _colspec,
-        "figure": figure_latex,
+        "figure": lambda figure: figure_latex(figure, fmt=fmt),
         "heading": _heading,
         "mathrows": _mathrows,
         "termsum": lambda block: _termsum(block, fmt),

@@ -135,7 +135,7 @@ class MarkdownRenderer(Renderer):
         files: list[tuple[str, bytes]] = []
 
         def path(figure: Figure) -> str | None:
-            svg = figure_svg(figure)
+            svg = figure_svg(figure, fmt=layout.fmt)
             if svg is None:
                 return None
             taken = {name for name, _ in files}
