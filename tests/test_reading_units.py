@@ -118,3 +118,12 @@ def test_the_sheet_with_units_in_its_tables_compiles_and_fits(mount: Solution, t
     assert "siunitx.sty" in log
     wide = [float(w) for w in re.findall(r"Overfull \\hbox \(([0-9.]+)pt too wide\)", log)]
     assert not wide, wide
+
+
+def test_the_slowest_time_constant_is_said_with_the_time_unit(mount: Solution) -> None:
+    from derive.reading.stability import classify
+
+    # c/m = 1, k/m = 4: lambda = -1/2 +- i sqrt(15)/2, so the time constant is 2 (s); without units it is bare
+    assert "the slowest mode has the time constant 2 s)" in classify(mount, {}).reason
+    bare = solve_case(loads_case(BARE, name="bare", source="test"))
+    assert "the slowest mode has the time constant 2)" in classify(bare, {}).reason

@@ -61,8 +61,20 @@ def _settled(e: sp.Expr) -> sp.Expr:
 
 
 def _word(lam: sp.Expr) -> str:
-    # the imaginary unit as the letter a reader writes, not sympy's I
-    return sp.sstr(lam.xreplace({sp.I: sp.Symbol("i")}))
+    """A number as a reader writes it: the real part first, then the imaginary part with the letter i.
+
+    >>> _word(1 + 2*sp.I), _word(-sp.I), _word(sp.Rational(-1, 2) + sp.sqrt(3)*sp.I/2)
+    ('1 + 2 i', '-i', '-1/2 + sqrt(3)/2 i')
+    """
+    if lam.has(sp.CRootOf) or lam.free_symbols:
+        return sp.sstr(lam.xreplace({sp.I: sp.Symbol("i")}))
+    re, im = lam.as_real_imag()
+    if im == 0:
+        return sp.sstr(re)
+    unit = "i" if abs(im) == 1 else f"{sp.sstr(abs(im))} i"
+    if re == 0:
+        return unit if im > 0 else f"-{unit}"
+    return f"{sp.sstr(re)} {'+' if im > 0 else '-'} {unit}"
 
 
 def _number(value: sp.Expr) -> str:
@@ -107,7 +119,8 @@ def _decided(A: sp.Matrix, lams: list[sp.Expr], signs: list[int], solution: Solu
     if all(s < 0 for s in signs):
         slow = max(lams, key=lambda lam: approx(lam).real) if not any(l.free_symbols for l in lams) else None
         # in words, not as a formula in prose: the time constant -1/Re(lambda) (the modes table has the rest)
-        tail = f" (the slowest mode has the time constant {_number(-1 / sp.simplify(sp.re(slow)))})" if slow is not None else ""
+        unit = f" {solution.system.time_unit}" if solution.system.time_unit else ""
+        tail = f" (the slowest mode has the time constant {_number(-1 / sp.simplify(sp.re(slow)))}{unit})" if slow is not None else ""
         return StabilityReading(Stability.ASYMPTOTIC, f"every eigenvalue has a negative real part{tail}: every mode decays")
     axis: list[sp.Expr] = []
     for lam, s in zip(lams, signs):
