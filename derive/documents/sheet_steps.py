@@ -583,7 +583,7 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         label = c.to_appendix("Real and imaginary parts of the complex pairs", None, "", moved)
         out.append(P(f"The real and imaginary parts of each pair are worked out in Appendix {label}.", runs_on=True))
     xh, xp = c.compact(s.homogeneous), c.compact(s.particular)
-    parts = [_mat(r"x^{\mathrm{h}}", "x_h", xh), _mat(r"x^{\mathrm{p}}", "x_p", xp)]
+    parts: list[Block] = [_mat(r"x^{\mathrm{h}}", "x_h", xh), _mat(r"x^{\mathrm{p}}", "x_p", xp)]
     if c.is_long([xh, xp], lines=2 * LONG_DISPLAY_LINES):
         label = c.to_appendix("The homogeneous and particular parts in real form", None, "", parts)
         return out + [P(f"In real form the homogeneous and particular parts are written out in Appendix {label}; their sum, "
