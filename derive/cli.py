@@ -7,6 +7,7 @@ Exit codes: 0 solved and verified; 1 verification failed; 2 bad input;
 
 from __future__ import annotations
 
+import os
 import sys
 from importlib import resources
 from pathlib import Path
@@ -61,12 +62,22 @@ def _guard(fn: Callable[[], int]) -> int:
         return EXIT_INTERNAL
 
 
+def _say(line: str) -> None:
+    """A line on standard output; a reader that has gone (``| head``) does not stop the files being written."""
+    try:
+        click.echo(line)
+    except BrokenPipeError:
+        # later lines (and the flush at exit) go nowhere instead of failing
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+
+
 def _summary(sol, exact_in: str | None = None) -> None:
     from .render.console import summary_lines
     from .render.escape import spoken
 
     for line in summary_lines(sol, exact_in=exact_in):
-        click.echo(line)
+        _say(line)
     for note in sol.notices:
         click.echo(f"note: {spoken(note)}", err=True)
 
@@ -105,7 +116,7 @@ def _solve_and_write(
     _summary(sol, _planned_file(out_dir, stem or case.name, formats))
     paths = write_outputs(sol, out_dir, stem=stem or case.name, formats=tuple(formats), pdf=pdf)
     for p in paths:
-        click.echo(f"wrote {p}")
+        _say(f"wrote {p}")
     return code
 
 

@@ -44,13 +44,19 @@ def relation_text(relation: str) -> str:
 
 def _eigenvalue_lines(solution: Solution, fmt: MathFormatter, lam: sp.Symbol) -> list[str]:
     """The eigenvalues, named where indexed, each with its decimal; the polynomial of the indexed ones."""
-    shown = []
+    shown: list[str] = []
+    decimals: list[str] = []
     for e in solution.eigenvalues:
         text = fmt.plain(e)
-        if atoms_of(e, sp.CRootOf):
-            dec = fmt.decimal(e, latex=False)
-            text += f" ≈ {dec}" if dec else ""
-        shown.append(text)
+        dec = fmt.decimal(e, latex=False) if atoms_of(e, sp.CRootOf) else ""
+        head, sep, tail = decimals[-1].rpartition(" + ") if decimals else ("", "", "")
+        if dec and sep and tail.endswith(" i") and dec == f"{head} - {tail}":
+            # a conjugate pair on one line: lambda_1, lambda_2 ≈ a ± b i
+            shown[-1] = f"{shown[-1].split(' ≈ ')[0]}, {text} ≈ {head} ± {tail}"
+            decimals[-1] = ""
+            continue
+        shown.append(f"{text} ≈ {dec}" if dec else text)
+        decimals.append(dec)
     lines = [f"eigenvalues: {', '.join(shown)}"]
     wanted = [r for r in fmt.roots if r.letter == "lambda"]
     for _, group in root_legend_rows(wanted):
