@@ -560,8 +560,11 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         P(N("A"), " and ", N("f"), " are real, so each complex pair of terms is rewritten with real functions and real constants."),
     ]
     moved: list[Block] = []
+    # a constant already solved from the initial values is called by its name, not written out again
+    solved = {value: name for st in c.solution.steps if getattr(st, "kind", "") == "initial_values" for name, value in st.values}
     for p in s.pairs:
         c1, c2 = p.real_constants[0], p.real_constants[1]
+        pair = [solved.get(k, k) if c.is_long(k, lines=1) else k for k in p.complex_constants]
         moved += [
             P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
               " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
@@ -574,7 +577,7 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         ]
         out.append(
             P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
-              " the complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
+              " the complex constants ", N(c.m_list(pair), c.plain_list(pair)),
               " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
               ", the pair contributing ",
               N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(λ {Tp})) + {f.plain(c2)} Im(v exp(λ {Tp}))"), "."),
