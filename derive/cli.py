@@ -7,6 +7,7 @@ Exit codes: 0 solved and verified; 1 verification failed; 2 bad input;
 
 from __future__ import annotations
 
+import os
 import sys
 from importlib import resources
 from pathlib import Path
@@ -61,30 +62,32 @@ def _guard(fn: Callable[[], int]) -> int:
         return EXIT_INTERNAL
 
 
-def _summary(sol) -> None:
-    import sympy as sp
+def _say(line: str) -> None:
+    """A line on standard output; a reader that has gone (``| head``) does not stop the files being written."""
+    try:
+        click.echo(line)
+    except BrokenPipeError:
+        # later lines (and the flush at exit) go nowhere instead of failing
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
 
-    names = [sp.sstr(s) for s in sol.system.states]
-    click.echo(f"eigenvalues: {', '.join(sp.sstr(e) for e in sol.eigenvalues)}")
-    if not sol.is_diagonalizable:
-        click.echo("A is not diagonalisable: the Jordan form is used")
-    for name, expr in zip(names, sol.x):
-        click.echo(f"  {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
-    if sol.outputs is not None:
-        for name, expr in zip(sol.outputs.names, sol.outputs.y):
-            click.echo(f"  output {name}({sp.sstr(sol.system.t)}) = {sp.sstr(expr)}")
-    v = sol.verification
-    status = "verified" if v.ok else "VERIFICATION FAILED"
-    parts = [f"residual: {'zero' if v.residual_zero else 'NOT zero'} ({v.residual_method})"]
-    if v.initial_ok is not None:
-        parts.append(f"x(t0) = x0: {'yes' if v.initial_ok else 'NO'}")
-    if v.numeric is not None:
-        parts.append(f"numeric gap {v.numeric.max_rel_gap:.1e}")
-    click.echo(f"{status}: " + "; ".join(parts))
-    for c in sol.conditions:
-        click.echo(f"  holds when {sp.sstr(c.expr)} {c.relation} ({c.reason})")
+
+def _summary(sol, exact_in: str | None = None) -> None:
+    from .render.console import summary_lines
+    from .render.escape import spoken
+
+    for line in summary_lines(sol, exact_in=exact_in):
+        _say(line)
     for note in sol.notices:
-        click.echo(f"note: {note}", err=True)
+        click.echo(f"note: {spoken(note)}", err=True)
+
+
+def _planned_file(out_dir: Path, stem: str, formats: Sequence[str]) -> str | None:
+    """The file of this run that will hold the full exact form (named before it is written)."""
+    from .render import RENDERERS
+    from .render.console import preferred_file
+
+    return preferred_file([str(out_dir / f"{stem}{RENDERERS[f].suffix}") for f in formats if f in RENDERERS])
 
 
 def _solve_and_write(
@@ -110,10 +113,10 @@ def _solve_and_write(
             sol = err.solution
             click.echo(f"{PROGRAM_NAME}: error: {err}", err=True)
             code = EXIT_VERIFICATION
-    _summary(sol)
+    _summary(sol, _planned_file(out_dir, stem or case.name, formats))
     paths = write_outputs(sol, out_dir, stem=stem or case.name, formats=tuple(formats), pdf=pdf)
     for p in paths:
-        click.echo(f"wrote {p}")
+        _say(f"wrote {p}")
     return code
 
 

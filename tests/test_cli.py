@@ -8,6 +8,7 @@ create no canary and write no output.
 from __future__ import annotations
 
 import os
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -181,3 +182,114 @@ def test_two_case_runs_into_one_folder_keep_both_sheets(tmp_path: Path) -> None:
     # the critically damped sheet is the Jordan case; the regime's sheet is not
     assert "Jordan" in (out / "mount-case-cpow2-eq-4km.tex").read_text()
     assert (out / "mount-case-cpow2-eq-4km.tex").read_text() != (out / "mount-case-cpow2-lt-4km.tex").read_text()
+
+
+# ---------------------------------------------------------------------------
+# The terminal summary speaks mathematics (issue 16 item 10), in a short form
+
+#: program notation that must not reach the terminal: powers, star products, sympy's constructors
+PROGRAM_NOTATION = ("**", "CRootOf", "Piecewise", "Heaviside", "!=")
+STAR_PRODUCT = re.compile(r"[\w)]\s*\*\s*[\w(]")
+
+#: a cubic with one real root and a complex pair, lambda^3 + lambda + 3 (our own numbers): indexed roots
+LAG = """
+[sheet]
+title = "Three-stage lag with feedback"
+[system]
+matrix = [[0, 1, 0], [0, 0, 1], [-3, -1, 0]]
+forcing = [0, 0, 1]
+[initial]
+t0 = 0
+values = [1, 0, 0]
+"""
+
+
+def _summary(res) -> str:
+    return "\n".join(line for line in res.output.splitlines() if not line.startswith("wrote "))
+
+
+def _no_program_notation(text: str) -> None:
+    for form in PROGRAM_NOTATION:
+        assert form not in text, form
+    assert not STAR_PRODUCT.search(text), STAR_PRODUCT.search(text)
+
+
+def test_the_demo_summary_shows_its_exact_short_solution(tmp_path: Path) -> None:
+    res = run(["demo", "-o", str(tmp_path), "--no-pdf"])
+    assert res.exit_code == 0, res.output
+    text = _summary(res)
+    _no_program_notation(text)
+    assert "eigenvalues: -1/2, -1/5" in text
+    # exact, in the parameter Q, collected by mode: no decimals, no pointer to a file
+    t1 = next(line for line in text.splitlines() if line.strip().startswith("T1(t)"))
+    assert t1.strip().startswith("T1(t) = ") and "Q" in t1 and "exp(-t/2)" in t1 and "exp(-t/5)" in t1
+    assert "≈" not in text and "full exact form" not in text
+    assert text.splitlines()[-1].startswith("verified: residual: zero (exact)")
+
+
+def test_an_indexed_root_summary_names_the_roots_gives_decimals_and_the_file(tmp_path: Path) -> None:
+    case = tmp_path / "lag.toml"
+    case.write_text(LAG)
+    res = run(["solve", str(case), "-o", str(tmp_path / "out"), "--no-pdf", "--format", "text"])
+    assert res.exit_code == 0, res.output
+    text = _summary(res)
+    _no_program_notation(text)
+    lines = text.splitlines()
+    # a conjugate pair on one line
+    assert lines[0] == "eigenvalues: λ_1 ≈ -1.2134, λ_2, λ_3 ≈ 0.60671 ± 1.4506 i"
+    assert "the roots of q(λ) = λ^3 + λ + 3 = 0" in lines[1]
+    # each state in decimals (the check of x(0) = (1, 0, 0): 0.3333 + 0.3043 + 0.3624 = 1)
+    x1 = next(line for line in lines if line.strip().startswith("x1(t)"))
+    assert x1.strip().startswith("x1(t) ≈ 0.3333 + 0.3043 exp(-1.213 t) + 0.3624 exp(0.6067 t) cos(1.451 t)")
+    assert f"the full exact form is in {tmp_path / 'out' / 'lag.txt'}" in text
+    assert "verified" in lines[-1]
+    assert len(text) < 1200, len(text)
+
+
+def test_conditions_of_one_reason_share_a_line_written_as_mathematics(tmp_path: Path) -> None:
+    res = run(["solve", str(ROOT / "tests" / "data" / "sheets" / "sym4.toml"), "-o", str(tmp_path), "--no-pdf"])
+    assert res.exit_code == 0, res.output
+    text = _summary(res)
+    _no_program_notation(text)
+    holds = [line for line in text.splitlines() if line.strip().startswith("holds when")]
+    assert len(holds) == 2, holds
+    assert any("a - b ≠ 0, a - c ≠ 0" in line and "distinct" in line for line in holds)
+    # short states exactly, in the parameters
+    assert "h1(t) = q/a - q exp(-a t)/a" in text
+
+
+def test_a_piecewise_summary_gives_each_interval_in_decimals(tmp_path: Path) -> None:
+    res = run(["solve", str(ROOT / "tests" / "data" / "sheets" / "compartments.toml"), "-o", str(tmp_path), "--no-pdf"])
+    assert res.exit_code == 0, res.output
+    text = _summary(res)
+    _no_program_notation(text)
+    c1 = next(line for line in text.splitlines() if line.strip().startswith("c1(t)"))
+    # on 1 <= t < 3: 10 - (10/3) e^{-2(t-1)/5} - (20/3) e^{-(t-1)/10}, the shifts folded into the coefficients
+    assert "10 - 4.973 exp(-0.4 t) - 7.368 exp(-0.1 t) for 1 <= t < 3" in c1
+    assert c1.count(" for ") == 4
+
+
+@pytest.mark.slow
+def test_the_six_state_chain_summary_is_short(tmp_path: Path) -> None:
+    res = run(["solve", str(ROOT / "tests" / "data" / "sheets" / "carts_indexed.toml"), "-o", str(tmp_path), "--no-pdf"])
+    assert res.exit_code == 0, res.output
+    text = _summary(res)
+    _no_program_notation(text)
+    # 199 kB with sympy's own printing (each indexed root's degree-30 polynomial in every term)
+    assert len(text) < 3000, len(text)
+    assert sum(1 for line in text.splitlines() if "(t) ≈ " in line) == 6
+    assert "carts_indexed.tex" in text
+
+
+def test_a_reader_that_stops_early_does_not_stop_the_files(tmp_path: Path) -> None:
+    case = tmp_path / "lag.toml"
+    case.write_text(LAG)
+    proc = subprocess.Popen([sys.executable, "-m", "derive", "solve", str(case), "-o", str(tmp_path / "out"), "--no-pdf",
+                             "--format", "text"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    first = proc.stdout.readline()  # type: ignore[union-attr]
+    proc.stdout.close()  # type: ignore[union-attr]  # as `| head -1` does
+    err = proc.stderr.read()  # type: ignore[union-attr]
+    assert proc.wait(timeout=300) == 0, err
+    assert first.startswith("eigenvalues: ")
+    assert "internal error" not in err and "BrokenPipe" not in err
+    assert (tmp_path / "out" / "lag.txt").exists()

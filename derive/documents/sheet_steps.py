@@ -26,7 +26,11 @@ from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, 
 from .coefficients import NAMES_KEY, Naming, compact, naming_for, parameter_values, tidy, where_blocks
 from .notation import coordinate_letter, notation_blocks
 
-__all__ = ["StepContext", "STEP_BLOCKS", "step_blocks", "coordinate_letter", "notation_blocks"]
+__all__ = ["StepContext", "STEP_BLOCKS", "step_blocks", "coordinate_letter", "notation_blocks", "LONG_DISPLAY_LINES"]
+
+#: Estimated display lines above which a matrix or list of the derivation moves to the appendix
+#: (a third of a page); the main flow says where it is.  Small cases never reach it.
+LONG_DISPLAY_LINES = 16
 
 
 @dataclass(frozen=True)
@@ -83,13 +87,37 @@ class StepContext:
         self.appendix.append((label, Heading(4, f"{label} {title}", math, bookmark), blocks))
         return label
 
+    def is_long(self, obj: Any, *, lines: int = LONG_DISPLAY_LINES) -> bool:
+        """Whether ``obj`` (an expression, a matrix, or rows of them) would fill more than ``lines`` display lines.
+
+        Estimated from the LaTeX width of each entry, a line per ``line_width``
+        glyphs, at least one per entry; a matrix that fits on one line counts
+        its rows.  Display only: it decides what the main flow shows in full.
+        """
+        items = list(obj) if isinstance(obj, (tuple, list)) else [obj]
+        width = self.fmt.style.line_width
+        total = 0
+        for item in items:
+            if isinstance(item, sp.MatrixBase):
+                if self.fmt.matrix_fits(item):
+                    total += item.rows
+                    continue
+                entries = list(item)
+            else:
+                entries = [item]
+            total += sum(max(1, -(-visible_width(self.fmt.m(e)) // width)) for e in entries)
+            if total > lines:
+                return True
+        return total > lines
+
     def appendix_blocks(self) -> list[Block]:
         """The appendix section: every moved piece of algebra under its label (empty when none)."""
         if not self.appendix:
             return []
         out: list[Block] = [
             Heading(2, "Appendix A: intermediate algebra"),
-            P("The row reductions behind the eigenvectors and Jordan chains of the derivation, in the order they are used."),
+            P("The long intermediate algebra of the derivation (row reductions, chain links, long matrices and "
+              "the vectors of each individual root), in the order it is referred to."),
         ]
         for _, heading, blocks in self.appendix:
             out.append(heading)
@@ -249,7 +277,14 @@ def _eigenvalues(s: Any, c: StepContext) -> list[Block]:
         P("Each irreducible factor is set to zero. The eigenvalues, in the order used for the columns of ", N("P"), ", are:"),
         MathRows(tuple(rows)),
     ]
-    out += [P("Form of ", Math(e.value), f": {spoken(e.rule)}.", runs_on=True) for e in s.entries if e.rule]
+    # one sentence per rule: six roots of one sextic share their reason
+    by_rule: dict[str, list[Any]] = {}
+    for e in s.entries:
+        if e.rule:
+            by_rule.setdefault(e.rule, []).append(e.value)
+    for rule, values in by_rule.items():
+        names: list[Inline] = [part for k, v in enumerate(values) for part in ((", " if k else ""), Math(v))]
+        out.append(P("Form of ", *names, f": {spoken(rule)}.", runs_on=True))
     out += c.legend([e.value for e in s.entries])
     return out
 
@@ -266,6 +301,20 @@ def _instances(c: StepContext, instances: Any, L: str, Lp: str, *, single: bool)
         for k, v in enumerate(vecs, start=1):
             out.append(_mat(f"{L} = {c.fmt.root_value(value)}:\\quad v_{{{k}}}", f"{Lp} = {c.fmt.root_value_plain(value)}: v_{k}", v))
     return out + c.legend([value for value, _ in instances])
+
+
+def _moved_instances(c: StepContext, instances: Any, L: str, Lp: str, *, single: bool) -> list[Block]:
+    """The vectors of each root in place when short, else in the appendix with a reference.
+
+    Each is the generic vector at one root, and the columns of P repeat them,
+    so a checker needs them in the main flow only when they are few and short.
+    """
+    blocks = _instances(c, instances, L, Lp, single=single)
+    if not c.is_long([v for _, vecs in instances for v in vecs]):
+        return blocks
+    label = c.to_appendix("Vectors of the individual roots", None, "", blocks[1:])
+    return [P(f"For each individual root the vectors are the ones above with ", N(L, Lp), " set to that root; they are "
+              f"written out in Appendix {label} and stand as the columns of ", N("P"), " below.", runs_on=True)]
 
 
 def _cols(idx: Any) -> str:
@@ -304,7 +353,7 @@ def _eigenvector(s: Any, c: StepContext) -> list[Block]:
     many = len(s.basis) > 1
     out += [_mat(f"v_{{{k}}}" if many else "v", f"v_{k}" if many else "v", v) for k, v in enumerate(s.basis, start=1)]
     if s.root_of is not None and s.instances:
-        out += _instances(c, s.instances, L, Lp, single=True)
+        out += _moved_instances(c, s.instances, L, Lp, single=True)
     return out
 
 
@@ -345,7 +394,7 @@ def _jordan_chain(s: Any, c: StepContext) -> list[Block]:
     out.append(P("The chain:"))
     out += [_mat(f"v_{{{k}}}", f"v_{k}", v) for k, v in enumerate(s.vectors, start=1)]
     if s.root_of is not None and s.instances:
-        out += _instances(c, s.instances, L, Lp, single=False)
+        out += _moved_instances(c, s.instances, L, Lp, single=False)
     return out
 
 
@@ -367,13 +416,16 @@ def _modal_matrix(s: Any, c: StepContext) -> list[Block]:
 
 
 def _inverse(s: Any, c: StepContext) -> list[Block]:
-    return [
-        Heading(3, "Inverse of the modal matrix"),
-        P("The decoupling needs ", N("P^{-1}", "P^-1"), ". Since ",
-          N(rf"\det P = {c.fmt.m(s.det)} \neq 0", f"det P = {c.fmt.plain(s.det)} != 0"),
-          " the columns of ", N("P"), f" are independent and the inverse exists (method: {s.method}):"),
-        _mat("P^{-1}", "P^-1", s.P_inv),
-    ]
+    lead: tuple[Inline, ...] = (
+        "The decoupling needs ", N("P^{-1}", "P^-1"), ". Since ",
+        N(rf"\det P = {c.fmt.m(s.det)} \neq 0", f"det P = {c.fmt.plain(s.det)} != 0"),
+        " the columns of ", N("P"), f" are independent and the inverse exists (method: {s.method})")
+    out: list[Block] = [Heading(3, "Inverse of the modal matrix")]
+    if not c.is_long(s.P_inv):
+        return out + [P(*lead, ":"), _mat("P^{-1}", "P^-1", s.P_inv)]
+    label = c.to_appendix("The inverse of the modal matrix", None, "", [_mat("P^{-1}", "P^-1", s.P_inv)])
+    return out + [P(*lead, f"; its entries are long, and are written out in Appendix {label}. The derivation uses it only "
+                    "through the decoupled forcing ", N("g = P^{-1} f", "g = P^-1 f"), " and the constants below.")]
 
 
 def _similarity(s: Any, c: StepContext) -> list[Block]:
@@ -508,8 +560,11 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         P(N("A"), " and ", N("f"), " are real, so each complex pair of terms is rewritten with real functions and real constants."),
     ]
     moved: list[Block] = []
+    # a constant already solved from the initial values is called by its name, not written out again
+    solved = {value: name for st in c.solution.steps if getattr(st, "kind", "") == "initial_values" for name, value in st.values}
     for p in s.pairs:
         c1, c2 = p.real_constants[0], p.real_constants[1]
+        pair = [solved.get(k, k) if c.is_long(k, lines=1) else k for k in p.complex_constants]
         moved += [
             P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
               " (from ", c.root_value(p.eigenvalue), ") with eigenvector ",
@@ -522,7 +577,7 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
         ]
         out.append(
             P("For the pair ", N(rf"\lambda = {f.m(p.re)} \pm {f.m(p.im)}\,{j}", f"λ = {f.plain(p.re)} +- {f.plain(p.im)} {j}"),
-              " the complex constants ", N(c.m_list(p.complex_constants), c.plain_list(p.complex_constants)),
+              " the complex constants ", N(c.m_list(pair), c.plain_list(pair)),
               " are replaced by the real constants ", N(c.m_list(p.real_constants), c.plain_list(p.real_constants)),
               ", the pair contributing ",
               N(f"{f.m(c1)} {re_v} + {f.m(c2)} {im_v}", f"{f.plain(c1)} Re(v exp(λ {Tp})) + {f.plain(c2)} Im(v exp(λ {Tp}))"), "."),
@@ -530,12 +585,13 @@ def _real_form(s: Any, c: StepContext) -> list[Block]:
     if moved:
         label = c.to_appendix("Real and imaginary parts of the complex pairs", None, "", moved)
         out.append(P(f"The real and imaginary parts of each pair are worked out in Appendix {label}.", runs_on=True))
-    out += [
-        P("In real form:", runs_on=True),
-        _mat(r"x^{\mathrm{h}}", "x_h", c.compact(s.homogeneous)),
-        _mat(r"x^{\mathrm{p}}", "x_p", c.compact(s.particular)),
-    ]
-    return out
+    xh, xp = c.compact(s.homogeneous), c.compact(s.particular)
+    parts: list[Block] = [_mat(r"x^{\mathrm{h}}", "x_h", xh), _mat(r"x^{\mathrm{p}}", "x_p", xp)]
+    if c.is_long([xh, xp], lines=2 * LONG_DISPLAY_LINES):
+        label = c.to_appendix("The homogeneous and particular parts in real form", None, "", parts)
+        return out + [P(f"In real form the homogeneous and particular parts are written out in Appendix {label}; their sum, "
+                        "collected by mode, is the result stated in the Result section.", runs_on=True)]
+    return out + [P("In real form:", runs_on=True), *parts]
 
 
 def _initial_values(s: Any, c: StepContext) -> list[Block]:
@@ -548,9 +604,19 @@ def _initial_values(s: Any, c: StepContext) -> list[Block]:
           " in the general solution and equating it to ", N("x_0", "x0"), " gives a linear system ", N(r"M\,c = r", "M c = r"),
           " for the constants ", N(f"c = ({c.m_list(s.constants)})^{{T}}", f"c = ({c.plain_list(s.constants)})^T"), ":"),
         _mat("x_0", "x0", s.x0),
-        P(f"The matrix ", N("M"), " and the right side ", N("r"), f" are written out in Appendix {label}. Its solution:"),
-        Eq(tuple((N(f.m(k), f.plain(k)), v) for k, v in s.values)),
+        *_constants(s, c, label),
     ]
+
+
+def _constants(s: Any, c: StepContext, label: str) -> list[Block]:
+    """The solved constants, in place when short, else with M and r in the appendix."""
+    f = c.fmt
+    rows = Eq(tuple((N(f.m(k), f.plain(k)), v) for k, v in s.values))
+    if not c.is_long([v for _, v in s.values]):
+        return [P("The matrix ", N("M"), " and the right side ", N("r"), f" are written out in Appendix {label}. Its solution:"), rows]
+    c.appendix[-1][2].extend([P("Its solution:"), rows])
+    return [P("The matrix ", N("M"), " and the right side ", N("r"), ", and the solution ",
+              N(c.m_list(s.constants), c.plain_list(s.constants)), f" (long in the indexed roots), are written out in Appendix {label}.")]
 
 
 def _result(s: Any, c: StepContext) -> list[Block]:
