@@ -377,9 +377,10 @@ def determinant_shown(P: sp.ImmutableMatrix, exact: list[DomainMatrix] | None) -
         M = mpmath.matrix([[mpmath.mpc(complex(sp.N(e, 30))) if not e.is_Rational else mpmath.mpf(e.p) / e.q for e in P.row(i)] for i in range(P.rows)])
         d = mpmath.det(M)
     d = complex(d)
-    if abs(d.imag) <= 1e-20 * max(1.0, abs(d)):
-        return sp.Float(d.real, 12)
-    return sp.Float(d.real, 12) + sp.I * sp.Float(d.imag, 12)
+    # a part below the working precision's noise is rounding, not a digit of det P
+    noise = 1e-20 * max(1.0, abs(d))
+    re, im = (0.0 if abs(d.real) <= noise else d.real), (0.0 if abs(d.imag) <= noise else d.imag)
+    return sp.Float(re, 12) + sp.I * sp.Float(im, 12) if im else sp.Float(re, 12)
 
 
 def _symbolic_determinant(P: sp.ImmutableMatrix) -> sp.Expr:

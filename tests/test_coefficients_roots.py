@@ -124,3 +124,21 @@ def test_the_sheet_lists_every_named_coefficient_in_the_appendix(plant: Solution
     assert "a_{11} &= " in exact and r"\kappa_{1} &= " in exact
     record = json.loads(render(plant, "json"))
     assert "a_11" in record["result_forms"]["coefficients"]
+
+
+def test_a_decimal_det_p_has_no_rounding_residue_and_is_said_to_be_approximate() -> None:
+    # P of x''' = -x' - 3x (companion, one real root and a complex pair without a short radical
+    # form): its columns (1, lam, lam^2) make a Vandermonde determinant, a product of root
+    # differences, which for a conjugate pair is purely imaginary (common practice).  The
+    # decimal comes from mpmath; numpy's det of the same numeric P is the outside check.
+    import numpy as np
+
+    from derive.steps import InverseStep
+
+    sol = derive.solve([[0, 1, 0], [0, 0, 1], [-3, -1, 0]])
+    det = next(s for s in sol.steps if isinstance(s, InverseStep)).det
+    re, im = det.as_real_imag()
+    assert re == 0 and im != 0
+    P = np.array(sol.P.evalf(30).tolist(), dtype=complex)
+    assert abs(complex(det) - np.linalg.det(P)) < 1e-9 * abs(np.linalg.det(P))
+    assert r"\det P \approx" in render(sol, "latex")

@@ -415,10 +415,15 @@ def _modal_matrix(s: Any, c: StepContext) -> list[Block]:
     return out
 
 
+def _rel(value: sp.Expr) -> str:
+    return r"\approx" if value.has(sp.Float) else "="
+
+
 def _inverse(s: Any, c: StepContext) -> list[Block]:
     lead: tuple[Inline, ...] = (
         "The decoupling needs ", N("P^{-1}", "P^-1"), ". Since ",
-        N(rf"\det P = {c.fmt.m(s.det)} \neq 0", f"det P = {c.fmt.plain(s.det)} != 0"),
+        # a decimal det P (indexed roots) is rounded: it is "about", and only its distance from 0 matters
+        N(rf"\det P {_rel(s.det)} {c.fmt.m(s.det)} \neq 0", f"det P {'≈' if s.det.has(sp.Float) else '='} {c.fmt.plain(s.det)} ≠ 0"),
         " the columns of ", N("P"), f" are independent and the inverse exists (method: {s.method})")
     out: list[Block] = [Heading(3, "Inverse of the modal matrix")]
     if not c.is_long(s.P_inv):
