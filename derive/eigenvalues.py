@@ -145,7 +145,7 @@ def roots_of(
         return _gaussian_roots(q, lam, ops_limit)
     if d >= 5:
         roots = [sp.CRootOf(q.as_expr(), lam, i) for i in range(d)]
-        return roots, "indexed root", f"irreducible factor of degree {d} (>= 5): no general radical form"
+        return roots, "indexed root", f"irreducible factor of degree {d} (5 or more): no general radical form"
     if d == 3:
         a, b, c, e = q.all_coeffs()
         disc = b**2 * c**2 - 4 * a * c**3 - 4 * b**3 * e - 27 * a**2 * e**2 + 18 * a * b * c * e
