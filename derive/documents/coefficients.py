@@ -233,8 +233,11 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
     # each exponential held as a symbol while expanding, so e^{-u} is never moved into a denominator
     held = {e: sp.Dummy("E") for e in atoms_of(expr, sp.exp) if e.has(t)}
     rates = {d: e.args[0] for e, d in held.items()}
+    # each sine and cosine held whole too: at t0 != 0 the result reads sin(w (t - t0)), which the
+    # expand would open into sin(w t - w t0)
+    waves = {d: e for e, d in ((e, sp.Dummy("W")) for e in atoms_of(expr, sp.sin, sp.cos) if e.has(t))}
     groups: dict[sp.Expr, sp.Expr] = {}
-    for term in sp.Add.make_args(sp.expand(replace_atoms(expr, held))):
+    for term in sp.Add.make_args(sp.expand(replace_atoms(expr, {**held, **{e: d for d, e in waves.items()}}))):
         coeff: list[sp.Expr] = []
         exps: list[sp.Expr] = []
         others: list[sp.Expr] = []
@@ -242,7 +245,11 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
             base, power = factor.as_base_exp()
             if base in rates and power.is_Integer:
                 exps.append(power * rates[base])
-            elif not factor.has(t, *rates, *unknowns):
+            elif factor in waves and sp.diff(waves[factor].args[0], t, 2) == 0:
+                others.append(waves[factor])
+            elif base in waves:
+                return None
+            elif not factor.has(t, *rates, *waves, *unknowns):
                 coeff.append(factor)
             elif factor == t or (factor.is_Pow and factor.base == t and factor.exp.is_Integer and factor.exp > 0):
                 others.append(factor)
@@ -330,7 +337,11 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     num, den = _field_form(c.xreplace({sp.I: iota}), algebraic)
     n_parts = _factored(num, algebraic)
     d_parts = _factored(den, algebraic)
-    number = n_parts[0] / d_parts[0]
+    # factor can leave a sign of its own among the factors (-(a + b)): it joins the number,
+    # so no (-1) is printed beside 1/6
+    signs = [f for f in n_parts[1:] if f.is_Number]
+    n_parts = [n_parts[0], *(f for f in n_parts[1:] if not f.is_Number)]
+    number = n_parts[0] * sp.Mul(*signs) / d_parts[0]
     rest_den = sp.Mul(*d_parts[1:])
     for poly, sym in naming.denominators:
         rest_den = rest_den.xreplace({poly: sym})
@@ -592,11 +603,21 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
         value = sp.re(value)
         return sp.Integer(int(value)) if float(value).is_integer() and abs(value) < 10**digits else sp.Float(value, digits)
 
+    #: set while a mode is read when one of its arguments was written w (t - t0)
+    shifted: list[bool] = []
+
     def linear(u: sp.Expr) -> sp.Expr | None:
         u = sp.expand(u)
-        rate, rest = number(u.coeff(t)), number(sp.expand(u - u.coeff(t) * t))
+        exact_rate = u.coeff(t)
+        exact_rest = sp.expand(u - exact_rate * t)
+        rate, rest = number(exact_rate), number(exact_rest)
         if rate is None or rest is None:
             return None
+        shift = exact_rest / exact_rate if exact_rate != 0 else None
+        if rest != 0 and rate != 0 and shift is not None and shift.is_Rational:
+            # as the exact line reads it, w (t - t0): sympy would pull e^{w t0} out as a factor
+            shifted.append(True)
+            return sp.Mul(rate, t + shift, evaluate=False)
         return rate * t + rest
 
     def dec(x: sp.Expr) -> sp.Expr | None:
@@ -605,10 +626,11 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
         factors = []
         for f in sp.Mul.make_args(x):
             if isinstance(f, (sp.exp, sp.sin, sp.cos)):
+                before = len(shifted)
                 u = linear(f.args[0])
                 if u is None:
                     return None
-                factors.append(f.func(u))
+                factors.append(f.func(u, evaluate=False) if len(shifted) > before else f.func(u))
             elif f.has(t):
                 factors.append(f)
             else:
@@ -616,7 +638,8 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
                 if v is None:
                     return None
                 factors.append(v)
-        return sp.Mul(*factors)
+        # a product would merge e^{w (t - t0)} back into e^{w t} times a number
+        return sp.Mul(*factors, evaluate=not shifted)
 
     terms: list[sp.Expr] = []
     done = False
@@ -630,14 +653,16 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
             terms.append(amp * sp.sin(arg + ph))
             done = True
             continue
+        shifted.clear()
         cd, md = dec(c), (sp.Integer(1) if m == 1 else dec(m))
+        held = bool(shifted)
         if cd is None or md is None:
             return None
         if cd != 0:
             if md == 1 or abs(cd) != 1:
                 terms.append(sp.Mul(cd, *sp.Mul.make_args(md), evaluate=False) if md != 1 else cd)
             else:
-                terms.append(md if cd == 1 else -md)
+                terms.append(md if cd == 1 else sp.Mul(-1, *sp.Mul.make_args(md), evaluate=False) if held else -md)
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
 
 
