@@ -236,7 +236,7 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
     # each sine and cosine held whole too: at t0 != 0 the result reads sin(w (t - t0)), which the
     # expand would open into sin(w t - w t0)
     waves = {d: e for e, d in ((e, sp.Dummy("W")) for e in atoms_of(expr, sp.sin, sp.cos) if e.has(t))}
-    groups: dict[sp.Expr, sp.Expr] = {}
+    groups: dict[sp.Expr, list[sp.Expr]] = {}
     for term in sp.Add.make_args(sp.expand(replace_atoms(expr, {**held, **{e: d for d, e in waves.items()}}))):
         coeff: list[sp.Expr] = []
         exps: list[sp.Expr] = []
@@ -262,8 +262,16 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
         if sum(isinstance(o, (sp.sin, sp.cos)) for o in others) > 1:
             return None
         mode = sp.Mul(*others) * (sp.exp(sp.expand(sp.Add(*exps))) if exps else 1)
-        groups[mode] = groups.get(mode, sp.Integer(0)) + sp.Mul(*coeff)
-    return tuple((c, m) for m, c in groups.items() if c != 0)
+        groups.setdefault(mode, []).append(sp.Mul(*coeff))
+    # each sum built once: adding term by term rebuilds a growing sum at every step
+    summed = ((sp.Add(*cs), m) for m, cs in groups.items())
+    return tuple((c, m) for c, m in summed if c != 0)
+
+
+@lru_cache(maxsize=4096)
+def _count_ops(e: sp.Expr) -> int:
+    """sp.count_ops, kept: a sheet asks it of the same coefficients in the derivation and in the Result."""
+    return int(sp.count_ops(e))
 
 
 def _reduce(p: sp.Expr, algebraic: Sequence[tuple[sp.Symbol, int]]) -> sp.Expr:
@@ -327,7 +335,7 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     coefficient holding an indexed root, or too large, is only renamed.
     """
     c = naming.apply(coefficient)
-    if c.is_Rational or contains(c, sp.CRootOf) or sp.count_ops(c) > _CANCEL_LIMIT:
+    if c.is_Rational or contains(c, sp.CRootOf) or _count_ops(c) > _CANCEL_LIMIT:
         return [c]
     held = {sym for _, sym in naming.roots} & c.free_symbols
     if held:
@@ -461,7 +469,7 @@ LONG_OPS = 8
 
 def is_long_in_roots(value: sp.Expr, naming: Naming) -> bool:
     """Whether ``value`` holds an indexed root's stand-in and is too long to stand in a sum of modes."""
-    return bool(value.free_symbols & {sym for _, sym in naming.roots}) and sp.count_ops(value) > LONG_OPS
+    return bool(value.free_symbols & {sym for _, sym in naming.roots}) and _count_ops(value) > LONG_OPS
 
 
 def named_coefficient(value: sp.Expr, names: dict[sp.Expr, sp.Symbol], naming: Naming) -> sp.Symbol:
