@@ -237,7 +237,11 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
     # expand would open into sin(w t - w t0)
     waves = {d: e for e, d in ((e, sp.Dummy("W")) for e in atoms_of(expr, sp.sin, sp.cos) if e.has(t))}
     groups: dict[sp.Expr, list[sp.Expr]] = {}
-    for term in sp.Add.make_args(sp.expand(replace_atoms(expr, {**held, **{e: d for d, e in waves.items()}}))):
+    stood = replace_atoms(expr, {**held, **{e: d for d, e in waves.items()}})
+    polys: dict[sp.Symbol, sp.Expr] = {}
+    if not contains(stood, sp.CRootOf):
+        stood, polys = _held_sums(stood, {t, *rates, *waves, *unknowns})
+    for term in sp.Add.make_args(sp.expand(stood)):
         coeff: list[sp.Expr] = []
         exps: list[sp.Expr] = []
         others: list[sp.Expr] = []
@@ -265,7 +269,35 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
         groups.setdefault(mode, []).append(sp.Mul(*coeff))
     # each sum built once: adding term by term rebuilds a growing sum at every step
     summed = ((sp.Add(*cs), m) for m, cs in groups.items())
+    if polys:
+        summed = ((sp.expand(c.xreplace(polys)), m) for c, m in summed)
     return tuple((c, m) for c, m in summed if c != 0)
+
+
+def _held_sums(e: sp.Expr, moving: set[sp.Basic]) -> tuple[sp.Expr, dict[sp.Symbol, sp.Expr]]:
+    """``e`` with each sum free of ``moving`` (a coefficient: a polynomial in indexed roots' parts)
+    held as a symbol, and the symbols' values.
+
+    Expanding the whole expression multiplied every mode into every term of its coefficient, only to
+    add them up again; with the coefficients held the expand only opens the modes, and each mode's
+    coefficient is expanded once, to the same expanded form.
+    """
+    polys: dict[sp.Symbol, sp.Expr] = {}
+
+    def walk(a: sp.Expr) -> sp.Expr:
+        if a.is_Add and not (a.free_symbols & moving):
+            k = sp.Dummy("K")
+            polys[k] = a
+            return k
+        if a.is_Add or a.is_Mul:
+            args = [walk(b) for b in a.args]
+            return a.func(*args) if any(x is not y for x, y in zip(args, a.args)) else a
+        if a.is_Pow and a.exp.is_Integer:
+            base = walk(a.base)
+            return sp.Pow(base, a.exp) if base is not a.base else a
+        return a
+
+    return walk(e), polys
 
 
 @lru_cache(maxsize=4096)
