@@ -24,7 +24,7 @@ import sympy as sp
 from .exact import decide_zero
 from .expoly import NotExpPoly, norm_coeff, split_complex, to_expoly
 from .model import System
-from .recombine import tidy
+from .transient import transient
 from .ringcheck import residual_is_zero
 from .spectral import small_field
 from .steps import Deferred, SteadyStateStep
@@ -204,6 +204,6 @@ def _content(A: sp.Matrix, f: sp.ImmutableMatrix, f0: sp.ImmutableMatrix, has_co
         "amplitude": amplitude,
         "phase": phase,
         "x_ss": x_ss,
-        "transient": sp.ImmutableMatrix([tidy(a - b, (), t) for a, b in zip(x, x_ss)]),
+        "transient": sp.ImmutableMatrix([transient(a, b, t) for a, b in zip(x, x_ss)]),
         "residual_zero": ok,
     }

@@ -233,8 +233,15 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
     # each exponential held as a symbol while expanding, so e^{-u} is never moved into a denominator
     held = {e: sp.Dummy("E") for e in atoms_of(expr, sp.exp) if e.has(t)}
     rates = {d: e.args[0] for e, d in held.items()}
-    groups: dict[sp.Expr, sp.Expr] = {}
-    for term in sp.Add.make_args(sp.expand(replace_atoms(expr, held))):
+    # each sine and cosine held whole too: at t0 != 0 the result reads sin(w (t - t0)), which the
+    # expand would open into sin(w t - w t0)
+    waves = {d: e for e, d in ((e, sp.Dummy("W")) for e in atoms_of(expr, sp.sin, sp.cos) if e.has(t))}
+    groups: dict[sp.Expr, list[sp.Expr]] = {}
+    stood = replace_atoms(expr, {**held, **{e: d for d, e in waves.items()}})
+    polys: dict[sp.Symbol, sp.Expr] = {}
+    if not contains(stood, sp.CRootOf):
+        stood, polys = _held_sums(stood, {t, *rates, *waves, *unknowns})
+    for term in sp.Add.make_args(sp.expand(stood)):
         coeff: list[sp.Expr] = []
         exps: list[sp.Expr] = []
         others: list[sp.Expr] = []
@@ -242,7 +249,11 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
             base, power = factor.as_base_exp()
             if base in rates and power.is_Integer:
                 exps.append(power * rates[base])
-            elif not factor.has(t, *rates, *unknowns):
+            elif factor in waves and sp.diff(waves[factor].args[0], t, 2) == 0:
+                others.append(waves[factor])
+            elif base in waves:
+                return None
+            elif not factor.has(t, *rates, *waves, *unknowns):
                 coeff.append(factor)
             elif factor == t or (factor.is_Pow and factor.base == t and factor.exp.is_Integer and factor.exp > 0):
                 others.append(factor)
@@ -255,8 +266,44 @@ def _mode_terms(expr: sp.Expr, t: sp.Symbol, unknowns: frozenset[sp.Symbol]) -> 
         if sum(isinstance(o, (sp.sin, sp.cos)) for o in others) > 1:
             return None
         mode = sp.Mul(*others) * (sp.exp(sp.expand(sp.Add(*exps))) if exps else 1)
-        groups[mode] = groups.get(mode, sp.Integer(0)) + sp.Mul(*coeff)
-    return tuple((c, m) for m, c in groups.items() if c != 0)
+        groups.setdefault(mode, []).append(sp.Mul(*coeff))
+    # each sum built once: adding term by term rebuilds a growing sum at every step
+    summed = ((sp.Add(*cs), m) for m, cs in groups.items())
+    if polys:
+        summed = ((sp.expand(c.xreplace(polys)), m) for c, m in summed)
+    return tuple((c, m) for c, m in summed if c != 0)
+
+
+def _held_sums(e: sp.Expr, moving: set[sp.Basic]) -> tuple[sp.Expr, dict[sp.Symbol, sp.Expr]]:
+    """``e`` with each sum free of ``moving`` (a coefficient: a polynomial in indexed roots' parts)
+    held as a symbol, and the symbols' values.
+
+    Expanding the whole expression multiplied every mode into every term of its coefficient, only to
+    add them up again; with the coefficients held the expand only opens the modes, and each mode's
+    coefficient is expanded once, to the same expanded form.
+    """
+    polys: dict[sp.Symbol, sp.Expr] = {}
+
+    def walk(a: sp.Expr) -> sp.Expr:
+        if a.is_Add and not (a.free_symbols & moving):
+            k = sp.Dummy("K")
+            polys[k] = a
+            return k
+        if a.is_Add or a.is_Mul:
+            args = [walk(b) for b in a.args]
+            return a.func(*args) if any(x is not y for x, y in zip(args, a.args)) else a
+        if a.is_Pow and a.exp.is_Integer:
+            base = walk(a.base)
+            return sp.Pow(base, a.exp) if base is not a.base else a
+        return a
+
+    return walk(e), polys
+
+
+@lru_cache(maxsize=4096)
+def _count_ops(e: sp.Expr) -> int:
+    """sp.count_ops, kept: a sheet asks it of the same coefficients in the derivation and in the Result."""
+    return int(sp.count_ops(e))
 
 
 def _reduce(p: sp.Expr, algebraic: Sequence[tuple[sp.Symbol, int]]) -> sp.Expr:
@@ -320,7 +367,7 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     coefficient holding an indexed root, or too large, is only renamed.
     """
     c = naming.apply(coefficient)
-    if c.is_Rational or contains(c, sp.CRootOf) or sp.count_ops(c) > _CANCEL_LIMIT:
+    if c.is_Rational or contains(c, sp.CRootOf) or _count_ops(c) > _CANCEL_LIMIT:
         return [c]
     held = {sym for _, sym in naming.roots} & c.free_symbols
     if held:
@@ -330,7 +377,11 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     num, den = _field_form(c.xreplace({sp.I: iota}), algebraic)
     n_parts = _factored(num, algebraic)
     d_parts = _factored(den, algebraic)
-    number = n_parts[0] / d_parts[0]
+    # factor can leave a sign of its own among the factors (-(a + b)): it joins the number,
+    # so no (-1) is printed beside 1/6
+    signs = [f for f in n_parts[1:] if f.is_Number]
+    n_parts = [n_parts[0], *(f for f in n_parts[1:] if not f.is_Number)]
+    number = n_parts[0] * sp.Mul(*signs) / d_parts[0]
     rest_den = sp.Mul(*d_parts[1:])
     for poly, sym in naming.denominators:
         rest_den = rest_den.xreplace({poly: sym})
@@ -450,7 +501,7 @@ LONG_OPS = 8
 
 def is_long_in_roots(value: sp.Expr, naming: Naming) -> bool:
     """Whether ``value`` holds an indexed root's stand-in and is too long to stand in a sum of modes."""
-    return bool(value.free_symbols & {sym for _, sym in naming.roots}) and sp.count_ops(value) > LONG_OPS
+    return bool(value.free_symbols & {sym for _, sym in naming.roots}) and _count_ops(value) > LONG_OPS
 
 
 def named_coefficient(value: sp.Expr, names: dict[sp.Expr, sp.Symbol], naming: Naming) -> sp.Symbol:
@@ -592,11 +643,21 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
         value = sp.re(value)
         return sp.Integer(int(value)) if float(value).is_integer() and abs(value) < 10**digits else sp.Float(value, digits)
 
+    #: set while a mode is read when one of its arguments was written w (t - t0)
+    shifted: list[bool] = []
+
     def linear(u: sp.Expr) -> sp.Expr | None:
         u = sp.expand(u)
-        rate, rest = number(u.coeff(t)), number(sp.expand(u - u.coeff(t) * t))
+        exact_rate = u.coeff(t)
+        exact_rest = sp.expand(u - exact_rate * t)
+        rate, rest = number(exact_rate), number(exact_rest)
         if rate is None or rest is None:
             return None
+        shift = exact_rest / exact_rate if exact_rate != 0 else None
+        if rest != 0 and rate != 0 and shift is not None and shift.is_Rational:
+            # as the exact line reads it, w (t - t0): sympy would pull e^{w t0} out as a factor
+            shifted.append(True)
+            return sp.Mul(rate, t + shift, evaluate=False)
         return rate * t + rest
 
     def dec(x: sp.Expr) -> sp.Expr | None:
@@ -605,10 +666,11 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
         factors = []
         for f in sp.Mul.make_args(x):
             if isinstance(f, (sp.exp, sp.sin, sp.cos)):
+                before = len(shifted)
                 u = linear(f.args[0])
                 if u is None:
                     return None
-                factors.append(f.func(u))
+                factors.append(f.func(u, evaluate=False) if len(shifted) > before else f.func(u))
             elif f.has(t):
                 factors.append(f)
             else:
@@ -616,7 +678,8 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
                 if v is None:
                     return None
                 factors.append(v)
-        return sp.Mul(*factors)
+        # a product would merge e^{w (t - t0)} back into e^{w t} times a number
+        return sp.Mul(*factors, evaluate=not shifted)
 
     terms: list[sp.Expr] = []
     done = False
@@ -630,14 +693,16 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
             terms.append(amp * sp.sin(arg + ph))
             done = True
             continue
+        shifted.clear()
         cd, md = dec(c), (sp.Integer(1) if m == 1 else dec(m))
+        held = bool(shifted)
         if cd is None or md is None:
             return None
         if cd != 0:
             if md == 1 or abs(cd) != 1:
                 terms.append(sp.Mul(cd, *sp.Mul.make_args(md), evaluate=False) if md != 1 else cd)
             else:
-                terms.append(md if cd == 1 else -md)
+                terms.append(md if cd == 1 else sp.Mul(-1, *sp.Mul.make_args(md), evaluate=False) if held else -md)
     return Terms(*terms) if len(terms) > 1 else (terms[0] if terms else sp.Integer(0))
 
 

@@ -199,21 +199,24 @@ def sheet_context(solution: Solution, *, style: MathStyle, fragment: bool) -> di
     }
 
 
-#: (solution, style, body) of the last sheet rendered.  The body holds all the
-#: mathematics and does not depend on its wrapper, so the standalone sheet and
-#: the fragment written together print it once.  The solution itself is kept,
-#: so an identity match cannot be a different object at a reused address.
-_last_body: tuple[Solution, "MathStyle", str] | None = None
+#: (solution, style, context, body) of the last sheet rendered.  The context
+#: (root names, every display of the derivation, the compact Result) and the
+#: body that holds all the mathematics do not depend on the wrapper, so the
+#: standalone sheet and the fragment written together compute them once.  The
+#: solution itself is kept, so an identity match cannot be a different object
+#: at a reused address.
+_last_sheet: tuple[Solution, MathStyle, dict[str, Any], str] | None = None
 
 
-def _shared_body(solution: Solution, style: "MathStyle", make: Callable[[], str]) -> str:
-    global _last_body
-    last = _last_body
+def _shared_parts(solution: Solution, style: MathStyle) -> tuple[dict[str, Any], str]:
+    global _last_sheet
+    last = _last_sheet
     if last is not None and last[0] is solution and last[1] == style:
-        return last[2]
-    body = make()
-    _last_body = (solution, style, body)
-    return body
+        return last[2], last[3]
+    context = sheet_context(solution, style=style, fragment=False)
+    body = get_template("body.tex.j2").render(**context)
+    _last_sheet = (solution, style, context, body)
+    return context, body
 
 
 def render_sheet(solution: Solution, *, style: MathStyle, fragment: bool) -> str:
@@ -226,11 +229,8 @@ def render_sheet(solution: Solution, *, style: MathStyle, fragment: bool) -> str
             key="steps",
         )
     template = get_template("fragment.tex.j2" if fragment else "sheet.tex.j2")
-    body_template = get_template("body.tex.j2")
-    context = sheet_context(solution, style=style, fragment=fragment)
-    context["body"] = _shared_body(solution, style, lambda: body_template.render(**context))
+    shared, body = _shared_parts(solution, style)
     # siunitx only when a unit is set with it, so a sheet without units needs no more than before
-    needs = ("siunitx",) if UNIT_MACRO in context["body"] else ()
-    context["extra_packages"] = needs
-    context["packages"] = FRAGMENT_PACKAGES + needs
+    needs = ("siunitx",) if UNIT_MACRO in body else ()
+    context = {**shared, "fragment": fragment, "body": body, "extra_packages": needs, "packages": FRAGMENT_PACKAGES + needs}
     return template.render(**context)

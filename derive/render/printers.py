@@ -32,7 +32,7 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
-from ..rootring import atoms_of, replace_atoms
+from ..rootring import atoms_of, contains, replace_atoms
 from .escape import GREEK_LETTERS
 from .measure import visible_width
 from .terms import Terms, terms_text
@@ -94,6 +94,22 @@ class _RootStandIns:
     _standing: dict = {}
 
     def _print(self, expr: Any, **kwargs: Any) -> str:
+        if not kwargs and isinstance(expr, (sp.Add, sp.Mul)):
+            # a long display prints a sum whole, then term by term, then the sum inside a wide
+            # term: each sum and product is printed once (its text does not depend on where it
+            # stands; the caller brackets it).  Floats of one value but different precision
+            # compare equal and print differently, so an expression holding one is not kept.
+            memo = self.__dict__.setdefault("_printed", {})
+            key = (expr, bool(self._standing))
+            tex = memo.get(key)
+            if tex is None:
+                tex = self._print_new(expr)
+                if not contains(expr, sp.Float):
+                    memo[key] = tex
+            return tex
+        return self._print_new(expr, **kwargs)
+
+    def _print_new(self, expr: Any, **kwargs: Any) -> str:
         if self._standing or not isinstance(expr, (sp.Basic, sp.MatrixBase)):
             return super()._print(expr, **kwargs)  # type: ignore[misc]
         stand = self._stand_ins(expr)

@@ -13,7 +13,7 @@ the wide side because an overfull line is worse than an early break.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Iterable, Sequence
 
 import sympy as sp
@@ -21,7 +21,7 @@ import sympy as sp
 from .decimals import format_decimal
 from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
 from ..realroots import pair_numbering
-from ..rootring import atoms_of
+from ..rootring import atoms_of, contains
 from .measure import visible_width
 from .printers import PlainPrinter, SheetLatexPrinter, greek_text, plain_text, shifted_argument
 from .terms import Terms, signed
@@ -188,6 +188,9 @@ class MathFormatter:
     roots: tuple[RootName, ...]
     latex_printer: SheetLatexPrinter
     plain_printer: PlainPrinter
+    #: LaTeX already printed, by expression: a sheet prints the same entries again (a long sum
+    #: whole, then broken at its terms; the same vector in the derivation and the appendix)
+    printed: dict[sp.Basic, str] = field(default_factory=dict, compare=False, repr=False)
 
     @classmethod
     def for_roots(
@@ -219,7 +222,15 @@ class MathFormatter:
         obj = _as_expr(obj)
         if isinstance(obj, str):
             return obj
-        return self.latex_printer.doprint(obj)
+        if not isinstance(obj, sp.Basic):
+            return self.latex_printer.doprint(obj)
+        tex = self.printed.get(obj)
+        if tex is None:
+            tex = self.latex_printer.doprint(obj)
+            # Floats of one value but different precision compare equal and print differently
+            if not contains(obj, sp.Float):
+                self.printed[obj] = tex
+        return tex
 
     def plain(self, obj: Any) -> str:
         """One-line plain text of an expression (matrices as nested lists)."""
