@@ -106,8 +106,10 @@ def _linear(u: sp.Expr, t: sp.Symbol) -> tuple[sp.Expr, sp.Expr] | None:
     """(a, b) with u = a t + b, or None when u is not linear in t."""
     b, timed = u.as_independent(t, as_Add=True)
     # the usual argument a t + b reads off its terms; differentiating cost more than the rest of the walk
-    if timed.is_Mul and timed.as_independent(t, as_Add=False)[1] == t:
-        return timed.as_independent(t, as_Add=False)[0], b
+    if timed.is_Mul:
+        a, rest = timed.as_independent(t, as_Add=False)
+        if rest == t:
+            return a, b
     a = sp.diff(u, t)
     if a.has(t):
         return None
