@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import functools
 from dataclasses import dataclass
-from typing import Sequence
+from typing import Iterable, Sequence
 
 import sympy as sp
 
@@ -138,8 +138,13 @@ def recombine(
     t0: sp.Expr,
     x0: sp.ImmutableMatrix | None,
     real: bool,
+    numbers: frozenset[sp.Symbol] = frozenset(),
 ) -> Recombined:
-    """Assemble x(t) from the solved y(t); real form and constants as steps."""
+    """Assemble x(t) from the solved y(t); real form and constants as steps.
+
+    ``numbers`` are symbols that stand for real constants (the time shift's
+    stand-ins): coefficients in them are expanded like numbers, not factored.
+    """
     n = P.rows
     ivp = x0 is not None
     shift = t0 if ivp else sp.Integer(0)
@@ -249,28 +254,28 @@ def recombine(
                     hom_real[i] += [(a_sym, re_part[i]), (b_sym, im_part[i])]
         if ivp:
             hv = [ExpPoly.combination(terms) for terms in hom_terms]
-            homogeneous = _grouped_each(hv, t, shift, real=True)
+            homogeneous = _grouped_each(hv, t, shift, real=True, numbers=numbers)
         else:
             # the real constants of the pairs, and the constants of the real eigenvalues
-            homogeneous = sp.ImmutableMatrix([grouped(hom_real[i] + hom_terms[i], cs, t, real=True) for i in range(n)])
-        particular = _grouped_each(xp, t, shift, real=True)
+            homogeneous = sp.ImmutableMatrix([grouped(hom_real[i] + hom_terms[i], cs, t, real=True, numbers=numbers) for i in range(n)])
+        particular = _grouped_each(xp, t, shift, real=True, numbers=numbers)
         steps.append(RealFormStep(t=t, pairs=tuple(real_pairs), homogeneous=homogeneous, particular=particular))
     else:
         if ivp:
             hv = [ExpPoly.combination((values[c], phi[i]) for c, phi in zip(constants, phis)) for i in range(n)]
-            homogeneous = _grouped_each(hv, t, shift, real=do_real)
+            homogeneous = _grouped_each(hv, t, shift, real=do_real, numbers=numbers)
         else:
-            homogeneous = sp.ImmutableMatrix([grouped(list(zip(constants, col)), cs, t, real=do_real) for col in zip(*phis)])
-        particular = _grouped_each(xp, t, shift, real=do_real)
+            homogeneous = sp.ImmutableMatrix([grouped(list(zip(constants, col)), cs, t, real=do_real, numbers=numbers) for col in zip(*phis)])
+        particular = _grouped_each(xp, t, shift, real=do_real, numbers=numbers)
     if cs:
         # a general solution: the homogeneous part is grouped by constant and the
         # particular part holds none, so the two groupings are already disjoint
         x = sp.ImmutableMatrix([a + b for a, b in zip(homogeneous, particular)])
     elif shift == 0 and hv is not None:
         # an initial value problem: one grouping of the whole x(t) by exponential
-        x = sp.ImmutableMatrix([grouped([(sp.Integer(1), h + p)], (), t, real=do_real) for h, p in zip(hv, xp)])
+        x = sp.ImmutableMatrix([grouped([(sp.Integer(1), h + p)], (), t, real=do_real, numbers=numbers) for h, p in zip(hv, xp)])
     else:
-        x = sp.ImmutableMatrix([tidy(a + b, cs, t) for a, b in zip(homogeneous, particular)])
+        x = sp.ImmutableMatrix([tidy(a + b, cs, t, numbers=numbers) for a, b in zip(homogeneous, particular)])
     return Recombined(
         x=x,
         homogeneous=homogeneous,
@@ -281,15 +286,24 @@ def recombine(
     )
 
 
-def _grouped_each(polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr, *, real: bool) -> sp.ImmutableMatrix:
+def _grouped_each(
+    polys: Sequence[ExpPoly], t: sp.Symbol, t0: sp.Expr, *, real: bool, numbers: frozenset[sp.Symbol] = frozenset()
+) -> sp.ImmutableMatrix:
     """Each p(t) grouped by exponential (``grouped``, or tidy on the shifted form when t0 != 0)."""
     if t0 == 0:
-        return sp.ImmutableMatrix([grouped([(sp.Integer(1), p)], (), t, real=real) for p in polys])
+        return sp.ImmutableMatrix([grouped([(sp.Integer(1), p)], (), t, real=real, numbers=numbers) for p in polys])
     shown = _real(polys, t, t0) if real else _mat(polys, t, t0)
-    return shown.applyfunc(lambda e: tidy(e, (), t))
+    return shown.applyfunc(lambda e: tidy(e, (), t, numbers=numbers))
 
 
-def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Symbol], t: sp.Symbol, *, real: bool) -> sp.Expr:
+def grouped(
+    pairs: Sequence[tuple[sp.Expr, ExpPoly]],
+    constants: Sequence[sp.Symbol],
+    t: sp.Symbol,
+    *,
+    real: bool,
+    numbers: Iterable[sp.Symbol] = (),
+) -> sp.Expr:
     """tidy(sum of c p(t)) for t0 = 0, built from the exponential polynomials.
 
     ``pairs`` holds (c, p) with c one of ``constants`` or a number.  The
@@ -297,27 +311,28 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
     expanded, and factored term by term where parameters appear), but nothing
     is expanded as a whole and taken apart again.  Where a coefficient holds
     an exponential of its own (a number e^2 from the forcing), tidy reads the
-    expression instead.
+    expression instead.  Symbols in ``numbers`` stand for real constants and
+    count as numbers, not parameters.
     """
     by_const: dict[sp.Expr, dict[sp.Expr, list[sp.Expr]]] = {}
-    numbers: list[tuple[sp.Expr, ExpPoly]] = []
+    numeric: list[tuple[sp.Expr, ExpPoly]] = []
     for c, p in pairs:
         if c not in constants:
-            numbers.append((c, p))
+            numeric.append((c, p))
             continue
         groups = by_const.setdefault(c, {})
         for rate, term in exponential_groups(p, t, real=real):
             groups.setdefault(rate, []).append(term)
-    if numbers:
+    if numeric:
         rest = by_const.setdefault(sp.Integer(1), {})
-        summed = numbers[0][1] if len(numbers) == 1 and numbers[0][0] == 1 else ExpPoly.combination(numbers)
+        summed = numeric[0][1] if len(numeric) == 1 and numeric[0][0] == 1 else ExpPoly.combination(numeric)
         for rate, term in exponential_groups(summed, t, real=real):
             rest.setdefault(rate, []).append(term)
     terms = [term for groups in by_const.values() for ts in groups.values() for term in ts]
     if any(contains(term, sp.exp) for term in terms):
         expr = sp.Add(*[c * (p.real_form(t) if real else p.to_expr(t)) for c, p in pairs])
-        return tidy(expr, constants, t)
-    known = set(constants) | {t}
+        return tidy(expr, constants, t, numbers=numbers)
+    known = set(constants) | {t} | set(numbers)
     has_params = any(term.free_symbols - known for term in terms)
     out = []
     for c, groups in by_const.items():
@@ -338,20 +353,22 @@ def grouped(pairs: Sequence[tuple[sp.Expr, ExpPoly]], constants: Sequence[sp.Sym
     return sp.Add(*out)
 
 
-def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol) -> sp.Expr:
+def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol, *, numbers: Iterable[sp.Symbol] = ()) -> sp.Expr:
     """Group a solution component by constant, then by exponential factor.
 
     c_1 e^{-t}(cos 2t - 2 sin 2t) + ... reads better than the expanded sum and
     is what a checker compares with a hand derivation.  Exponentials are held
     as placeholders while expanding: left alone, expand and collect rewrite
-    e^{-t/2} as 1/sqrt(e^t) and pull e^{-k t} into denominators.
+    e^{-t/2} as 1/sqrt(e^t) and pull e^{-k t} into denominators.  Symbols
+    in ``numbers`` stand for real constants: a coefficient in them alone is
+    expanded, not factored.
     """
     exps = sorted(atoms_of(e, sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}") for i, x in enumerate(exps)}
     back = {v: sp.exp(common_out(k.args[0])) for k, v in hold.items()}
     e = sp.expand(e.xreplace(hold))
     placeholders = set(hold.values())
-    has_params = bool(e.free_symbols - set(constants) - placeholders - {t})
+    has_params = bool(e.free_symbols - set(constants) - placeholders - {t} - set(numbers))
     groups: dict[tuple, dict[sp.Expr, list[sp.Expr]]] = {}
     order: list[tuple] = []
     for term in sp.Add.make_args(e):

@@ -67,6 +67,11 @@ class TimeShift:
     rates: tuple[tuple[sp.Expr, sp.Symbol], ...]
 
     @property
+    def stand_ins(self) -> frozenset[sp.Symbol]:
+        """The stand-in symbols: real constants, grouped like numbers (never factored like parameters)."""
+        return frozenset(s for s, _ in self.values)
+
+    @property
     def t0(self) -> sp.Expr:
         return self.system.t0
 
@@ -99,6 +104,12 @@ def _time_symbol(system: System) -> sp.Symbol:
 
 def _linear(u: sp.Expr, t: sp.Symbol) -> tuple[sp.Expr, sp.Expr] | None:
     """(a, b) with u = a t + b, or None when u is not linear in t."""
+    b, timed = u.as_independent(t, as_Add=True)
+    # the usual argument a t + b reads off its terms; differentiating cost more than the rest of the walk
+    if timed.is_Mul:
+        a, rest = timed.as_independent(t, as_Add=False)
+        if rest == t:
+            return a, b
     a = sp.diff(u, t)
     if a.has(t):
         return None
@@ -215,6 +226,8 @@ def _mode(term: sp.Expr, tau: sp.Symbol) -> tuple[sp.Expr, sp.Expr] | None:
 
 def _parts(a: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
     """(Re, Im) of a rate written as r + i w (read off the expression, not decided)."""
+    if a.is_Rational:
+        return a, _ZERO
     a = sp.expand(a)
     ai = a.coeff(sp.I)
     return sp.expand(a - sp.I * ai), ai
@@ -308,13 +321,13 @@ def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Exp
         return _from_tau(e, shift)
     groups: dict[tuple[sp.Expr, sp.Expr] | None, list[sp.Expr]] = {}
     # the method's grouping is one term per mode: only a term of mixed modes is expanded
-    expanded = False
+    expanded = split = False
     for top in sp.Add.make_args(e):
         mode = _mode(top, tau)
         if mode is not None:
             groups.setdefault(mode, []).append(top)
             continue
-        expanded = True
+        expanded = split = True
         held, back = _held(top)
         for term in sp.Add.make_args(held):
             term = term.xreplace(back)
@@ -340,17 +353,25 @@ def to_t(e: sp.Expr, shift: TimeShift, eigenvalues: Sequence[sp.Expr]) -> sp.Exp
                     written = candidate
                     expanded = True
         if written is None:
+            split = split or len(terms) > 1
             free.extend(terms)
         else:
             forced.append(written)
     parts = []
     if forced:
         parts.append(tidy(sp.Add(*forced), (), t) if expanded else sp.Add(*forced))
-    if free:
-        # grouped again with the values in: each coefficient factored by cos w t0, sin w t0 is
-        # shorter, and the residual check of the result in t costs less than on the method's grouping
-        grouped = tidy(sp.Add(*free).xreplace(values), (), tau)
-        parts.append(_from_tau(grouped, shift))
+    numbers_only = not (sp.Add(*free).free_symbols - set(values) - {tau})
+    if free and numbers_only and not split:
+        # one term per mode, as the method grouped it: its coefficient stands, with the values put in
+        parts.append(_from_tau(sp.Add(*free).xreplace(values), shift))
+    elif free and numbers_only:
+        # grouped again with the stand-ins as numbers (expanded), the values put in after: e^{-1/2}
+        # then joins its mode's coefficient instead of being held as an exponential of its own
+        parts.append(_from_tau(tidy(sp.Add(*free), (), tau, numbers=set(values)).xreplace(values), shift))
+    elif free:
+        # parameters: grouped again with the values in, each coefficient factored by cos w t0, sin w t0
+        # (shorter, and the residual check of the result in t costs less than on the method's grouping)
+        parts.append(_from_tau(tidy(sp.Add(*free).xreplace(values), (), tau), shift))
     return sp.Add(*parts)
 
 

@@ -85,7 +85,7 @@ def solve_system(
     if shift is None:
         pieces = choose_method(problem).solve(problem)
     else:
-        shifted = Problem.of(shift.shifted, dec, settings=settings, taken=case_names(case))
+        shifted = Problem.of(shift.shifted, dec, settings=settings, taken=case_names(case), numbers=shift.stand_ins)
         pieces = shift_back(choose_method(shifted).solve(shifted), shift, dec.column_eigenvalues)
     # verify and assemble
     return assemble(

@@ -136,7 +136,10 @@ class Problem:
 
     ``constant_base`` names the free constants (``c`` gives c_1, c_2, ...);
     ``real`` says whether the data are real (a real form is then due);
-    ``s`` is the variable of integration and ``y`` the decoupled unknowns.
+    ``s`` is the variable of integration and ``y`` the decoupled unknowns;
+    ``numbers`` are symbols that stand for real constants (the time shift's
+    cos(w t0), sin(w t0), e^{a t0}): the methods group them like numbers, not
+    factor them like parameters.
     """
 
     system: System
@@ -147,10 +150,17 @@ class Problem:
     s: sp.Symbol
     y: tuple[sp.Symbol, ...]
     budget: Budget = field(compare=False)
+    numbers: frozenset[sp.Symbol] = frozenset()
 
     @classmethod
     def of(
-        cls, system: System, dec: Decomposition, *, settings: Settings = DEFAULT_SETTINGS, taken: Iterable[str] = ()
+        cls,
+        system: System,
+        dec: Decomposition,
+        *,
+        settings: Settings = DEFAULT_SETTINGS,
+        taken: Iterable[str] = (),
+        numbers: Iterable[sp.Symbol] = (),
     ) -> "Problem":
         """The problem of one solve (a fresh integration budget); ``taken``: names the case declares besides the system's."""
         letter = coordinate_base(system, taken=taken)
@@ -163,6 +173,7 @@ class Problem:
             s=integration_symbol(system),
             y=tuple(sp.Symbol(f"{letter}_{i + 1}") for i in range(system.n)),
             budget=Budget(left=settings.integrate_budget, each=settings.integrate_seconds),
+            numbers=frozenset(numbers),
         )
 
     @property

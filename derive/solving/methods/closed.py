@@ -81,6 +81,7 @@ class ClosedForm(ForcingMethod):
             t0=system.t0,
             x0=system.x0,
             real=problem.real,
+            numbers=problem.numbers,
         )
         steps.extend(rec.steps)
         notices = []

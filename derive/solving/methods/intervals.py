@@ -121,7 +121,7 @@ def solve_local(
     tau, shift, g_ep, scal = _scalar_local(problem, f, start=start, constants=constants, ivp=x_start is not None)
     rec = recombine(
         dec.P, dec.P_inv, scal.y, blocks=dec.blocks, constants=constants,
-        t=tau, t0=_ZERO, x0=x_start, real=problem.real,
+        t=tau, t0=_ZERO, x0=x_start, real=problem.real, numbers=problem.numbers,
     )
     if shift:
         rec = replace(
@@ -183,9 +183,9 @@ def _numbers_only(problem: Problem, f: Sequence[sp.Expr], x_start: Matrix, const
     if problem.dec.P.free_symbols or problem.dec.P_inv.free_symbols:
         return False
     t = problem.t
-    if any(sp.sympify(e, strict=True).free_symbols - {t} for e in f):
+    if any(sp.sympify(e, strict=True).free_symbols - {t} - problem.numbers for e in f):
         return False
-    return not (x_start.free_symbols - set(constants))
+    return not (x_start.free_symbols - set(constants) - problem.numbers)
 
 
 def _local_x(
