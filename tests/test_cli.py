@@ -264,8 +264,9 @@ def test_a_piecewise_summary_gives_each_interval_in_decimals(tmp_path: Path) -> 
     text = _summary(res)
     _no_program_notation(text)
     c1 = next(line for line in text.splitlines() if line.strip().startswith("c1(t)"))
-    # on 1 <= t < 3: 10 - (10/3) e^{-2(t-1)/5} - (20/3) e^{-(t-1)/10}, the shifts folded into the coefficients
-    assert "10 - 4.973 exp(-0.4 t) - 7.368 exp(-0.1 t) for 1 <= t < 3" in c1
+    # on 1 <= t < 3: 10 - (10/3) e^{-2(t-1)/5} - (20/3) e^{-(t-1)/10}, each mode from the interval's start,
+    # as the sheet's decimal line writes it
+    assert "10 - 3.333 exp(-0.4 (t - 1)) - 6.667 exp(-0.1 (t - 1)) for 1 ≤ t < 3" in c1
     assert c1.count(" for ") == 4
 
 

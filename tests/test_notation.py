@@ -104,7 +104,7 @@ def test_unit_step_is_H_and_defined_once_in_every_format() -> None:
 
 def test_piecewise_in_plain_text_is_not_a_constructor() -> None:
     e = sp.Piecewise((0, t < 1), (2 * sp.exp(1 - t), t < 3), (5, True))
-    assert f.plain(e) == "{ 0 for t < 1; 2 exp(-(t - 1)) for 1 <= t < 3; 5 for t >= 3 }"
+    assert f.plain(e) == "{ 0 for t < 1; 2 exp(-(t - 1)) for 1 ≤ t < 3; 5 for t ≥ 3 }"
     assert "Piecewise(" not in derive.render(lift(), "text").split("Result")[-1]
 
 

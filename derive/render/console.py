@@ -108,33 +108,17 @@ def _state_lines(solution: Solution, ctx: StepContext, where_file: str | None) -
 
 
 def _piecewise_decimals(expr: sp.Piecewise, t: sp.Symbol, values: Any, ctx: StepContext) -> Any:
-    """A piecewise result with each interval's value in decimals (None when one has no decimal form)."""
+    """A piecewise result with each interval's value in decimals (None when one has no decimal form).
+
+    Each interval's modes read as the sheet's decimal line writes them, e^{r (t - a)} from its start a.
+    """
     pieces = []
     for value, cond in expr.args:
         dec = decimal_terms(value, t, values, naming=ctx.naming)
         if dec is None:
             return None
-        terms = dec.args if isinstance(dec, Terms) else (dec,)
-        folded = [_folded(term, t) for term in terms]
-        pieces.append((Terms(*folded) if len(folded) > 1 else folded[0], cond))
+        pieces.append((dec, cond))
     return sp.Piecewise(*pieces, evaluate=False)
-
-
-def _folded(term: sp.Expr, t: sp.Symbol) -> sp.Expr:
-    """A decimal term c e^{a} e^{r t} (a mode of an interval starting after 0) as one number times e^{r t}."""
-    number, rest = sp.Integer(1), []
-    for f in sp.Mul.make_args(term):
-        if isinstance(f, sp.exp) and f.args[0].is_Add:
-            shift, rate = f.args[0].as_independent(t, as_Add=True)
-            number *= sp.exp(shift).evalf(6)
-            rest.append(sp.exp(rate))
-        elif f.is_Number:
-            number *= f
-        else:
-            rest.append(f)
-    if number == 1:
-        return sp.Mul(*rest)
-    return sp.Mul(number if number.is_Integer else sp.Float(number, 4), *rest)
 
 
 def _condition_lines(solution: Solution, fmt: MathFormatter) -> list[str]:

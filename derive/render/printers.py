@@ -353,15 +353,23 @@ class PlainPrinter(_RootStandIns, StrPrinter):
     def _print_acos(self, expr: sp.Expr) -> str:
         return "arccos(%s)" % self._print(expr.args[0])
 
+    def _relation(self, op: str) -> str:
+        # ≥ ≤ ≠ as written by hand where the text is Unicode (Greek letters as letters), else ASCII
+        return {">=": "≥", "<=": "≤", "!=": "≠"}.get(op, op) if self._settings["greek_letters"] else op
+
+    def _print_Relational(self, expr: sp.Expr) -> str:
+        return "%s %s %s" % (self._print(expr.lhs), self._relation(expr.rel_op), self._print(expr.rhs))
+
     def _print_Piecewise(self, expr: sp.Expr) -> str:
         # one value per interval, as on a hand-written sheet, not sympy's constructor
         rows = []
         last: Any = None
         for value, cond in expr.args:
+            ge, le = self._relation(">="), self._relation("<=")
             if cond is sp.true:
-                when = "%s >= %s" % (self._print(last.lhs), self._print(last.rhs)) if isinstance(last, sp.StrictLessThan) else "otherwise"
+                when = "%s %s %s" % (self._print(last.lhs), ge, self._print(last.rhs)) if isinstance(last, sp.StrictLessThan) else "otherwise"
             elif isinstance(cond, sp.StrictLessThan) and isinstance(last, sp.StrictLessThan) and last.lhs == cond.lhs:
-                when = "%s <= %s < %s" % (self._print(last.rhs), self._print(cond.lhs), self._print(cond.rhs))
+                when = "%s %s %s < %s" % (self._print(last.rhs), le, self._print(cond.lhs), self._print(cond.rhs))
             else:
                 when = self._print(cond)
             last = cond
