@@ -130,8 +130,8 @@ class _Relations:
         for poly, first in blocks:
             self.rules.extend(_cauchy_rules(R, poly, [1 + first + k for k in range(poly.degree())]))
         for u in sines & cosines:
-            s, c = R.gens[self.var[sp.sin(u)]], R.gens[self.var[sp.cos(u)]]
-            self.rules.append((self.var[sp.sin(u)], 2, 1 - c**2))
+            cosine = R.gens[self.var[sp.cos(u)]]
+            self.rules.append((self.var[sp.sin(u)], 2, 1 - cosine**2))
         self._powers: dict[tuple[int, int], PolyElement] = {}
         self._memo: dict[sp.Expr, PolyElement] = {}
         self._prefixes: dict[tuple, PolyElement] = {}
@@ -184,7 +184,8 @@ class _Relations:
             # sigma = (r + conj r)/2, omega = (r - conj r)/(2 i) = -i (r - conj r)/2
             got = self.reduce((a + b) * QQ(1, 2) if name == "sigma" else -R.gens[0] * (a - b) * QQ(1, 2))
         elif e in self.var:
-            got = R.gens[self.var[e]]
+            # the last root of a polynomial is not a free generator: -a_1 minus the others
+            got = self.reduce(R.gens[self.var[e]])
         elif e.is_Add:
             total: dict = {}
             for a in e.args:

@@ -129,8 +129,8 @@ def verify_solution(
         a = pieces[k].start
         gap = [_at(pieces[k].x[i], t, a) - _at(pieces[k - 1].x[i], t, a) - pieces[k].jump[i] for i in range(n)]
         # the entries share the state handed across: read in one ring, with the relations between the roots
-        settled = vanishing(gap) if any(contains(e, sp.CRootOf) for e in gap) else [False] * n
-        verdicts = [ZeroVerdict(True, "exact") if s else zero(e) for s, e in zip(settled, gap)]
+        joined = vanishing(gap) if any(contains(e, sp.CRootOf) for e in gap) else [False] * n
+        verdicts = [ZeroVerdict(True, "exact") if s else zero(e) for s, e in zip(joined, gap)]
         methods += [v.method for v in verdicts]
         if all(v.zero for v in verdicts):
             what = "the prescribed jump" if any(e != 0 for e in pieces[k].jump) else "continuity"
