@@ -6,8 +6,11 @@
    (``derive.verify.zero``: exact reduction, then a numeric identity test at
    high precision, integrals by quadrature).
 2. Joins: at every switch x(t+) - x(t-) equals the prescribed jump (zero for
-   a step), the same way; a mismatch counts against the residual (x' - A x - f
-   taken as a distribution carries a delta there).
+   a step): with indexed roots first in one ring that knows the relations
+   between the roots of each polynomial (``derive.rootrelations``; the state
+   handed across is taken apart along every eigenvector and put together
+   again), else by the zero test; a mismatch counts against the residual
+   (x' - A x - f taken as a distribution carries a delta there).
 3. Initial values: x(t0) - x0 = 0 for an initial value problem (with an
    impulse at t0: x(t0+) = x0 + b).
 4. Numeric: x(t) computed by a route of its own (``derive.verify.numeric``)
