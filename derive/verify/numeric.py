@@ -38,6 +38,7 @@ import sympy as sp
 from sympy.core.function import AppliedUndef
 
 from ..model import NumericCheck, System
+from ..rootring import atoms_of, contains
 from ..settings import DEFAULT_SETTINGS, Settings
 from .evaluate import numeric_function, root_value
 from .span import settling_span
@@ -317,7 +318,8 @@ def numeric_pieces(
     points = settings.numeric_points if points is None else points
     subs = dict(system.parameter_values())
     for p in pieces:
-        if any(e.atoms(AppliedUndef) for e in (*p.f, *p.x)):
+        # contains, atoms_of: never into an indexed root's polynomial (rebuilt on every read)
+        if any(contains(e, AppliedUndef) for e in (*p.f, *p.x)):
             raise NumericSkipped("the forcing contains an unspecified function")
     free = (system.A.free_symbols | {s for p in pieces for s in p.f.free_symbols | p.jump.free_symbols}) - {t}
     missing = [s for s in free if s not in subs]
@@ -327,7 +329,7 @@ def numeric_pieces(
     xs_all = []
     for p in pieces:
         xs = sp.ImmutableMatrix(p.x).xreplace(subs) if subs else sp.ImmutableMatrix(p.x)
-        roots = xs.atoms(sp.CRootOf)
+        roots = set().union(*(atoms_of(e, sp.CRootOf) for e in xs))
         if roots:
             xs = xs.xreplace({r: root_value(r) for r in roots})
         if xs.has(sp.zoo, sp.nan, sp.oo, -sp.oo):

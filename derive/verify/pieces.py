@@ -26,8 +26,10 @@ def verify_pieces(
     eigenvalues: Sequence[sp.Expr] = (),
     numeric: bool = True,
     settings: Settings = DEFAULT_SETTINGS,
+    exact: bool = True,
 ) -> Verification:
-    """Residual on every interval, continuity (or the jump) at every switch, x(t0), numerics.
+    """Residual on every interval, continuity (or the jump) at every switch, x(t0), numerics
+    (``exact=False``: the numeric check alone, see ``verify_solution``).
 
     >>> t = sp.Symbol("t")
     >>> sys_ = System(A=sp.ImmutableMatrix([[-1]]), f=sp.ImmutableMatrix([1]), t=t, states=(sp.Symbol("x"),),
@@ -37,5 +39,5 @@ def verify_pieces(
     True
     """
     return verify_solution(
-        system, pieces, constants=constants, eigenvalues=eigenvalues, numeric=numeric, settings=settings
+        system, pieces, constants=constants, eigenvalues=eigenvalues, numeric=numeric, settings=settings, exact=exact
     )

@@ -3,7 +3,8 @@
 Verification of a solution, verification per interval and the claim checks of
 ``eigensheet check`` all ask it here, under one :class:`~derive.settings.ZeroPolicy`.
 
-1. Exact reduction: expansion; sines and cosines rewritten as exponentials
+1. Exact reduction: a number in indexed roots reduced with the relations
+   between the roots of each polynomial (``derive.rootrelations``); expansion; sines and cosines rewritten as exponentials
    (with integrals and unspecified functions held as symbols, so their
    insides stay as they are); ``cancel`` unless the expression holds cubic
    or nested radicals (seconds per entry there).
@@ -44,6 +45,8 @@ import sympy as sp
 from sympy.core.function import AppliedUndef
 
 from ..limits import LimitExpired, inner_limit
+from ..rootring import atoms_of, contains
+from ..rootrelations import vanishes
 from ..settings import DEFAULT_ZERO_POLICY, ZeroPolicy
 from .evaluate import root_value
 
@@ -328,7 +331,7 @@ def _quadrature(node: sp.Integral, point: Mapping[sp.Symbol, Any]) -> Any:
 
 def drop_empty_integrals(e: sp.Expr) -> sp.Expr:
     """Integrals from a to a are zero (x(t0) of a convolution form)."""
-    if not e.has(sp.Integral):
+    if not contains(e, sp.Integral):
         return e
     return e.replace(
         lambda a: isinstance(a, sp.Integral) and all(len(lim) == 3 and sp.expand(lim[1] - lim[2]) == 0 for lim in a.limits),
@@ -415,6 +418,10 @@ def _held(e: sp.Expr) -> sp.Expr:
 def _regular(expr: sp.Expr, t: sp.Symbol | None, policy: ZeroPolicy, simplify: bool) -> ZeroVerdict:
     if expr == 0:
         return _exact(True)
+    if contains(expr, sp.CRootOf) and vanishes(expr):
+        # a number in several roots of one polynomial, zero by their relations (a state handed
+        # across a switch): settled before expanding it, which takes minutes and cannot see them
+        return _exact(True)
     e = sp.expand(expr)
     if e == 0:
         return _exact(True)
@@ -468,7 +475,8 @@ def decide(
     """
     e = sp.Integer(expr) if isinstance(expr, int) else sp.sympify(expr, strict=True)
     e = drop_empty_integrals(e)
-    deltas = [d for d in e.atoms(sp.DiracDelta) if t is not None and d.has(t)]
+    # atoms_of, contains: never into an indexed root's polynomial (rebuilt on every read)
+    deltas = [d for d in atoms_of(e, sp.DiracDelta) if t is not None and d.has(t)]
     if not deltas:
         return _regular(e, t, policy, simplify)
     e = sp.expand(e)

@@ -240,7 +240,7 @@ def closed_piece(
             direct = _grouping_of(p, tau, shift, t, start, shared)
             if direct is not None:
                 return direct
-            return grouping((p.real_form(tau) if shared.real_form else p.to_expr(tau)).xreplace(shift), t)
+            return grouping(replace_atoms(p.real_form(tau) if shared.real_form else p.to_expr(tau), shift), t)
 
         grouped = tuple(grouped_of(p) for p in xs)
         x = Matrix([g.expr for g in grouped])

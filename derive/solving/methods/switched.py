@@ -21,6 +21,7 @@ import sympy as sp
 from ...errors import LimitError, UnsupportedError
 from ...forcing import decided_sign, impulse_weight, is_switched, resolve_on, switching_times
 from ...model import Condition
+from ...rootring import replace_atoms
 from ...steps import DecoupleStep, Deferred, IntervalStep, JumpStep, Step
 from ...verify.pieces import PieceRecord
 from .base import ForcingMethod, Pieces, Problem
@@ -46,10 +47,11 @@ def _state_at(piece: Piece, t: sp.Symbol, end: sp.Expr) -> Matrix:
     a term of the expansion already, so nothing is expanded.
     """
     if piece.grouped is None:
-        return Matrix([_number(e.xreplace({t: end})) for e in piece.x])
+        # replace_atoms: never into an indexed root's polynomial (xreplace rebuilds it on every read)
+        return Matrix([_number(replace_atoms(e, {t: end})) for e in piece.x])
     out = []
     for g in piece.grouped:
-        terms = [part * key.xreplace({t: end}) for key, parts in g.groups for part in parts]
+        terms = [part * replace_atoms(key, {t: end}) for key, parts in g.groups for part in parts]
         out.append(sp.Add(*[sp.powsimp(term) if _powers(term) > 1 else term for term in terms]))
     return Matrix(out)
 
