@@ -370,7 +370,9 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     if c.is_Rational or contains(c, sp.CRootOf) or _count_ops(c) > _CANCEL_LIMIT:
         return [c]
     held = {sym for _, sym in naming.roots} & c.free_symbols
-    if held:
+    if held or _transcendental_numbers(c):
+        # e^{-4/5} of a state handed across a switch: factoring over Q would split 1 - e^{-4/5} into
+        # (e^{1/5} - 1)(e^{1/5} + 1)(e^{2/5} + 1) e^{-4/5}; the rational content alone reads best
         return _root_polynomial_parts(c, held)
     iota = sp.Dummy("iota")
     algebraic = (*naming.algebraic, (iota, -1))
@@ -390,6 +392,11 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     return [f.xreplace({iota: sp.I}) for f in factors if f != 1] or [sp.Integer(1)]
 
 
+def _transcendental_numbers(c: sp.Expr) -> bool:
+    """Whether ``c`` is a number holding an exponential, sine or cosine of a nonzero number."""
+    return not c.free_symbols and (c.has(sp.E) or any(f.args[0] != 0 for f in atoms_of(c, sp.exp, sp.sin, sp.cos)))
+
+
 def _root_polynomial_parts(c: sp.Expr, held: set[sp.Symbol]) -> list[sp.Expr]:
     """A polynomial in indexed roots' stand-ins as (rational content, primitive polynomial).
 
@@ -402,7 +409,9 @@ def _root_polynomial_parts(c: sp.Expr, held: set[sp.Symbol]) -> list[sp.Expr]:
     if expanded.free_symbols - held:
         return [c]
     content, prim = expanded.as_content_primitive()
-    if prim.is_Add and all(term.could_extract_minus_sign() for term in prim.args):
+    lead = prim.as_coeff_Add()[0] if not held and prim.is_Add else sp.Integer(0)
+    # 1 - e^{-4/5} rather than -1 + e^{-4/5}: the rational term leads with its sign positive
+    if lead.is_negative or (prim.is_Add and all(term.could_extract_minus_sign() for term in prim.args)):
         content, prim = -content, -prim
     return [content, prim] if content != 1 else [prim]
 

@@ -167,7 +167,8 @@ def component_rows(name: Name, exact: Any, dec: Any, ctx: StepContext) -> list[t
     for lhs, value, number in pairs:
         rows.append((lhs, value))
         if number is not None and fmt.m(number) != fmt.m(value):
-            rows.append((Name("", ""), (r"\approx", number)))
+            # in plain text the decimals stand under the exact line's "="
+            rows.append((Name("", " " * len(lhs.plain)), (r"\approx", number)))
     return rows
 
 
