@@ -12,6 +12,8 @@ interval.
 
 from __future__ import annotations
 
+import shutil
+import subprocess
 from pathlib import Path
 
 import pytest
@@ -24,6 +26,7 @@ from derive.documents.result import interval_conditions, result_forms
 from derive.documents.sheet import sheet_lambda
 from derive.documents.sheet_steps import StepContext
 from derive.model import Solution
+from derive.output import write_outputs
 from derive.render import render
 from derive.render.console import summary_lines
 from derive.render.printing import MathFormatter, collect_roots
@@ -163,3 +166,15 @@ def test_decimal_terms_of_a_piecewise_value_keeps_its_conditions() -> None:
     dec = decimal_terms(pw, t, parameter_values(derive.solve([[-1]], t=t)) or {})
     assert isinstance(dec, sp.Piecewise) and [c for _, c in dec.args] == [t < 2, sp.true]
     assert abs(float(_flat(dec.args[1][0]).subs(t, 3)) - float(sp.exp(-1) / 7 + 1)) < 1e-4
+
+
+@pytest.mark.tex
+@pytest.mark.skipif(shutil.which("latexmk") is None or shutil.which("pdftotext") is None, reason="latexmk or pdftotext missing")
+def test_the_cubic_step_main_sheet_is_short(tmp_path: Path, cubic: Solution) -> None:
+    write_outputs(cubic, tmp_path, stem="cubic_step", formats=("latex",), pdf=True)
+    text = subprocess.run(["pdftotext", "-layout", "cubic_step.pdf", "-"], cwd=tmp_path, capture_output=True, text=True,
+                          check=True, timeout=60).stdout
+    pages = text.split("\f")
+    start = next(k for k, page in enumerate(pages, start=1) if "Appendix A: intermediate algebra" in page)
+    # 14 pages before the appendix when each interval's result was written out in full (24 in all); 9 now
+    assert start - 1 <= 11, start

@@ -32,6 +32,17 @@ def _decimals(name: str, plain: str, vec: Any, c: Any) -> list[Block]:
               runs_on=True)]
 
 
+def _names_note(c: Any) -> list[Block]:
+    """Once per sheet, where the names first stand for states and coefficients of the intervals: what they are."""
+    names = c.cache.get(NAMES_KEY, {})
+    if not names or c.cache.get("names_said"):
+        return []
+    c.cache["names_said"] = True
+    return [P(Math(next(iter(names.values()))), " to ", Math(list(names.values())[-1]),
+              " (and those named later) stand for coefficients too long in the indexed roots for a line; each is listed "
+              "exactly, with its decimal, in the appendix section \"Exact coefficients\".")]
+
+
 def with_decimals(handler: Handler) -> Handler:
     """A block function for interval and jump steps that adds the handed-over state in decimals.
 
@@ -45,6 +56,8 @@ def with_decimals(handler: Handler) -> Handler:
         if s.kind == "interval" and s.x_end is not None:
             end, endp = f.m(s.end), f.plain(s.end)
             out += _decimals(f"x({end})", f"x({endp})", s.x_end, c)
+        if s.kind == "interval":
+            out += _names_note(c)
         elif s.kind == "jump":
             a, ap = f.m(s.at), f.plain(s.at)
             out += _decimals(f"x({a}^{{+}})", f"x({ap}+)", s.after, c)
@@ -146,6 +159,6 @@ def jump_blocks(s: Any, c: Any) -> list[Block]:
         _vector("b", "b", s.weight),
         P("Integrating ", N(r"x' = A\,x + f", "x' = A x + f"), " over a vanishing interval around ", N(f"{T} = {a}", f"{Tp} = {ap}"),
           ", only the impulse contributes, so the state jumps by ", N("b"), ":"),
-        _vector(f"x({a}^{{-}})", f"x({ap}-)", s.before),
-        _vector(f"x({a}^{{+}}) = x({a}^{{-}}) + b", f"x({ap}+) = x({ap}-) + b", s.after),
+        _vector(f"x({a}^{{-}})", f"x({ap}-)", handed(c, s.before)),
+        _vector(f"x({a}^{{+}}) = x({a}^{{-}}) + b", f"x({ap}+) = x({ap}-) + b", handed(c, s.after)),
     ]
