@@ -132,9 +132,12 @@ def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:
         out.append(P(f"Its homogeneous part (free response) and particular part (forced response) are written out in Appendix {label}."))
     derivation = [(sym, value) for value, sym in ctx.cache.get(NAMES_KEY, {}).items()]
     if forms.coefficients or derivation:
+        # after a switch the state handed over brings e^{sigma_1}, cos(omega_1) of the switching time along
+        switched = any(isinstance(x, sp.Piecewise) for x in solution.x)
+        also = ", and in their exponentials, sines and cosines at the switching times" if switched else ""
         blocks: list[Block] = [
             P("Each long coefficient named on the sheet, exactly, as a polynomial in the real and imaginary parts "
-              "of the indexed eigenvalues (rational content first), then its decimal:")]
+              f"of the indexed eigenvalues{also} (rational content first), then its decimal:")]
         for group in (forms.coefficients, derivation):
             if group:
                 blocks.append(Eq(tuple(row for sym, value in group for row in _with_decimal(sym, value, ctx))))
@@ -146,7 +149,7 @@ def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:
         if derivation:
             said += [" and " if said else "The coefficients ", Math(derivation[0][0]), " to ", Math(derivation[-1][0]),
                      " of the derivation"]
-        out.append(P(*said, " are polynomials in the real and imaginary parts of the indexed eigenvalues, listed exactly "
+        out.append(P(*said, f" are polynomials in the real and imaginary parts of the indexed eigenvalues{also}, listed exactly "
                      f"with their decimals in Appendix {label}."))
     return out
 
