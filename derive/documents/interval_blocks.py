@@ -40,7 +40,7 @@ def _names_note(c: Any) -> list[Block]:
     c.cache["names_said"] = True
     return [P(Math(next(iter(names.values()))), " to ", Math(list(names.values())[-1]),
               " (and those named later) stand for coefficients too long in the indexed roots for a line; each is listed "
-              "exactly, with its decimal, in the appendix section \"Exact coefficients\".")]
+              "exactly, with its decimal, among the exact coefficients in the appendix.")]
 
 
 def with_decimals(handler: Handler) -> Handler:
