@@ -216,7 +216,7 @@ def test_the_body_fragment_compiles_in_a_host_with_only_its_listed_packages(tmp_
 
 #: A representative set: the demo, a 6-state chain with a harmonic force, a pulse-and-impulse
 #: two-compartment model, a 4-state symbolic cascade, two zones under a daily swing (frequency pi/12).
-REPRESENTATIVE = ("demo", "chain6", "compartments", "sym4", "daily", "rooms", "radicals")
+REPRESENTATIVE = ("demo", "chain6", "compartments", "sym4", "daily", "rooms", "radicals", "cubic_step")
 
 
 def _overfull(log: str) -> list[float]:

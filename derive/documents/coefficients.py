@@ -370,7 +370,9 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     if c.is_Rational or contains(c, sp.CRootOf) or _count_ops(c) > _CANCEL_LIMIT:
         return [c]
     held = {sym for _, sym in naming.roots} & c.free_symbols
-    if held:
+    if held or _transcendental_numbers(c):
+        # e^{-4/5} of a state handed across a switch: factoring over Q would split 1 - e^{-4/5} into
+        # (e^{1/5} - 1)(e^{1/5} + 1)(e^{2/5} + 1) e^{-4/5}; the rational content alone reads best
         return _root_polynomial_parts(c, held)
     iota = sp.Dummy("iota")
     algebraic = (*naming.algebraic, (iota, -1))
@@ -390,6 +392,11 @@ def tidy_parts(coefficient: sp.Expr, naming: Naming) -> list[sp.Expr]:
     return [f.xreplace({iota: sp.I}) for f in factors if f != 1] or [sp.Integer(1)]
 
 
+def _transcendental_numbers(c: sp.Expr) -> bool:
+    """Whether ``c`` is a number holding an exponential, sine or cosine of a nonzero number."""
+    return not c.free_symbols and (c.has(sp.E) or any(f.args[0] != 0 for f in atoms_of(c, sp.exp, sp.sin, sp.cos)))
+
+
 def _root_polynomial_parts(c: sp.Expr, held: set[sp.Symbol]) -> list[sp.Expr]:
     """A polynomial in indexed roots' stand-ins as (rational content, primitive polynomial).
 
@@ -398,10 +405,13 @@ def _root_polynomial_parts(c: sp.Expr, held: set[sp.Symbol]) -> list[sp.Expr]:
     nothing, so only its common rational factor is taken out.
     """
     expanded = sp.expand(c)
-    if not expanded.is_polynomial(*held) or expanded.free_symbols - held:
+    # e^{sigma_1}, cos(omega_1) of a state handed across a switch count as the roots' own terms
+    if expanded.free_symbols - held:
         return [c]
     content, prim = expanded.as_content_primitive()
-    if prim.is_Add and all(term.could_extract_minus_sign() for term in prim.args):
+    lead = prim.as_coeff_Add()[0] if not held and prim.is_Add else sp.Integer(0)
+    # 1 - e^{-4/5} rather than -1 + e^{-4/5}: the rational term leads with its sign positive
+    if lead.is_negative or (prim.is_Add and all(term.could_extract_minus_sign() for term in prim.args)):
         content, prim = -content, -prim
     return [content, prim] if content != 1 else [prim]
 
@@ -469,6 +479,10 @@ def compact(expr: sp.Expr, t: sp.Symbol, naming: Naming, *, values: Mapping[sp.S
     Terms(1, exp(-t)/2)
     """
     expr = naming.hold(expr)
+    if isinstance(expr, sp.Piecewise):
+        # each interval compacted as a result that is not switched, its condition kept
+        return sp.Piecewise(*((compact(v, t, naming, values=values, sinusoid=sinusoid, unknowns=unknowns, names=names), c)
+                              for v, c in expr.args), evaluate=False)
     if not isinstance(expr, sp.Expr) or not expr.has(t):
         return tidy(expr, naming) if isinstance(expr, sp.Expr) and expr.is_number is not None else expr
     pairs = mode_terms(expr, t, unknowns)
@@ -518,6 +532,10 @@ def _mode_display(mode: sp.Expr, t: sp.Symbol) -> sp.Expr:
         u = sp.expand(u)
         rate = u.coeff(t)
         rest = sp.expand(u - rate * t)
+        shift = rest / rate if rate != 0 else None
+        if rest != 0 and shift is not None and shift.is_Rational:
+            # a mode from an interval's start a reads e^{r (t - a)}, as the decimal line writes it
+            return sp.Mul(rate, t + shift, evaluate=False)
         if rest != 0 or not rate.is_Add:
             return u
         content, prim = rate.as_content_primitive()
@@ -627,6 +645,10 @@ def decimal_terms(expr: sp.Expr, t: sp.Symbol, values: Mapping[sp.Symbol, sp.Exp
     if naming is not None:
         expr = naming.hold(expr)
         values = {**values, **naming.numeric()}
+    if isinstance(expr, sp.Piecewise):
+        # a switched result: each interval's value in decimals, its modes from the interval's start
+        pieces = [(decimal_terms(v, t, values, digits=digits, sinusoid=sinusoid), c) for v, c in expr.args]
+        return None if any(d is None for d, _ in pieces) else sp.Piecewise(*pieces, evaluate=False)
     pairs = mode_terms(expr, t)
     if pairs is None:
         return None

@@ -25,7 +25,7 @@ from .coefficients import (NAMES_KEY, Naming, compact, decimal_number, decimal_t
                            steady_sinusoids, where_blocks)
 from .sheet_steps import StepContext
 
-__all__ = ["result_blocks", "ResultForms", "result_forms", "result_record"]
+__all__ = ["result_blocks", "ResultForms", "result_forms", "result_record", "component_rows", "interval_conditions"]
 
 
 class ResultForms:
@@ -68,11 +68,23 @@ class ResultForms:
         A coefficient in the parts sigma_k, omega_k of indexed roots is a
         polynomial with long integers: exact, but no line holds it.  With
         every value known the decimal line below says what it is, and the
-        exact value is listed once, in the appendix.
+        exact value is listed once, in the appendix.  A switched result is
+        named interval by interval, j running on across the intervals.
         """
+        if not isinstance(shown, sp.Piecewise):
+            return self._named_terms(shown, k, 0, letter, naming, ctx)[0]
+        pieces, first = [], 0
+        for value, cond in shown.args:
+            value, first = self._named_terms(value, k, first, letter, naming, ctx)
+            pieces.append((value, cond))
+        return sp.Piecewise(*pieces, evaluate=False)
+
+    def _named_terms(self, shown: Any, k: int, first: int, letter: str, naming: Naming,
+                     ctx: StepContext) -> tuple[Any, int]:
+        """``_named`` of one sum of modes whose terms are numbered from ``first``; and the next number."""
         terms = list(shown.args) if isinstance(shown, Terms) else [shown]
         out = []
-        for j, term in enumerate(terms):
+        for j, term in enumerate(terms, start=first):
             factors = list(sp.Mul.make_args(term)) if term.is_Mul else [term]
             coeff = [f for f in factors if not f.has(ctx.t)]
             mode = [f for f in factors if f.has(ctx.t)]
@@ -83,7 +95,7 @@ class ResultForms:
             name = sp.Symbol(f"{letter}_{k + 1}{j + 1}" if j < 9 and k < 9 else f"{letter}_{k + 1},{j + 1}")
             self.coefficients.append((name, value))
             out.append(sp.Mul(name, *mode, evaluate=False))
-        return Terms(*out) if isinstance(shown, Terms) else out[0]
+        return (Terms(*out) if isinstance(shown, Terms) else out[0]), first + len(terms)
 
 
 def result_forms(solution: Solution, ctx: StepContext) -> ResultForms:
@@ -100,9 +112,7 @@ def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:
     rows: list[tuple[Name, Any]] = []
     for k, (exact, dec) in enumerate(zip(forms.exact, forms.decimal)):
         name = ctx.state_name(k)
-        rows.append((name, exact))
-        if dec is not None and fmt.m(dec) != fmt.m(exact):
-            rows.append((Name("", ""), (r"\approx", dec)))
+        rows += component_rows(name, exact, dec, ctx)
     out: list[Block] = [
         P("The solution, component by component, collected by mode (constant, each exponential, the input's own "
           "modes), each exact coefficient over one denominator"
@@ -122,9 +132,12 @@ def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:
         out.append(P(f"Its homogeneous part (free response) and particular part (forced response) are written out in Appendix {label}."))
     derivation = [(sym, value) for value, sym in ctx.cache.get(NAMES_KEY, {}).items()]
     if forms.coefficients or derivation:
+        # after a switch the state handed over brings e^{sigma_1}, cos(omega_1) of the switching time along
+        switched = any(isinstance(x, sp.Piecewise) for x in solution.x)
+        also = ", and in their exponentials, sines and cosines at the switching times" if switched else ""
         blocks: list[Block] = [
             P("Each long coefficient named on the sheet, exactly, as a polynomial in the real and imaginary parts "
-              "of the indexed eigenvalues (rational content first), then its decimal:")]
+              f"of the indexed eigenvalues{also} (rational content first), then its decimal:")]
         for group in (forms.coefficients, derivation):
             if group:
                 blocks.append(Eq(tuple(row for sym, value in group for row in _with_decimal(sym, value, ctx))))
@@ -136,8 +149,51 @@ def result_blocks(solution: Solution, ctx: StepContext) -> list[Block]:
         if derivation:
             said += [" and " if said else "The coefficients ", Math(derivation[0][0]), " to ", Math(derivation[-1][0]),
                      " of the derivation"]
-        out.append(P(*said, " are polynomials in the real and imaginary parts of the indexed eigenvalues, listed exactly "
+        out.append(P(*said, f" are polynomials in the real and imaginary parts of the indexed eigenvalues{also}, listed exactly "
                      f"with their decimals in Appendix {label}."))
+    return out
+
+
+def component_rows(name: Name, exact: Any, dec: Any, ctx: StepContext) -> list[tuple[Name, Any]]:
+    """``name = exact`` and the decimal row below it; a switched value interval by interval, each
+    interval's condition leading its row ("for t >= 1: x_1(t) = ...") and its decimals under it."""
+    fmt = ctx.fmt
+    if not isinstance(exact, sp.Piecewise):
+        pairs = [(name, exact, dec)]
+    else:
+        decs = list(dec.args) if isinstance(dec, sp.Piecewise) and len(dec.args) == len(exact.args) else None
+        pairs = []
+        for j, ((value, _), (tex, plain)) in enumerate(zip(exact.args, interval_conditions(exact, fmt))):
+            pairs.append((Name(rf"\text{{for }} {tex}:\quad {name.latex}", f"for {plain}: {name.plain}"), value,
+                          decs[j][0] if decs else None))
+    rows: list[tuple[Name, Any]] = []
+    for lhs, value, number in pairs:
+        rows.append((lhs, value))
+        if number is not None and fmt.m(number) != fmt.m(value):
+            # in plain text the decimals stand under the exact line's "="
+            rows.append((Name("", " " * len(lhs.plain)), (r"\approx", number)))
+    return rows
+
+
+def interval_conditions(expr: sp.Piecewise, fmt: Any) -> list[tuple[str, str]]:
+    """Each interval's condition of a piecewise value in LaTeX and plain text, as a checker writes it:
+    t < 1, then 1 <= t < 3, then t >= 3 for the last ("otherwise" after a chain of upper bounds)."""
+    out: list[tuple[str, str]] = []
+    last: Any = None
+    for _, cond in expr.args:
+        if isinstance(last, sp.StrictLessThan) and (cond is sp.true or (isinstance(cond, sp.StrictLessThan)
+                                                                         and cond.lhs == last.lhs)):
+            low = sp.GreaterThan(last.lhs, last.rhs, evaluate=False)
+            if cond is sp.true:
+                out.append((fmt.m(low), fmt.plain(low)))
+            else:
+                both = sp.LessThan(last.rhs, cond.lhs, evaluate=False)
+                out.append((f"{fmt.m(both)} < {fmt.m(cond.rhs)}", f"{fmt.plain(both)} < {fmt.plain(cond.rhs)}"))
+        elif cond is sp.true:
+            out.append((r"\text{otherwise}", "otherwise"))
+        else:
+            out.append((fmt.m(cond), fmt.plain(cond)))
+        last = cond
     return out
 
 

@@ -19,7 +19,7 @@ from ..model import Solution
 from ..render.escape import spoken, tex_escape
 from ..render.printing import MathFormatter, domain_tex, root_legend_rows, visible_width
 from .output_blocks import output_blocks, values_blocks
-from .interval_blocks import shift_blocks, with_decimals
+from .interval_blocks import interval_blocks, jump_blocks, shift_blocks, with_decimals
 from . import model_blocks
 from ..render.root_parts import part_legend
 from .blocks import Block, Code, Eq, Heading, Inline, Items, Math, MathRows, N, Name, P, Para, Strong, Table, TermSum
@@ -635,59 +635,6 @@ def _result(s: Any, c: StepContext) -> list[Block]:
     return [Heading(3, "Collected result"), lead]
 
 
-def _interval(s: Any, c: StepContext) -> list[Block]:
-    f = c.fmt
-    T, Tp = f.m(s.t), f.plain(s.t)
-    a, ap = f.m(s.start), f.plain(s.start)
-    end, endp = (r"\infty", "infinity") if s.end is None else (f.m(s.end), f.plain(s.end))
-    origin = "the initial state" if s.index == 1 else f"the state in which interval {s.index - 1} ends"
-    Y, Yp = c.coord()
-    how = (
-        P("The forcing is an exponential polynomial here, so each decoupled equation is solved by its integrating factor "
-          "with the integral taken from ", Math(s.start), " to ", N(T, Tp), ", which gives")
-        if s.method == "closed form"
-        else P("The forcing has no closed-form rule here; each decoupled equation is solved in convolution form (shown next), which gives")
-    )
-    out: list[Block] = [
-        Heading(3, f"Interval {s.index}: ", N(rf"{a} \le {T} < {end}", f"{ap} <= {Tp} < {endp}"), f"interval {s.index}"),
-        P("On this interval every step, pulse and piecewise branch of the input has a fixed value, so the forcing is"),
-        _mat(f"f({T})", f"f({Tp})", s.f),
-        P("and, decoupled with ", N("g = P^{-1} f", "g = P^-1 f"), ","),
-        _mat(f"g({T})", f"g({Tp})", c.compact(s.g)),
-        P(f"The interval starts from {origin} (with any jump at ", N(f"{T} = {a}", f"{Tp} = {ap}"), " applied):"),
-        _mat(f"x({a})", f"x({ap})", s.x_start),
-        P("so the decoupled equations start from ", N(rf"{Y}({a}) = P^{{-1}}\,x({a})", f"{Yp}({ap}) = P^-1 x({ap})"), ":"),
-        _mat(f"{Y}({a})", f"{Yp}({ap})", s.y_start),
-        how,
-        _mat(f"{Y}({T})", f"{Yp}({Tp})", c.compact(s.y)),
-        P("and, with ", N(rf"x = P\,{Y}", f"x = P {Yp}"), ", on this interval"),
-        Eq(c.state_rows(s.x)),
-    ]
-    if s.x_end is not None:
-        out += [
-            P("At ", N(f"{T} = {end}", f"{Tp} = {endp}"), " the state, handed to the next interval, is"),
-            _mat(f"x({end})", f"x({endp})", s.x_end),
-        ]
-    else:
-        out.append(P("This interval has no end: the solution above holds for all later times."))
-    return out
-
-
-def _jump(s: Any, c: StepContext) -> list[Block]:
-    f = c.fmt
-    T, Tp = f.m(s.t), f.plain(s.t)
-    a, ap = f.m(s.at), f.plain(s.at)
-    return [
-        Heading(3, "Impulse at ", N(f"{T} = {a}", f"{Tp} = {ap}"), "the switch"),
-        P("The forcing contains an impulse ", N(rf"b\,\delta({T} - {a})", f"b delta({Tp} - {ap})"), " with"),
-        _mat("b", "b", s.weight),
-        P("Integrating ", N(r"x' = A\,x + f", "x' = A x + f"), " over a vanishing interval around ", N(f"{T} = {a}", f"{Tp} = {ap}"),
-          ", only the impulse contributes, so the state jumps by ", N("b"), ":"),
-        _mat(f"x({a}^{{-}})", f"x({ap}-)", s.before),
-        _mat(f"x({a}^{{+}}) = x({a}^{{-}}) + b", f"x({ap}+) = x({ap}-) + b", s.after),
-    ]
-
-
 def _convolution(s: Any, c: StepContext) -> list[Block]:
     f = c.fmt
     T, Tp = f.m(s.t), f.plain(s.t)
@@ -813,8 +760,6 @@ STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
     "real_form": _real_form,
     "initial_values": _initial_values,
     "result": _result,
-    "interval": _interval,
-    "jump": _jump,
     "convolution": _convolution,
     "steady_state": _steady_state,
     "values": values_blocks, "outputs": output_blocks,
@@ -823,7 +768,7 @@ STEP_BLOCKS: dict[str, Callable[[Any, StepContext], list[Block]]] = {
     "laplace_check": model_blocks.laplace_blocks,
 }
 STEP_BLOCKS["shift"] = shift_blocks  # noqa: E305 (time measured from t0; derive.documents.interval_blocks)
-STEP_BLOCKS["interval"], STEP_BLOCKS["jump"] = with_decimals(_interval), with_decimals(_jump)  # states handed over, in decimals
+STEP_BLOCKS["interval"], STEP_BLOCKS["jump"] = with_decimals(interval_blocks), with_decimals(jump_blocks)  # handed-over states, decimals
 
 
 

@@ -77,11 +77,9 @@ def _state_lines(solution: Solution, ctx: StepContext, where_file: str | None) -
 
     values = parameter_values(solution)
 
-    def one(name: str, exact: Any, decimal: Any, full: Any) -> str:
+    def one(name: str, exact: Any, decimal: Any) -> str:
         nonlocal long_forms
         text = fmt.plain(exact)
-        if decimal is None and values is not None and isinstance(full, sp.Piecewise):
-            decimal = _piecewise_decimals(full, t, values, ctx)
         if len(text) <= SHORT and not (getattr(exact, "free_symbols", set()) & coefficient_names):
             used.update(getattr(exact, "free_symbols", set()))
             return f"  {name} = {text}"
@@ -92,11 +90,11 @@ def _state_lines(solution: Solution, ctx: StepContext, where_file: str | None) -
 
     T = fmt.plain(t)
     for k, state in enumerate(solution.system.states):
-        lines.append(one(f"{fmt.plain(state)}({T})", forms.exact[k], forms.decimal[k], solution.x[k]))
+        lines.append(one(f"{fmt.plain(state)}({T})", forms.exact[k], forms.decimal[k]))
     if solution.outputs is not None:
         for name, y in zip(solution.outputs.names, solution.outputs.y):
             dec = decimal_terms(y, t, values, naming=ctx.naming) if values is not None else None
-            lines.append(one(f"output {name}({T})", ctx.naming.hold(y), dec, y))
+            lines.append(one(f"output {name}({T})", ctx.naming.hold(y), dec))
     where = [f"{fmt.plain(sym)} = {fmt.plain(value)}" for sym, value in forms.where if sym in used]
     parts = [f"{fmt.plain(sym)} ≈ {r.decimal}" for r in fmt.roots if r.letter != "lambda"
              for root, sym in ctx.naming.roots if root == r.root and sym in used]
@@ -105,20 +103,6 @@ def _state_lines(solution: Solution, ctx: StepContext, where_file: str | None) -
     if long_forms:
         lines.append(f"  (decimals to 4 significant figures; the full exact form is in {where_file or 'the sheet'})")
     return lines
-
-
-def _piecewise_decimals(expr: sp.Piecewise, t: sp.Symbol, values: Any, ctx: StepContext) -> Any:
-    """A piecewise result with each interval's value in decimals (None when one has no decimal form).
-
-    Each interval's modes read as the sheet's decimal line writes them, e^{r (t - a)} from its start a.
-    """
-    pieces = []
-    for value, cond in expr.args:
-        dec = decimal_terms(value, t, values, naming=ctx.naming)
-        if dec is None:
-            return None
-        pieces.append((dec, cond))
-    return sp.Piecewise(*pieces, evaluate=False)
 
 
 def _condition_lines(solution: Solution, fmt: MathFormatter) -> list[str]:
