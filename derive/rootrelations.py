@@ -37,7 +37,7 @@ from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyElement, PolyRing
 
 from .realroots import part_of
-from .rootring import atoms_of, reduce_number
+from .rootring import OutsideRing, atoms_of, generators, reduce_number
 
 __all__ = ["vanishes", "vanishing"]
 
@@ -269,24 +269,9 @@ def _index(r: sp.CRootOf) -> int:
 
 def _atoms(e: sp.Expr) -> set:
     """The indexed roots and the held functions (e^u, cos u, sin u of numbers, pi, e) of e; _Outside otherwise."""
-    out: set = set()
-    stack = [e]
-    seen: set = set()
-    while stack:
-        a = stack.pop()
-        if a in seen:
-            continue
-        seen.add(a)
-        if isinstance(a, sp.CRootOf):
-            out.add(a)
-        elif a.is_Rational or a is sp.I:
-            continue
-        elif a.is_Add or a.is_Mul:
-            stack.extend(a.args)
-        elif a.is_Pow and a.exp.is_Integer:
-            stack.append(a.base)
-        elif (isinstance(a, (sp.exp, sp.sin, sp.cos)) and not a.free_symbols) or a.is_NumberSymbol:
-            out.add(a)
-        else:
-            raise _Outside(str(a))
-    return out
+    try:
+        roots, held = generators(
+            e, lambda a: (isinstance(a, (sp.exp, sp.sin, sp.cos)) and not a.free_symbols) or bool(a.is_NumberSymbol))
+    except OutsideRing as err:
+        raise _Outside(str(err)) from None
+    return roots | held

@@ -23,15 +23,16 @@ import sympy as sp
 from sympy.polys.domains import QQ
 from sympy.polys.rings import PolyElement, PolyRing
 
-__all__ = ["RootRing", "atoms_of", "contains", "replace_atoms", "collected", "expand_number", "expanded", "common_out", "plainly_nonzero", "real_imag", "reduce_number"]
+__all__ = ["RootRing", "OutsideRing", "generators", "atoms_of", "contains", "replace_atoms", "collected", "expand_number", "expanded", "common_out", "plainly_nonzero", "real_imag", "reduce_number"]
 
 
 #: the degree bound of a generator without a relation
 _NO_RELATION = 1 << 30
 
 
-class _Outside(Exception):
-    """An expression the ring does not hold (a radical, a symbol, pi, a float, ...)."""
+class OutsideRing(Exception):
+    """An expression a ring of indexed roots does not hold (a radical, a symbol, pi, a float, ...)."""
+
 
 
 class RootRing:
@@ -97,15 +98,15 @@ class RootRing:
 
     # -- inversion -------------------------------------------------------
     def inverse(self, p: PolyElement) -> PolyElement:
-        """1/p for p in Q(i)[z] with one root z; _Outside when p holds two roots or is zero."""
+        """1/p for p in Q(i)[z] with one root z; OutsideRing when p holds two roots or is zero."""
         if not p:
             raise ZeroDivisionError("division by zero in the root ring")
         used = {k for mono in p.keys() for k, e in enumerate(mono) if e and k > 0}
         if len(used) > 1:
-            raise _Outside("a denominator in two indexed roots")
+            raise OutsideRing("a denominator in two indexed roots")
         R = self.R
         if any(self.degrees[k] == _NO_RELATION for k in used):
-            raise _Outside("a denominator in a generator without a relation")
+            raise OutsideRing("a denominator in a generator without a relation")
         if any(mono[0] for mono in p.keys()):
             # times the conjugate in i: (a + b i)(a - b i) = a^2 + b^2, free of i
             conj = R.from_dict({m: (-c if m[0] % 2 else c) for m, c in p.items()})
@@ -163,7 +164,7 @@ class RootRing:
                 if k:
                     base = self.mul(base, base)
         else:
-            raise _Outside(str(e))
+            raise OutsideRing(str(e))
         memo[e] = got
         return got
 
@@ -315,7 +316,7 @@ def plainly_nonzero(e: sp.Expr) -> bool:
             return False
         ring = _ring(_sorted(roots))
         p = ring.element(e)
-    except (_Outside, ZeroDivisionError):
+    except (OutsideRing, ZeroDivisionError):
         return False
     if not p:
         return False
@@ -328,10 +329,14 @@ def plainly_nonzero(e: sp.Expr) -> bool:
     return ring.degrees[k] >= 3 and max(mono[k] for mono in p.keys()) == 1
 
 
-def _scan(e: sp.Expr, roots: set, free: set, *, numbers: bool = False) -> None:
-    """The indexed roots and the other generators of a sum of products (never a root's own args,
-    which sympy rebuilds as an expression on every read).  With ``numbers``, exponentials and
-    constants such as e and pi are generators too (numbers held as they stand)."""
+def generators(e: sp.Expr, held: Callable[[sp.Expr], bool]) -> tuple[set, set]:
+    """The indexed roots of a sum of products of integer powers, and the other factors ``held`` accepts.
+
+    Never reads a root's own args (sympy rebuilds them as an expression on every
+    read); raises ``OutsideRing`` at a factor that is neither.
+    """
+    roots: set = set()
+    free: set = set()
     stack = [e]
     seen: set = set()
     while stack:
@@ -345,10 +350,20 @@ def _scan(e: sp.Expr, roots: set, free: set, *, numbers: bool = False) -> None:
             continue
         elif a.is_Add or a.is_Mul or (a.is_Pow and a.exp.is_Integer):
             stack.extend(a.args if not a.is_Pow else (a.base,))
-        elif isinstance(a, (sp.Symbol, sp.sin, sp.cos)) or (numbers and (_plain_exp(a) or a.is_NumberSymbol)):
+        elif held(a):
             free.add(a)
         else:
-            raise _Outside(str(a))
+            raise OutsideRing(str(a))
+    return roots, free
+
+
+def _scan(e: sp.Expr, roots: set, free: set, *, numbers: bool = False) -> None:
+    """The indexed roots and the other generators of e (see ``generators``).  With ``numbers``,
+    exponentials and constants such as e and pi are generators too (numbers held as they stand)."""
+    found, other = generators(
+        e, lambda a: isinstance(a, (sp.Symbol, sp.sin, sp.cos)) or (numbers and (_plain_exp(a) or a.is_NumberSymbol)))
+    roots |= found
+    free |= other
 
 
 def _plain_exp(a: sp.Expr) -> bool:
@@ -387,7 +402,7 @@ def reduce_number(e: sp.Expr) -> sp.Expr | None:
             return None
         ring = _ring(_sorted(roots), _sorted(free))
         p = ring.element(e)
-    except (_Outside, ZeroDivisionError):
+    except (OutsideRing, ZeroDivisionError):
         return None
     return ring.to_expr(ring.symmetric(p))
 
@@ -405,7 +420,7 @@ def expand_number(e: sp.Expr) -> sp.Expr | None:
         _scan(e, roots, free)
         ring = _ring((), _sorted(roots | free))
         return ring.to_expr(ring.element(e))
-    except (_Outside, ZeroDivisionError):
+    except (OutsideRing, ZeroDivisionError):
         return None
 
 
@@ -455,7 +470,7 @@ def real_imag(e: sp.Expr, parts_of: Callable[[sp.Expr], tuple | None]) -> tuple[
             for r, got in parts.items() if got is not None
         }
         p = ring.element(e, memo)
-    except (_Outside, ZeroDivisionError, LookupError):
+    except (OutsideRing, ZeroDivisionError, LookupError):
         return None
     re = R.from_dict({m: c for m, c in p.items() if m[0] == 0})
     im = R.from_dict({(0, *m[1:]): c for m, c in p.items() if m[0] == 1})
@@ -473,7 +488,7 @@ def collected(e: sp.Expr, keys: Sequence[sp.Expr]) -> list[tuple[sp.Expr, sp.Exp
         _scan(e, roots, free)
         ring = _ring((), _sorted((roots | free) - set(keys)) + tuple(keys))
         p = ring.element(e)
-    except (_Outside, ZeroDivisionError):
+    except (OutsideRing, ZeroDivisionError):
         return None
     m = len(ring.degrees) - len(keys)
     groups: dict[tuple, dict] = {}
