@@ -404,7 +404,7 @@ def _expanded_held(e: sp.Expr, hold: dict) -> sp.Expr:
     """
     roots = atoms_of(e, sp.CRootOf)
     stand = {r: sp.Dummy(f"R{i}", real=True) if r.is_real else sp.Dummy(f"R{i}") for i, r in enumerate(roots)}
-    e = sp.expand(replace_atoms(e, {**hold, **stand}))
+    e = expanded(replace_atoms(e, {**hold, **stand}))
     return replace_atoms(e, {v: r for r, v in stand.items()})
 
 
