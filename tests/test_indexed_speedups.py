@@ -68,3 +68,20 @@ def test_final_value_sees_a_persistent_term_and_one_that_cancels():
 def test_final_value_of_a_nested_piecewise_is_folded():
     inner = sp.Piecewise((0, t < 2), (1, True))
     assert final_value(2 * inner + sp.exp(-t), t) == ("converges", 2)
+
+
+def _tree_text(obj: sp.Basic) -> str:
+    """The definition of structure_text written out: every node, a root's polynomial included."""
+    if not obj.args:
+        return sp.srepr(obj)
+    return type(obj).__name__ + "(" + ",".join(_tree_text(a) for a in obj.args) + ")"
+
+
+def test_structure_text_of_indexed_roots_is_the_whole_tree():
+    from derive.documents.sheet import structure_text
+
+    e = R0 * sp.exp(S * t) + R1**2 * sp.cos(R0 * t) + S
+    assert structure_text(e) == _tree_text(e)
+    assert structure_text(sp.ImmutableMatrix([e, R0])) == "[" + _tree_text(e) + "," + _tree_text(R0) + "]"
+    # the root's polynomial is in the text: two roots of different polynomials differ
+    assert structure_text(R0) != structure_text(S)
