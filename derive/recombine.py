@@ -366,7 +366,7 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol, *, numbers: I
     exps = sorted(atoms_of(e, sp.exp), key=sp.default_sort_key)
     hold = {x: sp.Dummy(f"E{i}") for i, x in enumerate(exps)}
     back = {v: sp.exp(common_out(k.args[0])) for k, v in hold.items()}
-    e = sp.expand(e.xreplace(hold))
+    e = _expanded_held(e, hold)
     placeholders = set(hold.values())
     has_params = bool(e.free_symbols - set(constants) - placeholders - {t} - set(numbers))
     groups: dict[tuple, dict[sp.Expr, list[sp.Expr]]] = {}
@@ -389,10 +389,23 @@ def tidy(e: sp.Expr, constants: Sequence[sp.Symbol], t: sp.Symbol, *, numbers: I
                 coeff = _by_trig(coeff)
             elif has_params:
                 coeff = _factor_by_trig(coeff)
-            inner.append(ex.xreplace(back) * coeff)
+            inner.append(replace_atoms(ex, back) * coeff)
         out.append(sp.Mul(*cs) * sp.Add(*inner))
     # a placeholder can also sit inside a coefficient (an exponential in a denominator)
-    return _trig_factored(sp.Add(*out).xreplace(back), t)
+    return _trig_factored(replace_atoms(sp.Add(*out), back), t)
+
+
+def _expanded_held(e: sp.Expr, hold: dict) -> sp.Expr:
+    """sp.expand of ``e`` with the exponentials in ``hold`` replaced by their placeholders.
+
+    Each indexed root stands in as a symbol of its own while expanding: a deep
+    expand rebuilds and expands a root's polynomial at every visit (most of the
+    steady-state step's time on a quintic), and the roots are atoms to it anyway.
+    """
+    roots = atoms_of(e, sp.CRootOf)
+    stand = {r: sp.Dummy(f"R{i}", real=True) if r.is_real else sp.Dummy(f"R{i}") for i, r in enumerate(roots)}
+    e = expanded(replace_atoms(e, {**hold, **stand}))
+    return replace_atoms(e, {v: r for r, v in stand.items()})
 
 
 def _trig_factored(e: sp.Expr, t: sp.Symbol) -> sp.Expr:

@@ -11,6 +11,7 @@ result, verification, references and caution.  Its record
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, fields, is_dataclass
 from typing import Any
@@ -50,9 +51,16 @@ def structure_text(obj: Any) -> str:
     and again; the tree's own argument order needs no ordering."""
     if isinstance(obj, sp.MatrixBase):
         return "[" + ",".join(structure_text(e) for e in obj) + "]"
+    if isinstance(obj, sp.CRootOf):  # its args rebuild its polynomial at every read: its text once
+        return _root_text(obj)
     if not obj.args:
         return sp.srepr(obj)
     return type(obj).__name__ + "(" + ",".join(structure_text(a) for a in obj.args) + ")"
+
+
+@functools.lru_cache(maxsize=256)
+def _root_text(root: sp.CRootOf) -> str:
+    return type(root).__name__ + "(" + ",".join(structure_text(a) for a in root.args) + ")"
 
 
 def _fmt_float(x: float | None) -> str:

@@ -32,7 +32,7 @@ import numpy as np
 import sympy as sp
 
 from ..model import Solution
-from ..rootring import atoms_of, replace_atoms
+from ..rootring import atoms_of, contains, replace_atoms
 from .evaluation import approx, decided_sign, numeric_series, with_root_values
 from .records import Mode, Samples, StateReading
 
@@ -48,20 +48,34 @@ def final_value(expr: sp.Expr, t: sp.Symbol) -> tuple[str, sp.Expr | None]:
     >>> final_value(1 - sp.exp(-t) + t * sp.exp(-2 * t), t), final_value(sp.sin(t), t)[0]
     (('converges', 1), 'bounded')
     """
-    expr = sp.piecewise_fold(expr)
+    if not (isinstance(expr, sp.Piecewise) and not any(contains(v, sp.Piecewise) for v, _ in expr.args)):
+        expr = sp.piecewise_fold(expr)  # folding a plain Piecewise walks every root: only when nested
     if isinstance(expr, sp.Piecewise):
         expr = expr.args[-1][0]  # the branch after the last switch
     # expand opens every indexed root again at every node (seconds on a 6-state chain): it works on
     # stand-in symbols, and each term gets its roots back, so the limit is the same exact number
     stand = {r: sp.Dummy("root") for r in atoms_of(expr, sp.CRootOf)}
     back = {v: k for k, v in stand.items()}
+    timed: dict[sp.Expr, list[sp.Expr]] = {}
+    for term in sp.Add.make_args(replace_atoms(expr, stand)):
+        # only the factors in t are expanded: the coefficients (large polynomials in the roots)
+        # are expanded where the verdict needs them, never for a decaying mode
+        factors = sp.Mul.make_args(term)
+        c = sp.Mul(*[f for f in factors if not f.has(t)])
+        g = sp.expand(sp.Mul(*[f for f in factors if f.has(t)]), power_exp=False)
+        for h in sp.Add.make_args(g):
+            hf = sp.Mul.make_args(h)
+            timed.setdefault(sp.Mul(*[f for f in hf if f.has(t)]), []).append(c * sp.Mul(*[f for f in hf if not f.has(t)]))
     constant = sp.Integer(0)
     verdict = "converges"
-    for term in sp.Add.make_args(sp.expand(replace_atoms(expr, stand), power_exp=False)):
-        if not term.has(t):
-            constant += replace_atoms(term, back)
+    for part, coeffs in timed.items():
+        if part == 1:
+            for term in sp.Add.make_args(sp.expand(sp.Add(*coeffs), power_exp=False)):
+                constant += replace_atoms(term, back)
             continue
-        kind = _term_kind(replace_atoms(term, back), t)
+        kind = _term_kind(replace_atoms(part, back), t)
+        if kind == "decays" or sp.expand(sp.Add(*coeffs), power_exp=False) == 0:
+            continue
         if kind == "unknown" or kind == "unbounded":
             return kind, None
         if kind == "bounded":

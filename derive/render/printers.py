@@ -131,9 +131,16 @@ class _RootStandIns:
 
     def _stand_ins(self, expr: Any) -> dict[sp.Expr, sp.Symbol]:
         # sympy's atoms and has open every root, rebuilding its polynomial each time (seconds on a 6-state sheet)
-        names = self._settings["root_names"]
-        items = list(expr) if isinstance(expr, sp.MatrixBase) else [expr]
-        return {r: _stand_in(r, names.get(r, 0)) for e in items for r in atoms_of(e, sp.CRootOf)}
+        # kept per expression: a sheet prints the same sums and symbols many times over
+        memo = self.__dict__.setdefault("_stands", {}) if isinstance(expr, sp.Basic) else {}
+        got = memo.get(expr)
+        if got is None:
+            names = self._settings["root_names"]
+            items = list(expr) if isinstance(expr, sp.MatrixBase) else [expr]
+            got = {r: _stand_in(r, names.get(r, 0)) for e in items for r in atoms_of(e, sp.CRootOf)}
+            if isinstance(expr, sp.Basic):
+                memo[expr] = got
+        return got
 
     def _print_Symbol(self, expr: sp.Symbol, *args: Any, **kwargs: Any) -> str:
         root = self._standing.get(expr)

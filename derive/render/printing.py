@@ -328,23 +328,24 @@ class MathFormatter:
         """Greedy lines of signed pieces within the line width and term cap."""
         lines: list[str] = []
         current = ""
-        count = 0
+        count = width = 0
         budget = max(self.style.line_width - first_width, 20)
         for idx, (sign, tex) in enumerate(pieces):
             if idx == 0:
                 chunk = tex if sign == "+" else f"-{tex}"
             else:
                 chunk = f"{sign} {tex}"
-            if current and (
-                visible_width(current) + visible_width(chunk) > budget
-                or count >= self.style.terms_per_line
-            ):
+            # a space has no width, so the line's width is the sum of its chunks' (measuring the
+            # growing line again at every piece made long sums quadratic)
+            chunk_width = visible_width(chunk)
+            if current and (width + chunk_width > budget or count >= self.style.terms_per_line):
                 lines.append(current)
-                current, count = "", 0
+                current, count, width = "", 0, 0
                 # continuation lines start at the alignment point after the left
                 # side, indented by a quad
                 budget = max(self.style.line_width - first_width - 4, 20)
             current = f"{current} {chunk}" if current else chunk
+            width += chunk_width
             count += 1
         if current:
             lines.append(current)
