@@ -16,6 +16,8 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import ClassVar
 
+import re
+
 import jinja2
 import pytest
 import sympy as sp
@@ -666,3 +668,27 @@ def test_a_sinusoid_after_a_switch_reads_with_the_delay():
     assert r"\cos^{2}{\left(2 \left(t - 1\right) \right)}" in tex
     assert PlainPrinter().doprint(sp.sin(2 * t - 2)) == "sin(2 (t - 1))"
     assert SheetLatexPrinter().doprint(sp.sin(3 * t)) == sp.latex(sp.sin(3 * t))
+
+
+def test_a_long_display_is_set_as_several_aligns_cut_between_rows() -> None:
+    # TeX builds a whole display in memory before breaking it across pages: one align* of thousands
+    # of lines (an appendix of exact coefficients) ended in "TeX capacity exceeded"
+    from derive.render.printing import ALIGN_LINES, MathFormatter
+
+    fmt = MathFormatter.for_roots(())
+    x = sp.Symbol("x")
+    rows = []
+    for k in range(3 * ALIGN_LINES):
+        rows += [(f"a_{{{k}}}", x + k), ("", (r"\approx", sp.Float(k + 0.5, 4)))]
+    tex = fmt.display(rows)
+    blocks = tex.split(r"\end{align*}")[:-1]
+    assert len(blocks) == tex.count(r"\begin{align*}") >= 6
+    for block in blocks:
+        lines = block.split(" \\\\\n")
+        assert len(lines) <= ALIGN_LINES
+        # a row's decimal line stays with its row: no block opens with "≈"
+        assert not lines[0].split(r"\begin{align*}")[1].strip().startswith(r"&\approx")
+    # every row is there, in order
+    assert [int(m) for m in re.findall(r"a_\{(\d+)\}", tex)] == list(range(3 * ALIGN_LINES))
+    # a short display is one align*, as before
+    assert fmt.display(rows[:4]).count(r"\begin{align*}") == 1

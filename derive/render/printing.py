@@ -44,7 +44,11 @@ __all__ = [
     "GREEK_LETTERS",
     "Terms",
     "signed",
+    "ALIGN_LINES",
 ]
+
+#: the most lines one ``align*`` holds; a longer display is set as several, cut between rows
+ALIGN_LINES = 40
 
 
 # ---------------------------------------------------------------------------
@@ -409,28 +413,43 @@ class MathFormatter:
 
     def equation_rows(self, rows: Sequence[tuple[str, Any]], *, relation: str = "=") -> str:
         """Rows ``lhs = rhs`` as the body of an ``align*`` (rhs split when long)."""
-        out: list[str] = []
+        return " \\\\\n".join(line for group in self._row_groups(rows, relation=relation) for line in group)
+
+    def _row_groups(self, rows: Sequence[tuple[str, Any]], *, relation: str) -> list[list[str]]:
+        """The lines of each row; a row "≈ decimals" (an empty left side) joins the row before it."""
+        groups: list[list[str]] = []
         for lhs, rhs in rows:
             lhs_tex = lhs if isinstance(lhs, str) else self.m(lhs)
             rel = relation
             if isinstance(rhs, tuple) and len(rhs) == 2 and isinstance(rhs[0], str) and rhs[0] in ("=", r"\approx", r"\neq", r"\ne"):
                 rel, rhs = rhs
-            if isinstance(rhs, sp.Piecewise):
-                whole = self.m(rhs)
-                if visible_width(whole) + visible_width(lhs_tex) + 2 > self.style.line_width:
-                    out += self.piecewise_rows(lhs_tex, rhs, relation=rel)
-                    continue
-            lines = self.split(rhs, lead=visible_width(lhs_tex) + 2)
-            out.append(f"{lhs_tex} &{rel} {lines[0]}")
-            for line in lines[1:]:
-                out.append(rf"&\quad {line}")
-        return " \\\\\n".join(out)
+            out: list[str] = []
+            if isinstance(rhs, sp.Piecewise) and visible_width(self.m(rhs)) + visible_width(lhs_tex) + 2 > self.style.line_width:
+                out = self.piecewise_rows(lhs_tex, rhs, relation=rel)
+            else:
+                lines = self.split(rhs, lead=visible_width(lhs_tex) + 2)
+                out = [f"{lhs_tex} &{rel} {lines[0]}"] + [rf"&\quad {line}" for line in lines[1:]]
+            if groups and not lhs_tex.strip():
+                groups[-1] += out
+            else:
+                groups.append(out)
+        return groups
 
     def display(self, rows: Sequence[tuple[str, Any]], *, relation: str = "=") -> str:
-        """A displayed group of equations (``align*``), long sides broken."""
+        """A displayed group of equations (``align*``), long sides broken.
+
+        A long group is set as several ``align*`` of at most ``ALIGN_LINES`` lines, cut between
+        rows: TeX builds a whole display in memory before breaking it across pages, and one
+        display of thousands of lines (an appendix of exact coefficients) exhausts its memory.
+        """
         if not rows:
             return ""
-        return "\\begin{align*}\n" + self.equation_rows(rows, relation=relation) + "\n\\end{align*}"
+        chunks: list[list[str]] = [[]]
+        for group in self._row_groups(rows, relation=relation):
+            if chunks[-1] and len(chunks[-1]) + len(group) > ALIGN_LINES:
+                chunks.append([])
+            chunks[-1] += group
+        return "\n".join("\\begin{align*}\n" + " \\\\\n".join(c) + "\n\\end{align*}" for c in chunks)
 
     # -- matrices -----------------------------------------------------------
 
