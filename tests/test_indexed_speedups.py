@@ -85,3 +85,4 @@ def test_structure_text_of_indexed_roots_is_the_whole_tree():
     assert structure_text(sp.ImmutableMatrix([e, R0])) == "[" + _tree_text(e) + "," + _tree_text(R0) + "]"
     # the root's polynomial is in the text: two roots of different polynomials differ
     assert structure_text(R0) != structure_text(S)
+

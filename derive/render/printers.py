@@ -132,13 +132,15 @@ class _RootStandIns:
     def _stand_ins(self, expr: Any) -> dict[sp.Expr, sp.Symbol]:
         # sympy's atoms and has open every root, rebuilding its polynomial each time (seconds on a 6-state sheet)
         # kept per expression: a sheet prints the same sums and symbols many times over
-        memo = self.__dict__.setdefault("_stands", {}) if isinstance(expr, sp.Basic) else {}
-        got = memo.get(expr)
+        # (a mutable matrix is a Basic too, but cannot be a key)
+        keyed = isinstance(expr, sp.Basic) and type(expr).__hash__ is not None
+        memo = self.__dict__.setdefault("_stands", {}) if keyed else {}
+        got = memo.get(expr) if keyed else None
         if got is None:
             names = self._settings["root_names"]
             items = list(expr) if isinstance(expr, sp.MatrixBase) else [expr]
             got = {r: _stand_in(r, names.get(r, 0)) for e in items for r in atoms_of(e, sp.CRootOf)}
-            if isinstance(expr, sp.Basic):
+            if keyed:
                 memo[expr] = got
         return got
 
