@@ -303,3 +303,12 @@ def test_the_simplifier_is_bounded_by_the_policy_and_the_numeric_test_decides():
     assert "simplify stopped at its 0.0001 s budget" in verdict.method
     # a nonzero expression is refused by the numeric test before the simplifier is asked
     assert not decide(e + sp.Rational(1, 10**6), policy=hurried).zero
+
+
+def test_the_reading_numbers_never_read_text():
+    """decided_sign and approx take sympy objects only: a string is refused, never parsed or evaluated."""
+    from derive.reading.evaluation import approx, decided_sign
+
+    for call in (decided_sign, approx):
+        with pytest.raises(sp.SympifyError):
+            call("__import__('os').getcwd()")  # type: ignore[arg-type]
