@@ -487,10 +487,6 @@ def _combination(row: sp.MatrixBase, x0: sp.MatrixBase) -> sp.Expr:
     return sp.expand(sum((a * b for a, b in zip(row, x0)), sp.Integer(0)))
 
 
-
-
-
-
 def _is_placeholder(f: sp.Expr, placeholders: set) -> bool:
     return f in placeholders or (f.is_Pow and f.base in placeholders)
 

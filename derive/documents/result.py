@@ -19,6 +19,7 @@ from typing import Any
 import sympy as sp
 
 from ..model import Solution
+from ..render.printers import condition_text, interval_conditions as printer_conditions
 from ..render.terms import Terms
 from .blocks import Block, Eq, Math, Name, P
 from .coefficients import (NAMES_KEY, Naming, compact, decimal_number, decimal_terms, is_long_in_roots, parameter_values,
@@ -177,24 +178,10 @@ def component_rows(name: Name, exact: Any, dec: Any, ctx: StepContext) -> list[t
 
 def interval_conditions(expr: sp.Piecewise, fmt: Any) -> list[tuple[str, str]]:
     """Each interval's condition of a piecewise value in LaTeX and plain text, as a checker writes it:
-    t < 1, then 1 <= t < 3, then t >= 3 for the last ("otherwise" after a chain of upper bounds)."""
-    out: list[tuple[str, str]] = []
-    last: Any = None
-    for _, cond in expr.args:
-        if isinstance(last, sp.StrictLessThan) and (cond is sp.true or (isinstance(cond, sp.StrictLessThan)
-                                                                         and cond.lhs == last.lhs)):
-            low = sp.GreaterThan(last.lhs, last.rhs, evaluate=False)
-            if cond is sp.true:
-                out.append((fmt.m(low), fmt.plain(low)))
-            else:
-                both = sp.LessThan(last.rhs, cond.lhs, evaluate=False)
-                out.append((f"{fmt.m(both)} < {fmt.m(cond.rhs)}", f"{fmt.plain(both)} < {fmt.plain(cond.rhs)}"))
-        elif cond is sp.true:
-            out.append((r"\text{otherwise}", "otherwise"))
-        else:
-            out.append((fmt.m(cond), fmt.plain(cond)))
-        last = cond
-    return out
+    t < 1, then 1 <= t < 3, then t >= 3 for the last (the printers' one rule, ``printers.interval_conditions``)."""
+    return [(condition_text(low, cond, fmt.m, le=r"\leq", ge=r"\geq", otherwise=r"\text{otherwise}"),
+             condition_text(low, cond, fmt.plain, le="≤", ge="≥", otherwise="otherwise"))
+            for low, cond in printer_conditions(expr)]
 
 
 def _with_decimal(sym: sp.Symbol, value: sp.Expr, ctx: StepContext) -> list[tuple[Name, Any]]:

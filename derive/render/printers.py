@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import functools
 import re
-from typing import Any
+from typing import Any, Callable
 
 import sympy as sp
 from sympy.printing.latex import LatexPrinter
@@ -37,7 +37,7 @@ from .escape import GREEK_LETTERS
 from .measure import visible_width
 from .terms import Terms, terms_text
 
-__all__ = ["shifted_argument", "greek_text", "SheetLatexPrinter", "PlainPrinter", "plain_text"]
+__all__ = ["shifted_argument", "greek_text", "SheetLatexPrinter", "PlainPrinter", "plain_text", "interval_conditions", "condition_text"]
 
 # ---------------------------------------------------------------------------
 # Printers
@@ -197,6 +197,32 @@ def _arg_text(print_: Any, y: sp.Expr, x: sp.Expr, brackets: str) -> str:
     return f"{print_(x)} {'-' if negative else '+'} {imag}"
 
 
+
+def interval_conditions(expr: sp.Piecewise) -> list[tuple[Any, Any]]:
+    """Each piece's (lower bound, condition), as a checker reads a chain of upper bounds.
+
+    The lower bound is the previous piece's ``t < a`` when this piece continues the
+    chain (``t < b`` in the same variable, or the last piece), else None.
+    """
+    out: list[tuple[Any, Any]] = []
+    last: Any = None
+    for _, cond in expr.args:
+        chained = isinstance(last, sp.StrictLessThan) and (
+            cond is sp.true or (isinstance(cond, sp.StrictLessThan) and cond.lhs == last.lhs))
+        out.append((last if chained else None, cond))
+        last = cond
+    return out
+
+
+def condition_text(low: Any, cond: Any, show: Callable[[Any], str], *, le: str, ge: str, otherwise: str) -> str:
+    """One piece's condition from ``interval_conditions``: a <= t < b, t >= a, "otherwise", or as it stands."""
+    if low is not None and cond is sp.true:
+        return f"{show(low.lhs)} {ge} {show(low.rhs)}"
+    if low is not None:
+        return f"{show(low.rhs)} {le} {show(cond.lhs)} < {show(cond.rhs)}"
+    return otherwise if cond is sp.true else show(cond)
+
+
 class SheetLatexPrinter(_RootStandIns, LatexPrinter):
     """sympy's LaTeX printer with the sheet's notation (see the module docstring).
 
@@ -263,19 +289,9 @@ class SheetLatexPrinter(_RootStandIns, LatexPrinter):
 
     def _print_Piecewise(self, expr: sp.Expr) -> str:
         # "otherwise" after a chain of t < b_k reads as the interval t >= b_last
-        pieces = list(expr.args)
-        rows = []
-        last_bound = None
-        for value, cond in pieces:
-            if cond is sp.true and isinstance(last_bound, sp.StrictLessThan):
-                cond_tex = r"%s \ge %s" % (self._print(last_bound.lhs), self._print(last_bound.rhs))
-            elif cond is sp.true:
-                cond_tex = r"\text{otherwise}"
-            else:
-                cond_tex = self._print(cond)
-            if isinstance(cond, sp.StrictLessThan):
-                last_bound = cond
-            rows.append(r"%s & \text{for}\: %s" % (self._print(value), cond_tex))
+        rows = [r"%s & \text{for}\: %s" % (self._print(value), condition_text(
+                    low, cond, self._print, le=r"\le", ge=r"\ge", otherwise=r"\text{otherwise}"))
+                for (value, _), (low, cond) in zip(expr.args, interval_conditions(expr))]
         return r"\begin{cases} %s \end{cases}" % r" \\ ".join(rows)
 
     def _print_ExpBase(self, expr: sp.Expr, exp: str | None = None) -> str:
@@ -371,18 +387,9 @@ class PlainPrinter(_RootStandIns, StrPrinter):
 
     def _print_Piecewise(self, expr: sp.Expr) -> str:
         # one value per interval, as on a hand-written sheet, not sympy's constructor
-        rows = []
-        last: Any = None
-        for value, cond in expr.args:
-            ge, le = self._relation(">="), self._relation("<=")
-            if cond is sp.true:
-                when = "%s %s %s" % (self._print(last.lhs), ge, self._print(last.rhs)) if isinstance(last, sp.StrictLessThan) else "otherwise"
-            elif isinstance(cond, sp.StrictLessThan) and isinstance(last, sp.StrictLessThan) and last.lhs == cond.lhs:
-                when = "%s %s %s < %s" % (self._print(last.rhs), le, self._print(cond.lhs), self._print(cond.rhs))
-            else:
-                when = self._print(cond)
-            last = cond
-            rows.append("%s for %s" % (self._print(value), when))
+        rows = ["%s for %s" % (self._print(value), condition_text(
+                    low, cond, self._print, le=self._relation("<="), ge=self._relation(">="), otherwise="otherwise"))
+                for (value, _), (low, cond) in zip(expr.args, interval_conditions(expr))]
         return "{ %s }" % "; ".join(rows)
 
     def _print_Pow(self, expr: sp.Expr, rational: bool = False) -> str:

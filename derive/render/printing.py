@@ -23,7 +23,7 @@ from .escape import GREEK_LETTERS, tex_escape, tex_paragraphs
 from ..realroots import pair_numbering
 from ..rootring import atoms_of, contains
 from .measure import visible_width
-from .printers import PlainPrinter, SheetLatexPrinter, greek_text, plain_text, shifted_argument
+from .printers import PlainPrinter, SheetLatexPrinter, condition_text, greek_text, interval_conditions, plain_text, shifted_argument
 from .terms import Terms, signed
 
 __all__ = [
@@ -388,19 +388,8 @@ class MathFormatter:
         needs the whole line, and follows it otherwise.
         """
         rows: list[str] = []
-        last_bound: Any = None
-        lower: Any = None
-        for k, (value, cond) in enumerate(expr.args):
-            if cond is sp.true and lower is not None:
-                cond_tex = r"%s \ge %s" % (self.m(lower.lhs), self.m(lower.rhs))
-            elif cond is sp.true:
-                cond_tex = r"\text{otherwise}"
-            elif isinstance(cond, sp.StrictLessThan) and lower is not None:
-                cond_tex = r"%s \le %s < %s" % (self.m(lower.rhs), self.m(cond.lhs), self.m(cond.rhs))
-            else:
-                cond_tex = self.m(cond)
-            if isinstance(cond, sp.StrictLessThan):
-                lower = cond
+        for k, ((value, _), (low, cond)) in enumerate(zip(expr.args, interval_conditions(expr))):
+            cond_tex = condition_text(low, cond, self.m, le=r"\le", ge=r"\ge", otherwise=r"\text{otherwise}")
             head = f"{lhs} &{relation} " if k == 0 else f"&{relation} "
             lines = self.split(value, lead=visible_width(lhs) + 12)
             tail = r"\qquad \text{for } " + cond_tex
